@@ -1,0 +1,167 @@
+"""vigil's command line: thin wrappers that parse options, call the stages and print."""
+
+from __future__ import annotations
+
+import logging
+import sys
+from contextlib import contextmanager
+from importlib import resources
+from pathlib import Path
+from typing import Optional
+
+import typer
+from astropy.time import Time
+from rich.console import Console
+from rich.table import Table
+
+from vigil import catalog
+from vigil.errors import InputError
+from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
+from vigil.export.windows_csv import write_windows_csv
+from vigil.windows import plan_windows
+
+app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
+                       "how uncertain their times are, and what a campaign can collect.",
+                  no_args_is_help=True, add_completion=False)
+err = Console(stderr=True)
+out = Console()
+log = logging.getLogger("vigil")
+
+
+class _Notes(logging.Handler):
+    def emit(self, record):
+        level = "warning" if record.levelno >= logging.WARNING else "note"
+        err.print(f"vigil: {level}: {record.getMessage()}", highlight=False, soft_wrap=True)
+
+
+def _setup_logging() -> None:
+    if not any(isinstance(h, _Notes) for h in log.handlers):
+        log.addHandler(_Notes())
+    log.setLevel(logging.INFO)
+    log.propagate = False
+
+
+@contextmanager
+def _user_errors():
+    """Turn InputError into one line on stderr and exit status 2."""
+    try:
+        yield
+    except InputError as exc:
+        err.print(f"vigil: error: {exc}", highlight=False, soft_wrap=True)
+        raise typer.Exit(2) from None
+
+
+def _parse_date(text: str, option: str) -> Time:
+    try:
+        return Time(text, scale="utc")
+    except ValueError:
+        raise InputError(f"{option}: expected a UTC date such as 2027-01-01 or 2027-01-01T18:00, got {text!r}") from None
+
+
+def _refuse_overwrite(paths, force: bool) -> None:
+    for path in paths:
+        if path is not None and path.exists() and not force:
+            raise InputError(f"{path} exists; pass --force to replace it")
+
+
+def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dict:
+    if not names:
+        return sites
+    unknown = [n for n in names if n not in sites]
+    if unknown:
+        raise InputError(f"{sites_file}: no site named {unknown[0]!r}; sites are {', '.join(sites)}")
+    return {n: sites[n] for n in names}
+
+
+def _print_summary(windows, title: str) -> None:
+    table = Table(title=title, title_justify="left")
+    for column in ("target", "site", "full", "ingress", "egress", "partial", "next full window (UTC)"):
+        table.add_column(column, justify="left" if column in ("target", "site") else "right")
+    if windows.empty:
+        out.print(f"{title}: no observable transits.")
+        return
+    from vigil.export.table import iso_utc
+
+    for (target, site), group in windows.groupby(["target", "site"], sort=True):
+        counts = group["coverage"].value_counts()
+        full = group[group["coverage"] == "full"]
+        first = iso_utc(full["window_start_jd_utc"].to_numpy()[:1])[0][:16].replace("T", " ") if len(full) else "-"
+        table.add_row(target, site, *(str(counts.get(c, 0)) for c in ("full", "ingress", "egress", "partial")), first)
+    out.print(table)
+    out.print(f"[dim]{SAFETY_NOTE}[/dim]")
+
+
+def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
+                 include_all: bool, csv_path: Path | None, ics_path: Path | None):
+    targets = catalog.read_targets(targets_file)
+    sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
+    windows = plan_windows(targets, sites, overrides, _parse_date(start, "--start"), _parse_date(end, "--end"),
+                           include_unobservable=include_all)
+    if csv_path is not None:
+        write_windows_csv(windows, csv_path)
+    if ics_path is not None:
+        write_windows_ics(windows, ics_path)
+    return windows
+
+
+@app.command()
+def windows(
+    targets_file: Path = typer.Argument(..., help="Targets CSV: name, ra_deg, dec_deg (or ra/dec sexagesimal), "
+                                        "t0_bjd_tdb, t0_err_d, period_d, period_err_d, duration_h."),
+    sites_file: Path = typer.Option(..., "--sites", help="Sites TOML with [sites.NAME] tables."),
+    site: Optional[list[str]] = typer.Option(None, "--site", help="Site name to use (repeatable); default every site in the file."),
+    start: str = typer.Option(..., "--start", help="First date, UTC (e.g. 2027-01-01)."),
+    end: str = typer.Option(..., "--end", help="Last date, UTC (e.g. 2028-01-01)."),
+    csv_path: Optional[Path] = typer.Option(None, "--csv", help="Write the windows table here (CSV, times in UTC)."),
+    ics_path: Optional[Path] = typer.Option(None, "--ics", help="Write the windows as an iCalendar file here."),
+    min_altitude: Optional[float] = typer.Option(None, "--min-altitude", help="Lowest target altitude, degrees [default 30]."),
+    twilight: Optional[str] = typer.Option(None, "--twilight", help="Darkness needed: civil, nautical or astronomical "
+                                           "(Sun's centre below -6, -12 or -18 degrees) [default astronomical]."),
+    baseline: Optional[float] = typer.Option(None, "--baseline", help="Out-of-transit time wanted before ingress and after egress, hours [default 1]."),
+    sigma: Optional[float] = typer.Option(None, "--sigma", help="Pad each side by K times the 1-sigma mid-time uncertainty; 0 disables [default 1]."),
+    moon_sep: Optional[float] = typer.Option(None, "--moon-sep", help="Least Moon-target separation, degrees; 0 disables [default 0]."),
+    include_all: bool = typer.Option(False, "--all", help="List unobservable transits too (coverage 'none')."),
+    force: bool = typer.Option(False, "--force", help="Replace existing --csv/--ics files (otherwise vigil refuses)."),
+):
+    """List the transits observable from your sites, with their windows, coverage and conditions.
+
+    Site defaults in the TOML apply where an option is not given. Times are UTC; mid-times
+    also in BJD_TDB. Longitudes in the sites file are east positive.
+    """
+    _setup_logging()
+    overrides = {"min_altitude_deg": min_altitude, "twilight": twilight, "baseline_h": baseline,
+                 "sigma_k": sigma, "moon_sep_deg": moon_sep}
+    with _user_errors():
+        _refuse_overwrite((csv_path, ics_path), force)
+        result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path)
+    _print_summary(result, f"Transit windows {start} to {end}")
+    for path in (csv_path, ics_path):
+        if path is not None:
+            out.print(f"wrote {path}")
+
+
+def demo_file(name: str) -> Path:
+    """Path of a file of the embedded demo scenario."""
+    return Path(str(resources.files("vigil") / "data" / "demo" / name))
+
+
+@app.command()
+def demo(
+    out_dir: Path = typer.Option(Path("vigil-demo"), "--out", help="Folder for the demo's outputs (vigil's own; files in it are replaced)."),
+):
+    """Run vigil on its embedded invented scenario (three sites, eight targets, 2027) and write the outputs."""
+    _setup_logging()
+    with _user_errors():
+        out_dir.mkdir(parents=True, exist_ok=True)
+        result = _run_windows(demo_file("targets.csv"), demo_file("sites.toml"), None, "2027-01-01", "2028-01-01", {},
+                              False, out_dir / "windows.csv", out_dir / "windows.ics")
+    _print_summary(result, "Demo: transit windows in 2027")
+    out.print(f"wrote {out_dir / 'windows.csv'} and {out_dir / 'windows.ics'} ({len(result)} windows)")
+
+
+def main() -> None:  # pragma: no cover - console entry point
+    app()
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(app())

@@ -1,0 +1,1 @@
+"""Writers for vigil's outputs: CSV, iCalendar, plots; all written atomically."""

@@ -1,0 +1,79 @@
+"""The windows table as an RFC 5545 iCalendar, written with the `icalendar` library.
+
+Each listed window is one VEVENT from window start to window end (UTC). The UID is derived
+from target, site and epoch, so importing a newer calendar updates events instead of
+duplicating them. DTSTAMP is the moment of the run, or the instant given by the
+SOURCE_DATE_EPOCH environment variable (the reproducible-builds convention) when set.
+"""
+
+from __future__ import annotations
+
+import os
+import uuid
+from datetime import datetime, timezone
+
+import icalendar
+import pandas as pd
+from astropy.time import Time
+
+from vigil.export.files import write_atomic
+
+_UID_NAMESPACE = uuid.UUID("5f1c2b9e-3d4a-4e8f-9b6c-7a1d2e3f4b5c")
+SAFETY_NOTE = ("Plan only within the observatory's own rules for night work and Sun avoidance; "
+               "times are predictions, not a substitute for them.")
+
+
+def event_uid(target: str, site: str, epoch: int) -> str:
+    """Stable identifier of one transit at one site."""
+    return f"{uuid.uuid5(_UID_NAMESPACE, f'{target}|{site}|{int(epoch)}')}@vigil"
+
+
+def run_stamp() -> datetime:
+    """DTSTAMP for this run: SOURCE_DATE_EPOCH when set, else now (UTC)."""
+    fixed = os.environ.get("SOURCE_DATE_EPOCH")
+    if fixed and fixed.strip().isdigit():
+        return datetime.fromtimestamp(int(fixed), tz=timezone.utc)
+    return datetime.now(timezone.utc).replace(microsecond=0)
+
+
+def _utc(jd_utc: float) -> datetime:
+    return Time(jd_utc, format="jd", scale="utc", precision=0).to_datetime(timezone=timezone.utc).replace(microsecond=0)
+
+
+def _describe(w) -> str:
+    mid = Time(w.mid_jd_utc, format="jd", scale="utc", precision=0).isot
+    lines = [
+        f"Mid-transit {mid}Z ± {w.mid_sigma_d * 1440:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
+        f"Ingress {Time(w.ingress_jd_utc, format='jd', precision=0).isot}Z, egress {Time(w.egress_jd_utc, format='jd', precision=0).isot}Z",
+        f"Coverage {w.coverage}, {100 * w.observable_fraction:.0f}% of the transit observable",
+        f"At mid: altitude {w.alt_mid_deg:.1f}°, airmass {w.airmass_mid:.2f}, Moon {w.moon_sep_deg:.0f}° away",
+        SAFETY_NOTE,
+    ]
+    return "\n".join(lines)
+
+
+def windows_calendar(windows: pd.DataFrame) -> icalendar.Calendar:
+    """One VEVENT per window row."""
+    calendar = icalendar.Calendar()
+    calendar.add("prodid", "-//vigil//transit windows//EN")
+    calendar.add("version", "2.0")
+    calendar.add("calscale", "GREGORIAN")
+    stamp = run_stamp()
+    for w in windows.itertuples(index=False):
+        event = icalendar.Event()
+        event.add("uid", event_uid(w.target, w.site, w.epoch))
+        event.add("dtstamp", stamp)
+        event.add("dtstart", _utc(w.window_start_jd_utc))
+        event.add("dtend", _utc(w.window_end_jd_utc))
+        event.add("summary", f"{w.target} transit, {w.coverage} ({w.site})")
+        event.add("location", str(w.site))
+        event.add("description", _describe(w))
+        event.add("categories", ["transit", str(w.coverage)])
+        event.add("transp", "TRANSPARENT")
+        calendar.add_component(event)
+    return calendar
+
+
+def write_windows_ics(windows: pd.DataFrame, path) -> None:
+    """Write the windows calendar atomically (CRLF line ends, folded lines, escaped text)."""
+    write_atomic(path, windows_calendar(windows).to_ical())

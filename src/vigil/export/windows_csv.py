@@ -1,0 +1,39 @@
+"""The windows table as the observer's CSV: one row per transit per site."""
+
+from __future__ import annotations
+
+import pandas as pd
+
+from vigil.export.table import iso_utc, write_csv
+
+MINUTES_PER_DAY = 1440.0
+TIME_COLUMNS = {
+    "mid_utc": "mid_jd_utc",
+    "ingress_utc": "ingress_jd_utc",
+    "egress_utc": "egress_jd_utc",
+    "window_start_utc": "window_start_jd_utc",
+    "window_end_utc": "window_end_jd_utc",
+    "observable_start_utc": "observable_start_jd_utc",
+    "observable_end_utc": "observable_end_jd_utc",
+}
+COLUMNS = ["target", "site", "epoch", "mid_bjd_tdb", "mid_utc", "mid_sigma_min", "ingress_utc", "egress_utc",
+           "window_start_utc", "window_end_utc", "coverage", "observable_fraction", "observable_start_utc",
+           "observable_end_utc", "alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg"]
+DECIMALS = {"mid_bjd_tdb": 6, "mid_sigma_min": 2, "observable_fraction": 4, "alt_mid_deg": 2,
+            "airmass_mid": 3, "sun_alt_mid_deg": 2, "moon_sep_deg": 2}
+
+
+def windows_for_export(windows: pd.DataFrame) -> pd.DataFrame:
+    """The export columns: ISO UTC times, sigma in minutes, rounded numbers."""
+    out = pd.DataFrame({c: windows[c] for c in ("target", "site", "epoch", "mid_bjd_tdb", "coverage",
+                                                 "observable_fraction", "alt_mid_deg", "airmass_mid",
+                                                 "sun_alt_mid_deg", "moon_sep_deg")})
+    out["mid_sigma_min"] = windows["mid_sigma_d"] * MINUTES_PER_DAY
+    for name, source in TIME_COLUMNS.items():
+        out[name] = iso_utc(windows[source].to_numpy())
+    return out[COLUMNS].round(DECIMALS)
+
+
+def write_windows_csv(windows: pd.DataFrame, path) -> None:
+    """Write the windows CSV atomically."""
+    write_csv(windows_for_export(windows), path, text_columns=("target", "site"))

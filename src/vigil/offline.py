@@ -1,0 +1,31 @@
+"""Keep astropy offline: bundled Earth-orientation data only, predictions beyond it accepted.
+
+vigil plans observations years and decades ahead, far beyond the Earth-orientation
+predictions bundled with astropy (about one year). Beyond that range astropy extrapolates
+UT1-UTC and polar motion; the resulting error (at most a few seconds in UT1, arcseconds in
+pointing) is far below what transit planning needs. We accept that, log one note, and never
+let astropy reach for the network.
+"""
+
+import logging
+import warnings
+
+from astropy.utils import iers
+from astropy.utils.data import conf as data_conf
+
+log = logging.getLogger("vigil")
+
+
+def configure_offline() -> None:
+    """Configure astropy so that it never downloads and tolerates far-future dates."""
+    data_conf.allow_internet = False
+    iers.conf.auto_download = False
+    iers.conf.auto_max_age = None
+    iers.conf.iers_degraded_accuracy = "warn"
+    # The bundled leap-second table carries an expiry date; past it astropy would try to
+    # refresh. Leap seconds announced after the bundle are unknowable offline anyway.
+    warnings.filterwarnings("ignore", message=".*leap-second.*", module="astropy")
+    warnings.filterwarnings("ignore", category=iers.IERSStaleWarning)
+    warnings.filterwarnings("ignore", message=".*Tried to get polar motions.*")
+    warnings.filterwarnings("ignore", category=iers.IERSDegradedAccuracyWarning)
+    warnings.filterwarnings("ignore", message=".*dubious year.*")

@@ -1,0 +1,73 @@
+"""Reference visibility engine: astropy positions sampled across every whole window.
+
+Each padded window is sampled every `STEP_MIN` minutes (both ends included); the edges of the
+observable stretches are placed by linear interpolation of the constraint margins between
+samples. Altitude changes by at most 0.25 deg per minute, so the interpolation error on an
+edge is a few seconds; a constraint that holds for less than one step is missed.
+Astrometric parameters are interpolated over 5 minutes (astropy's ErfaAstromInterpolator),
+which astropy documents as sub-milliarcsecond.
+"""
+
+from __future__ import annotations
+
+import astropy.units as u
+import numpy as np
+import pandas as pd
+from astropy.coordinates import erfa_astrom
+from astropy.time import Time
+
+from vigil import intervals, sky
+from vigil.catalog import Site
+from vigil.timescales import earth_location
+from vigil.visibility import Constraints
+
+STEP_MIN = 5.0
+
+
+def sample_windows(windows: pd.DataFrame, step_min: float = STEP_MIN):
+    """Flat sample grid (row, jd_utc) covering each row's padded window."""
+    lo, hi = windows["window_start_jd_utc"].to_numpy(), windows["window_end_jd_utc"].to_numpy()
+    counts = np.ceil((hi - lo) / (step_min / 1440.0)).astype(int) + 1
+    row = np.repeat(np.arange(len(windows)), counts)
+    first = np.repeat(np.cumsum(counts) - counts, counts)
+    fraction = (np.arange(row.size) - first) / np.repeat(counts - 1, counts)
+    return row, lo[row] + fraction * (hi - lo)[row]
+
+
+def constraint_margin_deg(windows: pd.DataFrame, row, jd_utc, site: Site, constraints: Constraints) -> np.ndarray:
+    """Smallest margin (degrees) by which each sample meets the constraints; >= 0 is observable."""
+    location = earth_location(site.latitude_deg, site.longitude_deg, site.elevation_m)
+    times = Time(jd_utc, format="jd", scale="utc")
+    ra, dec = windows["ra_deg"].to_numpy()[row], windows["dec_deg"].to_numpy()[row]
+    margin = constraints.sun_altitude_deg - sky.sun_altitude_deg(times, location)
+    alt, _ = sky.target_altaz_deg(ra, dec, times, location, site.air_pressure_hpa, site.temperature_c)
+    margin = np.minimum(margin, alt - constraints.min_altitude_deg)
+    if constraints.moon_sep_deg > 0:
+        margin = np.minimum(margin, sky.moon_separation_deg(ra, dec, times, location) - constraints.moon_sep_deg)
+    return margin
+
+
+def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constraints):
+    """Flat interval set (row, start, end), JD UTC, of observable time inside each window."""
+    if windows.empty:
+        empty = np.array([], dtype=float)
+        return np.array([], dtype=int), empty, empty
+    row, jd = sample_windows(windows)
+    with erfa_astrom.erfa_astrom.set(erfa_astrom.ErfaAstromInterpolator(300 * u.s)):
+        margin = constraint_margin_deg(windows, row, jd, site, constraints)
+    return intervals.from_samples(row, jd, margin)
+
+
+def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
+    """Target altitude (apparent) and airmass, Sun altitude and Moon separation at mid-transit."""
+    location = earth_location(site.latitude_deg, site.longitude_deg, site.elevation_m)
+    times = Time(windows["mid_jd_utc"].to_numpy(), format="jd", scale="utc")
+    ra, dec = windows["ra_deg"].to_numpy(), windows["dec_deg"].to_numpy()
+    apparent, _ = sky.target_altaz_deg(ra, dec, times, location, site.air_pressure_hpa, site.temperature_c)
+    geometric, _ = sky.target_altaz_deg(ra, dec, times, location)
+    return pd.DataFrame({
+        "alt_mid_deg": apparent,
+        "airmass_mid": sky.airmass_kasten_young(geometric),
+        "sun_alt_mid_deg": sky.sun_altitude_deg(times, location),
+        "moon_sep_deg": sky.moon_separation_deg(ra, dec, times, location),
+    }, index=windows.index)

@@ -1,0 +1,57 @@
+"""The windows stage: targets and sites in, one row per transit per site out.
+
+ephemeris (BJD_TDB) -> timescales (UTC at the site) -> padding -> visibility engine ->
+coverage classes and conditions at mid-transit.
+"""
+
+from __future__ import annotations
+
+import pandas as pd
+from astropy.time import Time
+
+from vigil import ephemeris, reference_path, visibility
+from vigil.catalog import Site
+from vigil.errors import InputError
+from vigil.timescales import bjd_tdb_to_site_time, earth_location
+
+# Light from a target reaches the Earth up to 8.3 min before or after the barycentre;
+# transits are projected with this margin, then kept by their mid-time at the site.
+_LIGHT_TIME_MARGIN_D = 0.01
+ENGINES = {"reference": reference_path}
+
+
+def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time) -> pd.DataFrame:
+    """Add the site's name and the mid-time seen there (JD UTC); keep mids inside [start, end]."""
+    location = earth_location(site.latitude_deg, site.longitude_deg, site.elevation_m)
+    seen = bjd_tdb_to_site_time(transits["mid_bjd_tdb"].to_numpy(), transits["ra_deg"].to_numpy(),
+                                transits["dec_deg"].to_numpy(), location)
+    out = transits.assign(site=site.name, mid_jd_utc=seen.utc.jd)
+    inside = (out["mid_jd_utc"] >= start.utc.jd) & (out["mid_jd_utc"] <= end.utc.jd)
+    return out[inside].reset_index(drop=True)
+
+
+def site_windows(transits: pd.DataFrame, site: Site, constraints: visibility.Constraints,
+                 start: Time, end: Time, engine: str = "reference") -> pd.DataFrame:
+    """Windows table for one site: padded windows, coverage, conditions at mid."""
+    engine_module = ENGINES[engine]
+    padded = visibility.pad_windows(at_site(transits, site, start, end), constraints)
+    observable = engine_module.observable_intervals(padded, site, constraints)
+    classified = visibility.classify(padded, observable, constraints.sigma_k)
+    return pd.concat([classified, engine_module.conditions_at_mid(padded, site)], axis=1)
+
+
+def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,
+                 engine: str = "reference", include_unobservable: bool = False) -> pd.DataFrame:
+    """All transit windows of all targets at all sites in [start, end], sorted by time then target."""
+    if not end > start:
+        raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
+    transits = ephemeris.project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D, end.tdb.jd + _LIGHT_TIME_MARGIN_D)
+    tables = [site_windows(transits, site, visibility.resolve_constraints(site.defaults, overrides), start, end, engine)
+              for site in sites.values() if not transits.empty]
+    tables = [t for t in tables if not t.empty]
+    if not tables:
+        return pd.DataFrame(columns=["target", "site", "epoch", "mid_jd_utc", "coverage"])
+    table = pd.concat(tables, ignore_index=True)
+    if not include_unobservable:
+        table = table[table["coverage"] != "none"]
+    return table.sort_values(["mid_jd_utc", "target", "site"], kind="stable").reset_index(drop=True)
