@@ -19,6 +19,10 @@ from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.windows_csv import write_windows_csv
 from vigil.windows import plan_windows
+from vigil import pipeline
+from vigil.campaign_spec import read_campaign
+from vigil.export.campaign_csv import write_campaign_csvs
+from vigil.export.plots import hours_plot, resolution_plot
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
                        "how uncertain their times are, and what a campaign can collect.",
@@ -157,6 +161,85 @@ def demo(
                               False, out_dir / "windows.csv", out_dir / "windows.ics")
     _print_summary(result, "Demo: transit windows in 2027")
     out.print(f"wrote {out_dir / 'windows.csv'} and {out_dir / 'windows.ics'} ({len(result)} windows)")
+
+
+CAMPAIGN_FILES = ("summary.csv", "forecast.csv", "ledger.csv", "resolution.png", "hours.png")
+
+
+def _years(value: float) -> str:
+    return f"{value:.1f}" if value != float("inf") else "never"
+
+
+def _print_campaign(result: pipeline.CampaignResult, spec) -> None:
+    table = Table(title=f"Campaign {spec.start.utc.iso[:10]} + {spec.horizon_years:g} yr: goal R = "
+                        f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
+                  title_justify="left")
+    for column in ("target", "transits/yr", "in-transit h/yr", "years to goal (p10 / p50 / p90)", "verdict"):
+        table.add_column(column, justify="left" if column in ("target", "verdict") else "right")
+    for row in result.summary.itertuples(index=False):
+        verdict = "[green]reachable[/green]" if row.reachable else f"[red]not reached[/red]: {row.limited_by}"
+        table.add_row(row.target, f"{row.transits_per_year:.1f}", f"{row.in_transit_hours_per_year:.1f}",
+                      " / ".join(_years(v) for v in (row.years_to_goal_p10, row.years_to_goal_p50, row.years_to_goal_p90)),
+                      verdict)
+    out.print(table)
+
+
+def _verdict(row, spec) -> str:
+    if row.reachable:
+        return (f"{row.target}: worth pursuing: R = {spec.goal_resolution:g} at SNR {spec.goal_snr:g} is reached after "
+                f"{_years(row.years_to_goal_p50)} years (median; 10-90 % of trials: {_years(row.years_to_goal_p10)}"
+                f" to {_years(row.years_to_goal_p90)}), collecting {row.in_transit_hours_per_year:.1f} in-transit h/yr.")
+    why = {"noise floor": f"the noise floor caps the SNR per bin at {row.snr_cap:.2f}",
+           "weather": "enough windows are scheduled, but weather loses too many in most trials",
+           "allocation": "the allocation caps and clashes with other targets leave too few visits",
+           "ephemeris too stale": "the growing timing uncertainty widens the windows until they no longer fit a night",
+           "too few windows": f"its observable windows give {row.in_transit_hours_per_year:.1f} in-transit h/yr, "
+                              f"against {row.hours_needed:.0f} h needed"}[row.limited_by]
+    return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
+
+
+def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path):
+    from rich.progress import Progress
+
+    spec = read_campaign(campaign_file)
+    targets = catalog.read_targets(spec.targets_file)
+    if target is not None:
+        if target not in set(targets["name"]):
+            raise InputError(f"{spec.targets_file}: no target named {target!r}")
+        targets = targets[targets["name"] == target].reset_index(drop=True)
+    sites = catalog.read_sites(spec.sites_file)
+    with Progress(console=err, transient=True) as progress:
+        task = progress.add_task("weather trials", total=spec.trials)
+        result = pipeline.run_campaign(spec, targets, sites, on_progress=lambda n: progress.advance(task, n))
+    paths = write_campaign_csvs(result, out_dir)
+    resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.ymdhms["year"] + spec.horizon_years,
+                    out_dir / "resolution.png")
+    hours_plot(result.yearly, out_dir / "hours.png")
+    return spec, result, [*paths, out_dir / "resolution.png", out_dir / "hours.png"]
+
+
+@app.command("campaign")
+def campaign_command(
+    campaign_file: Path = typer.Argument(..., help="Campaign TOML: start, horizon (years), targets and sites files, "
+                                         "weather, allocation, instrument, spectral goal, trials, seed."),
+    target: Optional[str] = typer.Option(None, "--target", help="Answer for this one target only."),
+    out_dir: Path = typer.Option(Path("vigil-campaign"), "--out", help="Output folder for CSVs and PNG plots."),
+    force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
+):
+    """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
+
+    Writes summary.csv, forecast.csv (per target and campaign year), ledger.csv (visits of one
+    simulated campaign with their weather), resolution.png and hours.png.
+    """
+    _setup_logging()
+    with _user_errors():
+        _refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir)
+    if target is not None:
+        out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
+    else:
+        _print_campaign(result, spec)
+    out.print(f"wrote {', '.join(str(p) for p in paths)}")
 
 
 def main() -> None:  # pragma: no cover - console entry point

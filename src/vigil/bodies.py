@@ -1,0 +1,58 @@
+"""Planet and star of each target, from the optional physical columns of the targets table.
+
+Columns (units in the names): planet_radius_earth; planet_mass_earth or surface_gravity_m_s2;
+teq_k, or a_over_rstar with star_teff_k; optional mu (default by planet size, see
+spectrum.mean_molecular_weight), n_scale_heights; star_radius_sun, star_teff_k; brightness as
+magnitude with mag_band (V, J, H or Ks) or distance_pc; optional priority (higher first).
+"""
+
+from __future__ import annotations
+
+import math
+
+import pandas as pd
+
+from vigil import spectrum
+from vigil.errors import InputError
+
+REQUIRED = ("planet_radius_earth", "star_radius_sun", "star_teff_k")
+
+
+def _optional(row: pd.Series, column: str, where: str):
+    text = str(row.get(column, "")).strip()
+    if text in ("", "nan"):
+        return None
+    try:
+        value = float(text)
+    except ValueError:
+        value = math.nan
+    if not math.isfinite(value):
+        raise InputError(f"{where}, field {column}: expected a number, got {text!r}")
+    return value
+
+
+def target_bodies(row: pd.Series, where: str) -> tuple[spectrum.Planet, spectrum.Star]:
+    """Planet and Star for one targets row; `where` names the file and line for errors."""
+    values = {c: _optional(row, c, where) for c in (*REQUIRED, "planet_mass_earth", "surface_gravity_m_s2", "teq_k",
+                                                   "a_over_rstar", "mu", "n_scale_heights", "magnitude", "distance_pc")}
+    missing = [c for c in REQUIRED if values[c] is None]
+    if missing:
+        raise InputError(f"{where}: target {row['name']!r} needs {', '.join(missing)} for a spectrum forecast")
+    band = str(row.get("mag_band", "")).strip() or None
+    try:
+        planet = spectrum.Planet(
+            radius_earth=values["planet_radius_earth"], mass_earth=values["planet_mass_earth"],
+            surface_gravity_m_s2=values["surface_gravity_m_s2"], teq_k=values["teq_k"],
+            a_over_rstar=values["a_over_rstar"], mu=values["mu"],
+            **({"n_scale_heights": values["n_scale_heights"]} if values["n_scale_heights"] is not None else {}))
+        star = spectrum.Star(radius_sun=values["star_radius_sun"], teff_k=values["star_teff_k"],
+                             magnitude=values["magnitude"], band=band, distance_pc=values["distance_pc"])
+    except InputError as exc:
+        raise InputError(f"{where}: target {row['name']!r}: {exc}") from None
+    return planet, star
+
+
+def priority_of(row: pd.Series, where: str) -> float:
+    """User priority (higher is scheduled first); 0 when absent."""
+    value = _optional(row, "priority", where)
+    return 0.0 if value is None else value

@@ -1,0 +1,52 @@
+"""PNG plots of a campaign forecast (matplotlib, Agg canvas: no display needed)."""
+
+from __future__ import annotations
+
+import io
+
+import pandas as pd
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.figure import Figure
+
+from vigil.export.files import write_atomic
+
+
+def _save(figure: Figure, path) -> None:
+    FigureCanvasAgg(figure)
+    buffer = io.BytesIO()
+    figure.savefig(buffer, format="png", dpi=110, metadata={"Software": None})
+    write_atomic(path, buffer.getvalue())
+
+
+def resolution_plot(yearly: pd.DataFrame, goal_resolution: float, horizon_end_year: float, path) -> None:
+    """Achievable resolution at the goal SNR against calendar year, median with 10-90 % band."""
+    figure = Figure(figsize=(8, 5))
+    axes = figure.add_subplot()
+    for target, table in yearly.groupby("target", sort=False):
+        line, = axes.plot(table["calendar_year"], table["resolution_at_goal_snr_p50"], label=target)
+        axes.fill_between(table["calendar_year"], table["resolution_at_goal_snr_p10"],
+                          table["resolution_at_goal_snr_p90"], color=line.get_color(), alpha=0.15, linewidth=0)
+    axes.axhline(goal_resolution, color="black", linestyle="--", linewidth=1, label=f"goal R = {goal_resolution:g}")
+    axes.axvline(horizon_end_year, color="grey", linestyle=":", linewidth=1, label="horizon")
+    axes.set_yscale("symlog", linthresh=1.0)
+    axes.set_xlabel("calendar year (end of campaign year)")
+    axes.set_ylabel("achievable resolution λ/Δλ at the goal SNR")
+    axes.set_title("Stacked transmission spectrum: resolution reached (median, 10–90 % of trials)")
+    axes.legend(fontsize=7, ncol=2)
+    axes.grid(alpha=0.3)
+    _save(figure, path)
+
+
+def hours_plot(yearly: pd.DataFrame, path) -> None:
+    """In-transit hours collected in each campaign year (median over trials), one line per target."""
+    figure = Figure(figsize=(8, 5))
+    axes = figure.add_subplot()
+    for target, table in yearly.groupby("target", sort=False):
+        per_year = table["in_transit_hours_p50"].diff().fillna(table["in_transit_hours_p50"])
+        axes.step(table["calendar_year"], per_year, where="mid", label=target)
+    axes.set_xlabel("calendar year")
+    axes.set_ylabel("in-transit hours stacked that year (median)")
+    axes.set_title("In-transit hours per year")
+    axes.legend(fontsize=7, ncol=2)
+    axes.grid(alpha=0.3)
+    _save(figure, path)

@@ -1,0 +1,96 @@
+"""The campaign flow: windows once over the horizon, a schedule, weather trials, a forecast."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable
+
+import numpy as np
+import pandas as pd
+
+from vigil import bodies, campaign, forecast
+from vigil.campaign_spec import CampaignSpec
+from vigil.catalog import Site
+from vigil.errors import InputError
+from vigil.windows import plan_windows
+
+TRIAL_CHUNK = 50
+
+
+@dataclass
+class CampaignResult:
+    """Outputs of one campaign simulation."""
+
+    summary: pd.DataFrame
+    yearly: pd.DataFrame
+    ledger: pd.DataFrame
+    years_to_goal: dict  # target -> per-trial years (inf if never)
+
+
+def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
+    found, priority = {}, {}
+    for line, row in enumerate(targets.to_dict("records"), start=2):
+        where = f"{spec.targets_file}: line {line}"
+        planet, star = bodies.target_bodies(pd.Series(row), where)
+        found[row["name"]] = forecast.Body(planet, star)
+        priority[row["name"]] = bodies.priority_of(pd.Series(row), where)
+    return found, priority
+
+
+def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str) -> pd.DataFrame:
+    windows = plan_windows(targets, sites, constraints, spec.start, spec.end, engine=engine)
+    return campaign.visits_from_windows(windows, spec, {n: s.longitude_deg for n, s in sites.items()})
+
+
+def _trials(scheduled: pd.DataFrame, spec: CampaignSpec, on_progress: Callable[[int], None] | None) -> np.ndarray:
+    rng = np.random.default_rng(spec.seed)
+    chunks = []
+    for first in range(0, spec.trials, TRIAL_CHUNK):
+        count = min(TRIAL_CHUNK, spec.trials - first)
+        chunks.append(campaign.clear_weather(scheduled, spec, count, rng))
+        if on_progress:
+            on_progress(count)
+    return np.concatenate(chunks, axis=0)
+
+
+def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Site], engine: str = "reference",
+                 on_progress: Callable[[int], None] | None = None) -> CampaignResult:
+    """Simulate the campaign: summary per target, yearly forecast, ledger of trial 0."""
+    missing = [s for s in spec.site_names if s not in sites]
+    if missing:
+        raise InputError(f"{spec.sites_file}: campaign site {missing[0]!r} not found; sites are {', '.join(sites)}")
+    sites = {n: sites[n] for n in spec.site_names}
+    found, priority = _bodies(targets, spec)
+    candidates = _candidates(targets, sites, spec, spec.constraints, engine)
+    gain = {name: forecast.snr2_per_hour(body, spec) for name, body in found.items()}
+    scheduled = campaign.schedule(candidates, gain, priority, spec)
+    clear = _trials(scheduled, spec, on_progress)
+    rows, yearly, years = [], [], {}
+    for name, body in found.items():
+        row, table, years[name] = forecast.target_summary(name, body, spec, scheduled, clear)
+        row["limited_by"] = _limit(row, body, spec, scheduled, candidates, targets, sites, engine)
+        rows.append(row)
+        yearly.append(table)
+    return CampaignResult(pd.DataFrame(rows), pd.concat(yearly, ignore_index=True), _ledger(scheduled, clear), years)
+
+
+def _limit(row, body, spec, scheduled, candidates, targets, sites, engine) -> str:
+    name = row["target"]
+    mine = candidates[candidates["target"] == name]
+    ratio = float(mine["baseline_h"].sum() / mine["in_transit_h"].sum()) if len(mine) else 1.0
+
+    def without_padding() -> float:
+        unpadded = _candidates(targets[targets["name"] == name], sites, spec, {**spec.constraints, "sigma_k": 0.0}, engine)
+        return forecast.expected_in_transit_h(unpadded, spec, name)
+
+    return forecast.limiting_factor(row, body, spec, forecast.expected_in_transit_h(scheduled, spec, name),
+                                    forecast.expected_in_transit_h(candidates, spec, name), without_padding, ratio)
+
+
+def _ledger(scheduled: pd.DataFrame, clear: np.ndarray) -> pd.DataFrame:
+    columns = ["target", "site", "epoch", "coverage", "mid_jd_utc", "start_jd_utc", "end_jd_utc",
+               "in_transit_h", "baseline_h", "telescope_h"]
+    ledger = scheduled[columns].copy()
+    ledger["weather"] = np.where(clear[0], "clear", "lost") if clear.size else []
+    ledger["clear_share"] = clear.mean(axis=0) if clear.size else []
+    return ledger
