@@ -18,20 +18,24 @@ from astropy.time import Time
 
 from vigil import intervals, sky
 from vigil.catalog import Site
-from vigil.timescales import earth_location
+from vigil.timescales import bjd_tdb_to_site_time, earth_location
 from vigil.visibility import Constraints
 
 STEP_MIN = 5.0
 
 
+def site_mid_jd_utc(transits: pd.DataFrame, site: Site) -> np.ndarray:
+    """Mid-transit as seen at the site, JD UTC, from BJD_TDB (astropy light travel time)."""
+    location = earth_location(site.latitude_deg, site.longitude_deg, site.elevation_m)
+    seen = bjd_tdb_to_site_time(transits["mid_bjd_tdb"].to_numpy(), transits["ra_deg"].to_numpy(),
+                                transits["dec_deg"].to_numpy(), location)
+    return seen.utc.jd
+
+
 def sample_windows(windows: pd.DataFrame, step_min: float = STEP_MIN):
     """Flat sample grid (row, jd_utc) covering each row's padded window."""
     lo, hi = windows["window_start_jd_utc"].to_numpy(), windows["window_end_jd_utc"].to_numpy()
-    counts = np.ceil((hi - lo) / (step_min / 1440.0)).astype(int) + 1
-    row = np.repeat(np.arange(len(windows)), counts)
-    first = np.repeat(np.cumsum(counts) - counts, counts)
-    fraction = (np.arange(row.size) - first) / np.repeat(counts - 1, counts)
-    return row, lo[row] + fraction * (hi - lo)[row]
+    return intervals.sample_grid(lo, hi, step_min / 1440.0)
 
 
 def constraint_margin_deg(windows: pd.DataFrame, row, jd_utc, site: Site, constraints: Constraints) -> np.ndarray:

@@ -9,23 +9,19 @@ from __future__ import annotations
 import pandas as pd
 from astropy.time import Time
 
-from vigil import ephemeris, reference_path, visibility
+from vigil import ephemeris, fast_path, reference_path, schema, visibility
 from vigil.catalog import Site
 from vigil.errors import InputError
-from vigil.timescales import bjd_tdb_to_site_time, earth_location
 
 # Light from a target reaches the Earth up to 8.3 min before or after the barycentre;
 # transits are projected with this margin, then kept by their mid-time at the site.
 _LIGHT_TIME_MARGIN_D = 0.01
-ENGINES = {"reference": reference_path}
+ENGINES = {"reference": reference_path, "fast": fast_path}
 
 
-def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time) -> pd.DataFrame:
+def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time, engine=reference_path) -> pd.DataFrame:
     """Add the site's name and the mid-time seen there (JD UTC); keep mids inside [start, end]."""
-    location = earth_location(site.latitude_deg, site.longitude_deg, site.elevation_m)
-    seen = bjd_tdb_to_site_time(transits["mid_bjd_tdb"].to_numpy(), transits["ra_deg"].to_numpy(),
-                                transits["dec_deg"].to_numpy(), location)
-    out = transits.assign(site=site.name, mid_jd_utc=seen.utc.jd)
+    out = transits.assign(site=site.name, mid_jd_utc=engine.site_mid_jd_utc(transits, site))
     inside = (out["mid_jd_utc"] >= start.utc.jd) & (out["mid_jd_utc"] <= end.utc.jd)
     return out[inside].reset_index(drop=True)
 
@@ -34,7 +30,7 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: visibility.Con
                  start: Time, end: Time, engine: str = "reference") -> pd.DataFrame:
     """Windows table for one site: padded windows, coverage, conditions at mid."""
     engine_module = ENGINES[engine]
-    padded = visibility.pad_windows(at_site(transits, site, start, end), constraints)
+    padded = visibility.pad_windows(at_site(transits, site, start, end, engine_module), constraints)
     observable = engine_module.observable_intervals(padded, site, constraints)
     classified = visibility.classify(padded, observable, constraints.sigma_k)
     return pd.concat([classified, engine_module.conditions_at_mid(padded, site)], axis=1)
@@ -50,7 +46,7 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
               for site in sites.values() if not transits.empty]
     tables = [t for t in tables if not t.empty]
     if not tables:
-        return pd.DataFrame(columns=["target", "site", "epoch", "mid_jd_utc", "coverage"])
+        return pd.DataFrame(columns=[*schema.TRANSIT_COLUMNS, *schema.WINDOW_COLUMNS])
     table = pd.concat(tables, ignore_index=True)
     if not include_unobservable:
         table = table[table["coverage"] != "none"]
