@@ -95,12 +95,20 @@ def _print_summary(windows, title: str) -> None:
     out.print(f"[dim]{SAFETY_NOTE}[/dim]")
 
 
+EXACT_HELP = ("Use the exact astropy engine (samples every 5 min; about 100x slower) instead of the fast "
+              "analytic one (edges within about a minute of it).")
+
+
+def _engine(exact: bool) -> str:
+    return "reference" if exact else "fast"
+
+
 def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
-                 include_all: bool, csv_path: Path | None, ics_path: Path | None):
+                 include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast"):
     targets = catalog.read_targets(targets_file)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
     windows = plan_windows(targets, sites, overrides, _parse_date(start, "--start"), _parse_date(end, "--end"),
-                           include_unobservable=include_all)
+                           engine=engine, include_unobservable=include_all)
     if csv_path is not None:
         write_windows_csv(windows, csv_path)
     if ics_path is not None:
@@ -126,6 +134,7 @@ def windows(
     moon_sep: Optional[float] = typer.Option(None, "--moon-sep", help="Least Moon-target separation, degrees; 0 disables [default 0]."),
     include_all: bool = typer.Option(False, "--all", help="List unobservable transits too (coverage 'none')."),
     force: bool = typer.Option(False, "--force", help="Replace existing --csv/--ics files (otherwise vigil refuses)."),
+    exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -137,7 +146,8 @@ def windows(
                  "sigma_k": sigma, "moon_sep_deg": moon_sep}
     with _user_errors():
         _refuse_overwrite((csv_path, ics_path), force)
-        result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path)
+        result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
+                              _engine(exact))
     _print_summary(result, f"Transit windows {start} to {end}")
     for path in (csv_path, ics_path):
         if path is not None:
@@ -153,14 +163,17 @@ def demo_file(name: str) -> Path:
 def demo(
     out_dir: Path = typer.Option(Path("vigil-demo"), "--out", help="Folder for the demo's outputs (vigil's own; files in it are replaced)."),
 ):
-    """Run vigil on its embedded invented scenario (three sites, eight targets, 2027) and write the outputs."""
+    """Run vigil on its embedded invented scenario: windows for 2027 at three sites, then a 30-year campaign."""
     _setup_logging()
     with _user_errors():
         out_dir.mkdir(parents=True, exist_ok=True)
         result = _run_windows(demo_file("targets.csv"), demo_file("sites.toml"), None, "2027-01-01", "2028-01-01", {},
                               False, out_dir / "windows.csv", out_dir / "windows.ics")
-    _print_summary(result, "Demo: transit windows in 2027")
-    out.print(f"wrote {out_dir / 'windows.csv'} and {out_dir / 'windows.ics'} ({len(result)} windows)")
+        _print_summary(result, "Demo: transit windows in 2027")
+        spec, campaign_result, paths = _run_campaign(demo_file("campaign.toml"), None, out_dir)
+    _print_campaign(campaign_result, spec)
+    names = ", ".join(p.name for p in [out_dir / "windows.csv", out_dir / "windows.ics", *paths])
+    out.print(f"wrote into {out_dir}/: {names}")
 
 
 CAMPAIGN_FILES = ("summary.csv", "forecast.csv", "ledger.csv", "resolution.png", "hours.png")
@@ -198,7 +211,7 @@ def _verdict(row, spec) -> str:
     return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
 
 
-def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path):
+def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast"):
     from rich.progress import Progress
 
     spec = read_campaign(campaign_file)
@@ -210,7 +223,8 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path):
     sites = catalog.read_sites(spec.sites_file)
     with Progress(console=err, transient=True) as progress:
         task = progress.add_task("weather trials", total=spec.trials)
-        result = pipeline.run_campaign(spec, targets, sites, on_progress=lambda n: progress.advance(task, n))
+        result = pipeline.run_campaign(spec, targets, sites, engine=engine,
+                                       on_progress=lambda n: progress.advance(task, n))
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.ymdhms["year"] + spec.horizon_years,
                     out_dir / "resolution.png")
@@ -225,6 +239,7 @@ def campaign_command(
     target: Optional[str] = typer.Option(None, "--target", help="Answer for this one target only."),
     out_dir: Path = typer.Option(Path("vigil-campaign"), "--out", help="Output folder for CSVs and PNG plots."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
+    exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
@@ -234,7 +249,7 @@ def campaign_command(
     _setup_logging()
     with _user_errors():
         _refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir)
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact))
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
     else:

@@ -53,7 +53,7 @@ def _trials(scheduled: pd.DataFrame, spec: CampaignSpec, on_progress: Callable[[
     return np.concatenate(chunks, axis=0)
 
 
-def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Site], engine: str = "reference",
+def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Site], engine: str = "fast",
                  on_progress: Callable[[int], None] | None = None) -> CampaignResult:
     """Simulate the campaign: summary per target, yearly forecast, ledger of trial 0."""
     missing = [s for s in spec.site_names if s not in sites]

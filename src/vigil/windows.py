@@ -27,7 +27,7 @@ def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time, engine=r
 
 
 def site_windows(transits: pd.DataFrame, site: Site, constraints: visibility.Constraints,
-                 start: Time, end: Time, engine: str = "reference") -> pd.DataFrame:
+                 start: Time, end: Time, engine: str = "fast") -> pd.DataFrame:
     """Windows table for one site: padded windows, coverage, conditions at mid."""
     engine_module = ENGINES[engine]
     padded = visibility.pad_windows(at_site(transits, site, start, end, engine_module), constraints)
@@ -37,7 +37,7 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: visibility.Con
 
 
 def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,
-                 engine: str = "reference", include_unobservable: bool = False) -> pd.DataFrame:
+                 engine: str = "fast", include_unobservable: bool = False) -> pd.DataFrame:
     """All transit windows of all targets at all sites in [start, end], sorted by time then target."""
     if not end > start:
         raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")

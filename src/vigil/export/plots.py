@@ -28,7 +28,8 @@ def resolution_plot(yearly: pd.DataFrame, goal_resolution: float, horizon_end_ye
                           table["resolution_at_goal_snr_p90"], color=line.get_color(), alpha=0.15, linewidth=0)
     axes.axhline(goal_resolution, color="black", linestyle="--", linewidth=1, label=f"goal R = {goal_resolution:g}")
     axes.axvline(horizon_end_year, color="grey", linestyle=":", linewidth=1, label="horizon")
-    axes.set_yscale("symlog", linthresh=1.0)
+    axes.set_yscale("symlog", linthresh=1.0)  # logarithmic, but 0 (goal out of reach) stays on the plot
+    axes.set_ylim(bottom=0.0)
     axes.set_xlabel("calendar year (end of campaign year)")
     axes.set_ylabel("achievable resolution λ/Δλ at the goal SNR")
     axes.set_title("Stacked transmission spectrum: resolution reached (median, 10–90 % of trials)")
