@@ -69,12 +69,16 @@ def _read_csv(path: Path) -> pd.DataFrame:
     from io import StringIO
 
     try:
-        table = pd.read_csv(StringIO(text), dtype=str, keep_default_na=False, skipinitialspace=True)
+        table = pd.read_csv(StringIO(text), dtype=str, keep_default_na=False, skipinitialspace=True,
+                            skip_blank_lines=False)
     except pd.errors.ParserError as exc:
         raise InputError(f"{path}: not a valid comma-separated table ({exc})") from None
     table.columns = [str(c).strip() for c in table.columns]
     if len(table.columns) == 1 and ";" in table.columns[0]:
         raise InputError(f"{path}: header uses ';' as delimiter; vigil expects comma-separated values")
+    # Blank lines are read as empty rows and dropped here, so that the index still counts
+    # file lines: row i is line i + 2.
+    table = table[(table != "").any(axis=1)]
     if table.empty:
         raise InputError(f"{path}: header only; expected one row per target below it")
     return table
@@ -92,9 +96,11 @@ def _number(path: Path, line: int, column: str, text: str, expected: str) -> flo
 
 def _coordinates(path: Path, line: int, row: pd.Series, columns) -> tuple[float, float]:
     if "ra_deg" in columns and "dec_deg" in columns:
-        ra = _number(path, line, "ra_deg", row["ra_deg"], "right ascension in degrees")
-        dec = _number(path, line, "dec_deg", row["dec_deg"], "declination in degrees")
+        ra_field, dec_field = "ra_deg", "dec_deg"
+        ra = _number(path, line, ra_field, row[ra_field], "right ascension in degrees")
+        dec = _number(path, line, dec_field, row[dec_field], "declination in degrees")
     elif "ra" in columns and "dec" in columns:
+        ra_field, dec_field = "ra", "dec"
         try:
             ra = Angle(row["ra"], unit="hourangle").deg
         except (ValueError, TypeError):
@@ -106,9 +112,9 @@ def _coordinates(path: Path, line: int, row: pd.Series, columns) -> tuple[float,
     else:
         raise InputError(f"{path}: missing coordinates; expected columns ra_deg and dec_deg (or ra and dec)")
     if not 0.0 <= ra < 360.0:
-        raise InputError(f"{_where(path, line)}, field ra: expected 0 <= RA < 360 degrees, got {ra:g}")
+        raise InputError(f"{_where(path, line)}, field {ra_field}: expected 0 <= RA < 360 degrees, got {ra:g}")
     if not -90.0 <= dec <= 90.0:
-        raise InputError(f"{_where(path, line)}, field dec: expected -90 <= Dec <= 90 degrees, got {dec:g}")
+        raise InputError(f"{_where(path, line)}, field {dec_field}: expected -90 <= Dec <= 90 degrees, got {dec:g}")
     return ra, dec
 
 
@@ -164,10 +170,11 @@ def read_targets(path: str | Path) -> pd.DataFrame:
         raise InputError(f"{path}: missing column(s) {', '.join(missing)}; found {', '.join(table.columns)}")
     rows = [_target_row(path, i + 2, row, table.columns) for i, row in table.iterrows()]
     parsed = pd.DataFrame(rows)
-    duplicated = parsed["name"].duplicated()
+    duplicated = parsed["name"].duplicated().to_numpy()
     if duplicated.any():
-        line = int(np.flatnonzero(duplicated.to_numpy())[0]) + 2
-        raise InputError(f"{_where(path, line)}, field name: target {parsed['name'][line - 2]!r} appears twice")
+        first = int(np.flatnonzero(duplicated)[0])
+        line = int(table.index[first]) + 2
+        raise InputError(f"{_where(path, line)}, field name: target {parsed['name'][first]!r} appears twice")
     extra = [c for c in table.columns if c not in parsed.columns and c not in ("ra", "dec")]
     return pd.concat([parsed, table[extra].reset_index(drop=True)], axis=1)
 

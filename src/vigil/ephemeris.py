@@ -20,9 +20,19 @@ def mid_sigma_d(epoch, t0_err_d, period_err_d, cov_d2=0.0):
 
 
 def epochs_between(t0_bjd_tdb: float, period_d: float, start_bjd_tdb: float, end_bjd_tdb: float) -> np.ndarray:
-    """All integer epochs n with start <= T0 + n P <= end."""
+    """All integer epochs n with start <= T0 + n P <= end (both ends inclusive)."""
     first = int(np.ceil((start_bjd_tdb - t0_bjd_tdb) / period_d))
     last = int(np.floor((end_bjd_tdb - t0_bjd_tdb) / period_d))
+    # The rounded quotient can land one epoch off an end that falls exactly on a mid-time;
+    # settle each end with the same expression that gives the mid-times.
+    while t0_bjd_tdb + (first - 1) * period_d >= start_bjd_tdb:
+        first -= 1
+    while t0_bjd_tdb + first * period_d < start_bjd_tdb:
+        first += 1
+    while t0_bjd_tdb + (last + 1) * period_d <= end_bjd_tdb:
+        last += 1
+    while t0_bjd_tdb + last * period_d > end_bjd_tdb:
+        last -= 1
     return np.arange(first, last + 1, dtype=np.int64)
 
 

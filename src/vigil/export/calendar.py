@@ -17,6 +17,7 @@ import pandas as pd
 from astropy.time import Time
 
 from vigil.export.files import write_atomic
+from vigil.export.table import iso_utc
 
 _UID_NAMESPACE = uuid.UUID("5f1c2b9e-3d4a-4e8f-9b6c-7a1d2e3f4b5c")
 SAFETY_NOTE = ("Plan only within the observatory's own rules for night work and Sun avoidance; "
@@ -37,7 +38,8 @@ def run_stamp() -> datetime:
 
 
 def _utc(jd_utc: float) -> datetime:
-    return Time(jd_utc, format="jd", scale="utc", precision=0).to_datetime(timezone=timezone.utc).replace(microsecond=0)
+    # Rounded to the second exactly as in the CSV, so both files show the same times.
+    return datetime.fromisoformat(iso_utc([jd_utc])[0])
 
 
 def _describe(w) -> str:

@@ -14,6 +14,8 @@ def write_atomic(path: str | Path, data: bytes) -> Path:
     handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     try:
         with os.fdopen(handle, "wb") as stream:
+            # mkstemp makes the file private (0600); give it the mode a plain open() would.
+            os.fchmod(stream.fileno(), 0o666 & ~_umask())
             stream.write(data)
             stream.flush()
             os.fsync(stream.fileno())
@@ -22,3 +24,9 @@ def write_atomic(path: str | Path, data: bytes) -> Path:
         Path(temporary).unlink(missing_ok=True)
         raise
     return path
+
+
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
