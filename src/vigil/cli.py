@@ -25,8 +25,10 @@ from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.plots import hours_plot, resolution_plot
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
-                       "how uncertain their times are, and what a campaign can collect.",
-                  no_args_is_help=True, add_completion=False)
+                       "how uncertain their times are, what a multi-year campaign collects and when the stacked "
+                       "spectrum reaches your goal. Angles are in degrees, durations in hours, dates and times in "
+                       "UTC (mid-times also in BJD_TDB); site longitudes are east positive.",
+                  no_args_is_help=True, add_completion=False, rich_markup_mode=None)
 err = Console(stderr=True)
 out = Console()
 log = logging.getLogger("vigil")
@@ -35,7 +37,7 @@ log = logging.getLogger("vigil")
 class _Notes(logging.Handler):
     def emit(self, record):
         level = "warning" if record.levelno >= logging.WARNING else "note"
-        err.print(f"vigil: {level}: {record.getMessage()}", highlight=False, soft_wrap=True)
+        err.print(f"vigil: {level}: {record.getMessage()}", highlight=False, soft_wrap=True, markup=False)
 
 
 def _setup_logging() -> None:
@@ -51,7 +53,7 @@ def _user_errors():
     try:
         yield
     except InputError as exc:
-        err.print(f"vigil: error: {exc}", highlight=False, soft_wrap=True)
+        err.print(f"vigil: error: {exc}", highlight=False, soft_wrap=True, markup=False)
         raise typer.Exit(2) from None
 
 
@@ -118,20 +120,20 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
 
 @app.command()
 def windows(
-    targets_file: Path = typer.Argument(..., help="Targets CSV: name, ra_deg, dec_deg (or ra/dec sexagesimal), "
+    targets_file: Path = typer.Argument(..., metavar="TARGETS.csv", help="Targets CSV: name, ra_deg, dec_deg (or ra/dec sexagesimal), "
                                         "t0_bjd_tdb, t0_err_d, period_d, period_err_d, duration_h."),
-    sites_file: Path = typer.Option(..., "--sites", help="Sites TOML with [sites.NAME] tables."),
-    site: Optional[list[str]] = typer.Option(None, "--site", help="Site name to use (repeatable); default every site in the file."),
-    start: str = typer.Option(..., "--start", help="First date, UTC (e.g. 2027-01-01)."),
-    end: str = typer.Option(..., "--end", help="Last date, UTC (e.g. 2028-01-01)."),
-    csv_path: Optional[Path] = typer.Option(None, "--csv", help="Write the windows table here (CSV, times in UTC)."),
-    ics_path: Optional[Path] = typer.Option(None, "--ics", help="Write the windows as an iCalendar file here."),
-    min_altitude: Optional[float] = typer.Option(None, "--min-altitude", help="Lowest target altitude, degrees [default 30]."),
-    twilight: Optional[str] = typer.Option(None, "--twilight", help="Darkness needed: civil, nautical or astronomical "
+    sites_file: Path = typer.Option(..., "--sites", metavar="SITES.toml", help="Sites TOML with [sites.NAME] tables."),
+    site: Optional[list[str]] = typer.Option(None, "--site", metavar="NAME", help="Site name to use (repeatable); default every site in the file."),
+    start: str = typer.Option(..., "--start", metavar="DATE", help="First date, UTC (e.g. 2027-01-01)."),
+    end: str = typer.Option(..., "--end", metavar="DATE", help="Last date, UTC (e.g. 2028-01-01)."),
+    csv_path: Optional[Path] = typer.Option(None, "--csv", metavar="FILE", help="Write the windows table here (CSV, times in UTC)."),
+    ics_path: Optional[Path] = typer.Option(None, "--ics", metavar="FILE", help="Write the windows as an iCalendar file here."),
+    min_altitude: Optional[float] = typer.Option(None, "--min-altitude", metavar="DEG", help="Lowest target altitude, degrees [default 30]."),
+    twilight: Optional[str] = typer.Option(None, "--twilight", metavar="KIND", help="Darkness needed: civil, nautical or astronomical "
                                            "(Sun's centre below -6, -12 or -18 degrees) [default astronomical]."),
-    baseline: Optional[float] = typer.Option(None, "--baseline", help="Out-of-transit time wanted before ingress and after egress, hours [default 1]."),
-    sigma: Optional[float] = typer.Option(None, "--sigma", help="Pad each side by K times the 1-sigma mid-time uncertainty; 0 disables [default 1]."),
-    moon_sep: Optional[float] = typer.Option(None, "--moon-sep", help="Least Moon-target separation, degrees; 0 disables [default 0]."),
+    baseline: Optional[float] = typer.Option(None, "--baseline", metavar="HOURS", help="Out-of-transit time wanted before ingress and after egress, hours [default 1]."),
+    sigma: Optional[float] = typer.Option(None, "--sigma", metavar="K", help="Pad each side by K times the 1-sigma mid-time uncertainty; 0 disables [default 1]."),
+    moon_sep: Optional[float] = typer.Option(None, "--moon-sep", metavar="DEG", help="Least Moon-target separation, degrees; 0 disables [default 0]."),
     include_all: bool = typer.Option(False, "--all", help="List unobservable transits too (coverage 'none')."),
     force: bool = typer.Option(False, "--force", help="Replace existing --csv/--ics files (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
@@ -161,7 +163,7 @@ def demo_file(name: str) -> Path:
 
 @app.command()
 def demo(
-    out_dir: Path = typer.Option(Path("vigil-demo"), "--out", help="Folder for the demo's outputs (vigil's own; files in it are replaced)."),
+    out_dir: Path = typer.Option(Path("vigil-demo"), "--out", metavar="DIR", help="Folder for the demo's outputs (vigil's own; files in it are replaced)."),
 ):
     """Run vigil on its embedded invented scenario: windows for 2027 at three sites, then a 30-year campaign."""
     _setup_logging()
@@ -234,10 +236,10 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
 
 @app.command("campaign")
 def campaign_command(
-    campaign_file: Path = typer.Argument(..., help="Campaign TOML: start, horizon (years), targets and sites files, "
+    campaign_file: Path = typer.Argument(..., metavar="CAMPAIGN.toml", help="Campaign TOML: start, horizon (years), targets and sites files, "
                                          "weather, allocation, instrument, spectral goal, trials, seed."),
-    target: Optional[str] = typer.Option(None, "--target", help="Answer for this one target only."),
-    out_dir: Path = typer.Option(Path("vigil-campaign"), "--out", help="Output folder for CSVs and PNG plots."),
+    target: Optional[str] = typer.Option(None, "--target", metavar="NAME", help="Answer for this one target only."),
+    out_dir: Path = typer.Option(Path("vigil-campaign"), "--out", metavar="DIR", help="Output folder for CSVs and PNG plots."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
 ):
