@@ -244,3 +244,27 @@ def read_sites(path: str | Path) -> dict[str, Site]:
     if not isinstance(sites, dict) or not sites:
         raise InputError(f"{path}: no [sites.NAME] tables found")
     return {name: _site(path, name, entry) for name, entry in sites.items()}
+
+
+def read_timings(path: str | Path) -> pd.DataFrame:
+    """Read measured mid-transit times: target, mid_bjd_tdb, mid_err_d (days), optional note."""
+    path = Path(path)
+    table = _read_csv(path)
+    missing = [c for c in ("target", "mid_bjd_tdb", "mid_err_d") if c not in table.columns]
+    if missing:
+        raise InputError(f"{path}: missing column(s) {', '.join(missing)}; found {', '.join(table.columns)}")
+    rows = []
+    for index, row in table.iterrows():
+        line = int(index) + 2
+        target = row["target"].strip()
+        if not target:
+            raise InputError(f"{_where(path, line)}, field target: expected a target name, got an empty cell")
+        mid = _number(path, line, "mid_bjd_tdb", row["mid_bjd_tdb"], "a mid-transit time as a full Julian date (BJD_TDB)")
+        if mid < MIN_PLAUSIBLE_JD:
+            raise InputError(f"{_where(path, line)}, field mid_bjd_tdb: {mid:g} looks like an MJD or a truncated JD; "
+                             "expected a full Julian date in BJD_TDB")
+        err = _number(path, line, "mid_err_d", row["mid_err_d"], "a positive uncertainty in days")
+        if err <= 0:
+            raise InputError(f"{_where(path, line)}, field mid_err_d: expected a positive uncertainty in days, got {err:g}")
+        rows.append({"target": target, "mid_bjd_tdb": mid, "mid_err_d": err, "note": row.get("note", "")})
+    return pd.DataFrame(rows)

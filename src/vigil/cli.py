@@ -17,6 +17,7 @@ from rich.table import Table
 from vigil import catalog
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
+from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv
 from vigil.windows import plan_windows
 from vigil import pipeline
@@ -86,8 +87,6 @@ def _print_summary(windows, title: str) -> None:
     if windows.empty:
         out.print(f"{title}: no observable transits.")
         return
-    from vigil.export.table import iso_utc
-
     for (target, site), group in windows.groupby(["target", "site"], sort=True):
         counts = group["coverage"].value_counts()
         full = group[group["coverage"] == "full"]
@@ -257,6 +256,42 @@ def campaign_command(
     else:
         _print_campaign(result, spec)
     out.print(f"wrote {', '.join(str(p) for p in paths)}")
+
+
+@app.command()
+def refit(
+    timings_file: Path = typer.Argument(..., metavar="TIMINGS.csv", help="Measured mid-times: target, mid_bjd_tdb, "
+                                        "mid_err_d (days), optional note."),
+    out_path: Path = typer.Option(..., "--out", metavar="FILE", help="Refitted targets CSV (readable by every vigil command)."),
+    targets_file: Optional[Path] = typer.Option(None, "--targets", metavar="TARGETS.csv",
+                                                help="Catalog whose coordinates, durations and ephemerides (to number "
+                                                     "the epochs) carry over."),
+    force: bool = typer.Option(False, "--force", help="Replace existing outputs (otherwise vigil refuses)."),
+):
+    """Refit each target's linear ephemeris from measured transit times (weighted least squares).
+
+    Also writes the O-C table (FILE stem + _o_minus_c.csv, minutes) and its plot (.png).
+    Timings more than 5 sigma off the fit are flagged and left out of it.
+    """
+    from vigil.refit import plot_o_minus_c, refit_targets
+
+    _setup_logging()
+    oc_path = out_path.with_name(out_path.stem + "_o_minus_c.csv")
+    plot_path = oc_path.with_suffix(".png")
+    with _user_errors():
+        _refuse_overwrite((out_path, oc_path, plot_path), force)
+        timings = catalog.read_timings(timings_file)
+        targets = catalog.read_targets(targets_file) if targets_file is not None else None
+        refitted, o_minus_c = refit_targets(timings, targets)
+        write_csv(refitted, out_path, text_columns=("name",))
+        write_csv(o_minus_c, oc_path, text_columns=("target",))
+        plot_o_minus_c(o_minus_c, plot_path)
+    fitted = refitted[refitted["n_timings"] > 0]
+    for row in fitted.itertuples(index=False):
+        out.print(f"{row.name}: P = {row.period_d:.8f} ± {row.period_err_d:.8f} d, T0 = {row.t0_bjd_tdb:.6f} ± "
+                  f"{row.t0_err_d * 1440:.2f} min (BJD_TDB), reduced chi2 {row.reduced_chi2:.2f}, "
+                  f"{row.n_timings} timings, {row.n_outliers} flagged")
+    out.print(f"wrote {out_path}, {oc_path}, {plot_path}")
 
 
 def main() -> None:  # pragma: no cover - console entry point
