@@ -105,11 +105,12 @@ def _engine(exact: bool) -> str:
 
 
 def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
-                 include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast"):
+                 include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast",
+                 event: str = "transit"):
     targets = catalog.read_targets(targets_file)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
     windows = plan_windows(targets, sites, overrides, _parse_date(start, "--start"), _parse_date(end, "--end"),
-                           engine=engine, include_unobservable=include_all)
+                           engine=engine, include_unobservable=include_all, event=event)
     if csv_path is not None:
         write_windows_csv(windows, csv_path)
     if ics_path is not None:
@@ -136,6 +137,9 @@ def windows(
     include_all: bool = typer.Option(False, "--all", help="List unobservable transits too (coverage 'none')."),
     force: bool = typer.Option(False, "--force", help="Replace existing --csv/--ics files (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
+    event: str = typer.Option("transit", "--event", metavar="KIND",
+                              help="transit, or occultation (secondary eclipse; uses the optional target columns "
+                                   "eccentricity, omega_deg, inclination_deg) [default transit]."),
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -148,7 +152,7 @@ def windows(
     with _user_errors():
         _refuse_overwrite((csv_path, ics_path), force)
         result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
-                              _engine(exact))
+                              _engine(exact), event)
     _print_summary(result, f"Transit windows {start} to {end}")
     for path in (csv_path, ics_path):
         if path is not None:

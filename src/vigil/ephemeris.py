@@ -9,6 +9,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from vigil import occultation
 from vigil.errors import InputError
 
 
@@ -36,26 +37,74 @@ def epochs_between(t0_bjd_tdb: float, period_d: float, start_bjd_tdb: float, end
     return np.arange(first, last + 1, dtype=np.int64)
 
 
-def project_transits(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: float) -> pd.DataFrame:
-    """One row per transit of each target with mid-time in [start, end] (BJD_TDB).
+EVENTS = ("transit", "occultation")
+ORBIT_COLUMNS = {"eccentricity": (0.0, 0.95), "omega_deg": (-360.0, 360.0), "inclination_deg": (0.0, 180.0)}
 
-    Columns: target, epoch, mid_bjd_tdb, mid_sigma_d, duration_h, ra_deg, dec_deg.
+
+def _orbit_column(targets: pd.DataFrame, column: str) -> np.ndarray:
+    """A numeric orbit column (NaN where empty); InputError for text or values out of range."""
+    if column not in targets.columns:
+        return np.full(len(targets), np.nan)
+    text = targets[column].astype(str).str.strip().replace({"": "nan", "None": "nan"})
+    values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
+    low, high = ORBIT_COLUMNS[column]
+    bad = (np.isnan(values) & (text.str.lower() != "nan").to_numpy()) | (values < low) | (values > high)
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise InputError(f"target {targets['name'].iat[i]!r}, field {column}: expected a number from {low:g} to "
+                         f"{high:g}, got {targets[column].iat[i]!r}")
+    return values
+
+
+def event_offsets(targets: pd.DataFrame, event: str) -> tuple[np.ndarray, np.ndarray]:
+    """Per target: (mid-time offset from the transit of the same epoch in days, event duration in hours).
+
+    Occultations need eccentricity and omega_deg (argument of periastron; both 0 for a circular
+    orbit, which may be left empty) and use inclination_deg when given (else 90); the offset is
+    exact in e at the conjunctions plus the inclination term of Winn (2010) eq. 33.
+    """
+    if event not in EVENTS:
+        raise InputError(f"event: expected transit or occultation, got {event!r}")
+    duration_h = targets["duration_h"].to_numpy(dtype=float)
+    if event == "transit":
+        return np.zeros(len(targets)), duration_h
+    e = np.nan_to_num(_orbit_column(targets, "eccentricity"), nan=0.0)
+    omega = _orbit_column(targets, "omega_deg")
+    missing = (e > 0) & np.isnan(omega)
+    if missing.any():
+        name = targets["name"].iat[int(np.flatnonzero(missing)[0])]
+        raise InputError(f"target {name!r}, field omega_deg: needed for the occultation of an eccentric orbit")
+    omega = np.nan_to_num(omega, nan=90.0)
+    inclination = np.nan_to_num(_orbit_column(targets, "inclination_deg"), nan=90.0)
+    period = targets["period_d"].to_numpy(dtype=float)
+    offset = occultation.occultation_mid_bjd_tdb(0.0, period, e, omega, inclination)
+    return offset, occultation.occultation_duration_h(duration_h, e, omega)
+
+
+def project_transits(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: float,
+                     event: str = "transit") -> pd.DataFrame:
+    """One row per event (transit or occultation) of each target with mid-time in [start, end] (BJD_TDB).
+
+    Columns: target, event, epoch, mid_bjd_tdb, mid_sigma_d, duration_h, ra_deg, dec_deg. An
+    occultation carries the epoch of the transit before it and that transit's timing sigma.
     """
     if not end_bjd_tdb > start_bjd_tdb:
         raise InputError("the end of the date range must come after its start")
+    offsets, durations = event_offsets(targets, event)
     parts = []
-    for row in targets.itertuples(index=False):
-        epochs = epochs_between(row.t0_bjd_tdb, row.period_d, start_bjd_tdb, end_bjd_tdb)
+    for row, offset, duration in zip(targets.itertuples(index=False), offsets, durations):
+        epochs = epochs_between(row.t0_bjd_tdb + offset, row.period_d, start_bjd_tdb, end_bjd_tdb)
         parts.append(pd.DataFrame({
             "target": row.name,
+            "event": event,
             "epoch": epochs,
-            "mid_bjd_tdb": row.t0_bjd_tdb + epochs * row.period_d,
+            "mid_bjd_tdb": row.t0_bjd_tdb + offset + epochs * row.period_d,
             "mid_sigma_d": mid_sigma_d(epochs, row.t0_err_d, row.period_err_d, row.t0_period_cov_d2),
-            "duration_h": row.duration_h,
+            "duration_h": duration,
             "ra_deg": row.ra_deg,
             "dec_deg": row.dec_deg,
         }))
-    columns = ["target", "epoch", "mid_bjd_tdb", "mid_sigma_d", "duration_h", "ra_deg", "dec_deg"]
+    columns = ["target", "event", "epoch", "mid_bjd_tdb", "mid_sigma_d", "duration_h", "ra_deg", "dec_deg"]
     if not parts:
         return pd.DataFrame(columns=columns)
     return pd.concat(parts, ignore_index=True)[columns]

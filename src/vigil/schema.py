@@ -21,6 +21,7 @@ TARGET_COLUMNS = {
 TRANSIT_COLUMNS = {
     "target": "planet name",
     "site": "site name",
+    "event": "transit, or occultation (secondary eclipse) following the transit of the same epoch",
     "epoch": "transit number counted from t0",
     "mid_bjd_tdb": "predicted mid-transit time, BJD_TDB",
     "mid_sigma_d": "1-sigma uncertainty of the mid-time, days",

@@ -37,11 +37,13 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: visibility.Con
 
 
 def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,
-                 engine: str = "fast", include_unobservable: bool = False) -> pd.DataFrame:
-    """All transit windows of all targets at all sites in [start, end], sorted by time then target."""
+                 engine: str = "fast", include_unobservable: bool = False, event: str = "transit") -> pd.DataFrame:
+    """All windows of one event type (transit or occultation) of all targets at all sites in
+    [start, end], sorted by time then target."""
     if not end > start:
         raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
-    transits = ephemeris.project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D, end.tdb.jd + _LIGHT_TIME_MARGIN_D)
+    transits = ephemeris.project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
+                                          end.tdb.jd + _LIGHT_TIME_MARGIN_D, event)
     tables = [site_windows(transits, site, visibility.resolve_constraints(site.defaults, overrides), start, end, engine)
               for site in sites.values() if not transits.empty]
     tables = [t for t in tables if not t.empty]

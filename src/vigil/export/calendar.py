@@ -24,9 +24,10 @@ SAFETY_NOTE = ("Plan only within the observatory's own rules for night work and 
                "times are predictions, not a substitute for them.")
 
 
-def event_uid(target: str, site: str, epoch: int) -> str:
-    """Stable identifier of one transit at one site."""
-    return f"{uuid.uuid5(_UID_NAMESPACE, f'{target}|{site}|{int(epoch)}')}@vigil"
+def event_uid(target: str, site: str, epoch: int, kind: str = "transit") -> str:
+    """Stable identifier of one transit (or occultation) at one site."""
+    key = f"{target}|{site}|{int(epoch)}" + ("" if kind == "transit" else f"|{kind}")
+    return f"{uuid.uuid5(_UID_NAMESPACE, key)}@vigil"
 
 
 def run_stamp() -> datetime:
@@ -63,14 +64,15 @@ def windows_calendar(windows: pd.DataFrame) -> icalendar.Calendar:
     stamp = run_stamp()
     for w in windows.itertuples(index=False):
         event = icalendar.Event()
-        event.add("uid", event_uid(w.target, w.site, w.epoch))
+        kind = getattr(w, "event", "transit")
+        event.add("uid", event_uid(w.target, w.site, w.epoch, kind))
         event.add("dtstamp", stamp)
         event.add("dtstart", _utc(w.window_start_jd_utc))
         event.add("dtend", _utc(w.window_end_jd_utc))
-        event.add("summary", f"{w.target} transit, {w.coverage} ({w.site})")
+        event.add("summary", f"{w.target} {kind}, {w.coverage} ({w.site})")
         event.add("location", str(w.site))
         event.add("description", _describe(w))
-        event.add("categories", ["transit", str(w.coverage)])
+        event.add("categories", [kind, str(w.coverage)])
         event.add("transp", "TRANSPARENT")
         calendar.add_component(event)
     return calendar
