@@ -7,6 +7,7 @@ import stat
 from datetime import datetime, timezone
 
 import icalendar
+import numpy as np
 import pandas as pd
 import pytest
 from astropy.time import Time
@@ -167,3 +168,20 @@ def test_output_files_get_the_usual_permissions(planned, tmp_path):
     finally:
         os.umask(mask)
     assert stat.S_IMODE((tmp_path / "w.csv").stat().st_mode) == 0o644
+
+
+def test_local_time_columns_agree_with_pytz():
+    # Independent zone database client: pytz (Olson tz database) against the standard-library zoneinfo.
+    import pytz
+    from vigil.export.windows_csv import local_times
+
+    jd = np.array([2461407.6259, 2461590.1])  # 2027-01-02 (southern summer) and 2027-07-04 (winter)
+    table = pd.DataFrame({"site": ["s", "s"], "mid_jd_utc": jd, "window_start_jd_utc": jd - 0.1,
+                          "window_end_jd_utc": jd + 0.1})
+    local = local_times(table, {"s": "America/Santiago"})
+    for text, value in zip(local["mid_local"], jd):
+        utc = Time(value, format="jd", scale="utc").to_datetime(timezone=timezone.utc)
+        expected = utc.astimezone(pytz.timezone("America/Santiago"))
+        got = datetime.fromisoformat(text)
+        assert abs((got - expected).total_seconds()) <= 0.5
+        assert got.utcoffset() == expected.utcoffset()

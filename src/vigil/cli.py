@@ -106,15 +106,15 @@ def _engine(exact: bool) -> str:
 
 def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
                  include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast",
-                 event: str = "transit"):
+                 event: str = "transit", local_time: bool = False):
     targets = catalog.read_targets(targets_file)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
     windows = plan_windows(targets, sites, overrides, _parse_date(start, "--start"), _parse_date(end, "--end"),
                            engine=engine, include_unobservable=include_all, event=event)
     if csv_path is not None:
-        write_windows_csv(windows, csv_path)
+        write_windows_csv(windows, csv_path, {n: s.timezone for n, s in sites.items()} if local_time else None)
     if ics_path is not None:
-        write_windows_ics(windows, ics_path)
+        write_windows_ics(windows, ics_path, {n: s.timezone for n, s in sites.items()})
     return windows
 
 
@@ -140,6 +140,8 @@ def windows(
     event: str = typer.Option("transit", "--event", metavar="KIND",
                               help="transit, or occultation (secondary eclipse; uses the optional target columns "
                                    "eccentricity, omega_deg, inclination_deg) [default transit]."),
+    local_time: bool = typer.Option(False, "--local-time", help="Add local civil times (each site's IANA timezone, "
+                                    "with UTC offset) to the CSV."),
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -152,7 +154,7 @@ def windows(
     with _user_errors():
         _refuse_overwrite((csv_path, ics_path), force)
         result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
-                              _engine(exact), event)
+                              _engine(exact), event, local_time)
     _print_summary(result, f"Transit windows {start} to {end}")
     for path in (csv_path, ics_path):
         if path is not None:

@@ -43,20 +43,21 @@ def _utc(jd_utc: float) -> datetime:
     return datetime.fromisoformat(iso_utc([jd_utc])[0])
 
 
-def _describe(w) -> str:
+def _describe(w, timezone_name: str | None = None) -> str:
     mid = Time(w.mid_jd_utc, format="jd", scale="utc", precision=0).isot
     lines = [
         f"Mid-transit {mid}Z ± {w.mid_sigma_d * 1440:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
         f"Ingress {Time(w.ingress_jd_utc, format='jd', precision=0).isot}Z, egress {Time(w.egress_jd_utc, format='jd', precision=0).isot}Z",
         f"Coverage {w.coverage}, {100 * w.observable_fraction:.0f}% of the transit observable",
         f"At mid: altitude {w.alt_mid_deg:.1f}°, airmass {w.airmass_mid:.2f}, Moon {w.moon_sep_deg:.0f}° away",
+        *([f"Times are UTC; the site's time zone is {timezone_name}"] if timezone_name else []),
         SAFETY_NOTE,
     ]
     return "\n".join(lines)
 
 
-def windows_calendar(windows: pd.DataFrame) -> icalendar.Calendar:
-    """One VEVENT per window row."""
+def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None) -> icalendar.Calendar:
+    """One VEVENT per window row; `timezones` (site -> IANA zone) are named in the descriptions."""
     calendar = icalendar.Calendar()
     calendar.add("prodid", "-//vigil//transit windows//EN")
     calendar.add("version", "2.0")
@@ -71,13 +72,13 @@ def windows_calendar(windows: pd.DataFrame) -> icalendar.Calendar:
         event.add("dtend", _utc(w.window_end_jd_utc))
         event.add("summary", f"{w.target} {kind}, {w.coverage} ({w.site})")
         event.add("location", str(w.site))
-        event.add("description", _describe(w))
+        event.add("description", _describe(w, (timezones or {}).get(w.site)))
         event.add("categories", [kind, str(w.coverage)])
         event.add("transp", "TRANSPARENT")
         calendar.add_component(event)
     return calendar
 
 
-def write_windows_ics(windows: pd.DataFrame, path) -> None:
+def write_windows_ics(windows: pd.DataFrame, path, timezones: dict | None = None) -> None:
     """Write the windows calendar atomically (CRLF line ends, folded lines, escaped text)."""
-    write_atomic(path, windows_calendar(windows).to_ical())
+    write_atomic(path, windows_calendar(windows, timezones).to_ical())

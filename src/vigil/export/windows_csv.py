@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from zoneinfo import ZoneInfo
+
 import pandas as pd
 
 from vigil.export.table import iso_utc, write_csv
@@ -34,6 +36,23 @@ def windows_for_export(windows: pd.DataFrame) -> pd.DataFrame:
     return out[COLUMNS].round(DECIMALS)
 
 
-def write_windows_csv(windows: pd.DataFrame, path) -> None:
-    """Write the windows CSV atomically."""
-    write_csv(windows_for_export(windows), path, text_columns=("target", "site"))
+LOCAL_COLUMNS = {"mid_local": "mid_jd_utc", "window_start_local": "window_start_jd_utc",
+                 "window_end_local": "window_end_jd_utc"}
+
+
+def local_times(windows: pd.DataFrame, timezones: dict) -> pd.DataFrame:
+    """Local civil times (ISO 8601 with UTC offset) in each site's IANA zone; empty without a zone."""
+    out = {}
+    for name, source in LOCAL_COLUMNS.items():
+        utc = pd.to_datetime(iso_utc(windows[source].to_numpy()), utc=True, errors="coerce")
+        out[name] = [t.tz_convert(ZoneInfo(timezones[s])).isoformat() if timezones.get(s) and not pd.isna(t) else ""
+                     for t, s in zip(utc, windows["site"])]
+    return pd.DataFrame(out, index=windows.index)
+
+
+def write_windows_csv(windows: pd.DataFrame, path, timezones: dict | None = None) -> None:
+    """Write the windows CSV atomically; with `timezones` (site -> IANA zone) add local-time columns."""
+    table = windows_for_export(windows)
+    if timezones is not None:
+        table = pd.concat([table, local_times(windows, timezones)], axis=1)
+    write_csv(table, path, text_columns=("target", "site"))
