@@ -1,0 +1,392 @@
+"""Campaign journal: the visits planned and carried out, kept in one SQLite file.
+
+One row per visit:
+  target, site      names (text)
+  epoch             transit number as the campaign counts it (whole number)
+  start_utc,        start and end of the visit, ISO 8601 UTC with a trailing Z
+  end_utc           (e.g. 2027-03-04T22:15:00Z), stored to the whole second
+  status            planned or executed
+  outcome           clear, partial, weather or technical; empty while planned
+  mid_bjd_tdb,      measured mid-transit time (BJD_TDB, days) and its 1-sigma (days), both or
+  mid_err_d         neither; only an executed clear or partial visit yields one
+  in_transit_h,     hours collected inside the transit and out of it (optional, >= 0; together
+  baseline_h        no longer than the visit)
+  notes             free text (optional)
+A visit is planned at most once and executed at most once: (target, site, epoch, status) is
+unique. The schema version is kept in the file as PRAGMA user_version.
+
+Every write is one SQLite transaction: a rejected entry, or a crash part way through an
+import, leaves the journal exactly as it was.
+
+CSV form: the columns above in that order, one visit per line. Text cells that a spreadsheet
+would run as a formula get a leading apostrophe (see vigil.export.table); an apostrophe that
+already leads a text cell is doubled. Import drops one leading apostrophe from text cells, as
+spreadsheets treat it as a text marker, so export followed by import gives the same entries.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+import sqlite3
+from contextlib import contextmanager
+from pathlib import Path
+from typing import Iterable, Mapping
+
+import numpy as np
+import pandas as pd
+from astropy.time import Time
+
+from vigil.catalog import MIN_PLAUSIBLE_JD
+from vigil.errors import InputError
+from vigil.export.table import iso_utc, write_csv
+
+SCHEMA_VERSION = 1
+COLUMNS = ("target", "site", "epoch", "start_utc", "end_utc", "status", "outcome",
+           "mid_bjd_tdb", "mid_err_d", "in_transit_h", "baseline_h", "notes")
+REQUIRED_COLUMNS = ("target", "site", "epoch", "start_utc", "end_utc", "status")
+TEXT_COLUMNS = ("target", "site", "notes")
+FLOAT_COLUMNS = ("mid_bjd_tdb", "mid_err_d", "in_transit_h", "baseline_h")
+STATUSES = ("planned", "executed")
+OUTCOMES = ("clear", "partial", "weather", "technical")
+DATA_OUTCOMES = ("clear", "partial")  # the outcomes that collect light curves
+VISIT_COLUMNS = ("target", "site", "epoch", "start_jd_utc", "end_jd_utc", "in_transit_h", "baseline_h")
+# Start and end are stored to the second; allow that rounding when hours are checked against the span.
+_SPAN_TOLERANCE_H = 2.0 / 3600.0
+_UTC_EXAMPLE = "2027-03-04T22:15:00Z"
+
+
+def _sql_list(values) -> str:
+    return ", ".join(f"'{v}'" for v in values)
+
+
+_SCHEMA = f"""
+CREATE TABLE visit (
+    target TEXT NOT NULL,
+    site TEXT NOT NULL,
+    epoch INTEGER NOT NULL,
+    start_utc TEXT NOT NULL,
+    end_utc TEXT NOT NULL,
+    status TEXT NOT NULL CHECK (status IN ({_sql_list(STATUSES)})),
+    outcome TEXT CHECK (outcome IN ({_sql_list(OUTCOMES)})),
+    mid_bjd_tdb REAL,
+    mid_err_d REAL CHECK (mid_err_d > 0),
+    in_transit_h REAL CHECK (in_transit_h >= 0),
+    baseline_h REAL CHECK (baseline_h >= 0),
+    notes TEXT,
+    UNIQUE (target, site, epoch, status),
+    CHECK ((status = 'planned') = (outcome IS NULL)),
+    CHECK ((mid_bjd_tdb IS NULL) = (mid_err_d IS NULL))
+)
+"""
+
+
+def open_journal(path: str | Path) -> "Journal":
+    """Open the journal at `path`, creating an empty one when the file does not exist."""
+    path = Path(path)
+    try:
+        db = sqlite3.connect(path, isolation_level=None)  # transactions are begun explicitly
+    except sqlite3.Error as exc:
+        raise InputError(f"{path}: cannot open the journal database ({exc})") from None
+    try:
+        with _transaction(db):
+            version = db.execute("PRAGMA user_version").fetchone()[0]
+            tables = {row[0] for row in db.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
+            if version == 0 and not tables:
+                db.execute(_SCHEMA)
+                db.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
+            elif version != SCHEMA_VERSION or "visit" not in tables:
+                raise InputError(f"{path}: not a vigil journal of schema version {SCHEMA_VERSION} "
+                                 f"(found user_version {version})")
+    except sqlite3.Error as exc:
+        db.close()
+        raise InputError(f"{path}: cannot open the journal database ({exc})") from None
+    except InputError:
+        db.close()
+        raise
+    return Journal(db, path)
+
+
+@contextmanager
+def _transaction(db: sqlite3.Connection):
+    db.execute("BEGIN IMMEDIATE")
+    try:
+        yield
+    except BaseException:
+        db.execute("ROLLBACK")
+        raise
+    db.execute("COMMIT")
+
+
+class Journal:
+    """An open campaign journal (see the module docstring); get one from `open_journal`."""
+
+    def __init__(self, db: sqlite3.Connection, path: Path):
+        self._db = db
+        self.path = path
+
+    def __enter__(self) -> "Journal":
+        return self
+
+    def __exit__(self, *exc_info) -> None:
+        self.close()
+
+    def close(self) -> None:
+        self._db.close()
+
+    def add(self, entry: Mapping) -> None:
+        """Record one visit, given as a mapping of the journal's columns (module docstring)."""
+        self._add_all([("journal entry", entry)])
+
+    def add_planned_visits(self, visits: pd.DataFrame) -> int:
+        """Record a campaign's visits table (vigil.campaign) as planned visits; return how many.
+
+        Uses target, site, epoch, start_jd_utc, end_jd_utc (JD UTC), in_transit_h, baseline_h.
+        """
+        missing = [c for c in VISIT_COLUMNS if c not in visits.columns]
+        if missing:
+            raise InputError(f"visits table: missing column(s) {', '.join(missing)}; expected {', '.join(VISIT_COLUMNS)}")
+        starts, ends = iso_utc(visits["start_jd_utc"]), iso_utc(visits["end_jd_utc"])
+        rows = visits[list(VISIT_COLUMNS)].to_dict("records")
+        entries = (
+            (f"visits table row {i}", {
+                "target": row["target"], "site": row["site"], "epoch": row["epoch"],
+                "start_utc": start, "end_utc": end, "status": "planned",
+                "in_transit_h": row["in_transit_h"], "baseline_h": row["baseline_h"],
+            })
+            for i, (row, start, end) in enumerate(zip(rows, starts, ends))
+        )
+        return self._add_all(entries)
+
+    def import_csv(self, path: str | Path) -> int:
+        """Add every visit in a journal CSV (module docstring); all or none. Return how many."""
+        path = Path(path)
+        return self._add_all((f"{path}: line {line}", entry) for line, entry in _csv_entries(path))
+
+    def _add_all(self, entries: Iterable[tuple[str, Mapping]]) -> int:
+        count = 0
+        with _transaction(self._db):
+            for where, entry in entries:
+                _insert(self._db, validated_entry(entry, where), where)
+                count += 1
+        return count
+
+    def entries(self, target: str | None = None, status: str | None = None) -> pd.DataFrame:
+        """Visits in time order, optionally of one target and/or one status; columns as COLUMNS.
+
+        Missing numbers are NaN, missing text (outcome, notes) is None.
+        """
+        clauses, values = [], []
+        if target is not None:
+            clauses.append("target = ?")
+            values.append(target)
+        if status is not None:
+            if status not in STATUSES:
+                raise InputError(f"status: expected {' or '.join(STATUSES)}, got {status!r}")
+            clauses.append("status = ?")
+            values.append(status)
+        where = f"WHERE {' AND '.join(clauses)}" if clauses else ""
+        rows = self._db.execute(f"SELECT {', '.join(COLUMNS)} FROM visit {where} "
+                                "ORDER BY start_utc, target, site, status", values).fetchall()
+        table = pd.DataFrame(rows, columns=list(COLUMNS))
+        table["epoch"] = table["epoch"].astype(np.int64)
+        for column in FLOAT_COLUMNS:
+            table[column] = table[column].astype(float)
+        return table.astype({c: object for c in TEXT_COLUMNS + ("outcome",)})
+
+    def export_csv(self, path: str | Path) -> Path:
+        """Write every visit to a CSV file (atomically, spreadsheet-safe; module docstring)."""
+        table = self.entries()
+        for column in TEXT_COLUMNS:
+            text = table[column].fillna("").astype(str)
+            table[column] = text.where(~text.str.startswith("'"), "'" + text)
+        write_csv(table, path, text_columns=TEXT_COLUMNS)
+        return Path(path)
+
+    def executed_hours(self) -> pd.DataFrame:
+        """Per target, over executed clear or partial visits: visits, in_transit_h, baseline_h (hours)."""
+        rows = self._db.execute(
+            "SELECT target, COUNT(*), TOTAL(in_transit_h), TOTAL(baseline_h) FROM visit "
+            f"WHERE status = 'executed' AND outcome IN ({_sql_list(DATA_OUTCOMES)}) GROUP BY target ORDER BY target"
+        ).fetchall()
+        return pd.DataFrame(rows, columns=["target", "visits", "in_transit_h", "baseline_h"])
+
+    def timings(self) -> pd.DataFrame:
+        """Measured mid-times as vigil.refit.refit_targets reads them: target, mid_bjd_tdb, mid_err_d, note.
+
+        The note names the site and epoch, then the visit's notes if any.
+        """
+        rows = self._db.execute(
+            "SELECT target, mid_bjd_tdb, mid_err_d, site, epoch, notes FROM visit "
+            "WHERE status = 'executed' AND mid_bjd_tdb IS NOT NULL ORDER BY target, mid_bjd_tdb"
+        ).fetchall()
+        return pd.DataFrame(
+            [(t, mid, err, f"{site} epoch {epoch}" + (f"; {notes}" if notes else ""))
+             for t, mid, err, site, epoch, notes in rows],
+            columns=["target", "mid_bjd_tdb", "mid_err_d", "note"],
+        )
+
+
+def _insert(db: sqlite3.Connection, row: dict, where: str) -> None:
+    try:
+        db.execute(f"INSERT INTO visit ({', '.join(COLUMNS)}) VALUES ({', '.join('?' * len(COLUMNS))})",
+                   [row[c] for c in COLUMNS])
+    except sqlite3.IntegrityError as exc:
+        if "UNIQUE" not in str(exc):
+            raise
+        raise InputError(f"{where}: the {row['status']} visit of target {row['target']!r} at site {row['site']!r}, "
+                         f"epoch {row['epoch']}, is already in the journal") from None
+
+
+def _csv_entries(path: Path):
+    """Yield (line number, {column: cell}) for each non-blank row of a journal CSV."""
+    try:
+        with open(path, newline="", encoding="utf-8-sig") as handle:
+            text = handle.read()
+    except OSError as exc:
+        raise InputError(f"{path}: cannot read file ({exc.strerror})") from None
+    except UnicodeDecodeError as exc:
+        raise InputError(f"{path}: not UTF-8 text (bad byte at offset {exc.start})") from None
+    reader = csv.reader(io.StringIO(text))
+    header = [name.strip() for name in next(reader, [])]
+    _check_header(path, header)
+    while True:
+        line = reader.line_num + 1  # first physical line of the next record
+        try:
+            cells = next(reader)
+        except StopIteration:
+            return
+        except csv.Error as exc:
+            raise InputError(f"{path}: line {line}: not valid CSV ({exc})") from None
+        if not any(cell.strip() for cell in cells):
+            continue
+        if len(cells) != len(header):
+            raise InputError(f"{path}: line {line}: expected {len(header)} fields as in the header, got {len(cells)}")
+        yield line, {name: _unescaped(name, cell) for name, cell in zip(header, cells)}
+
+
+def _check_header(path: Path, header: list[str]) -> None:
+    if not header:
+        raise InputError(f"{path}: file is empty; expected a header line with {', '.join(COLUMNS)}")
+    missing = [c for c in REQUIRED_COLUMNS if c not in header]
+    unknown = [c for c in header if c not in COLUMNS]
+    repeated = sorted({c for c in header if header.count(c) > 1})
+    if missing or unknown or repeated:
+        problem = (f"missing column(s) {', '.join(missing)}" if missing else
+                   f"unknown column(s) {', '.join(unknown)}" if unknown else f"repeated column(s) {', '.join(repeated)}")
+        raise InputError(f"{path}: line 1: {problem}; expected {', '.join(COLUMNS)}")
+
+
+def _unescaped(column: str, cell: str) -> str:
+    return cell[1:] if column in TEXT_COLUMNS and cell.startswith("'") else cell
+
+
+def validated_entry(entry: Mapping, where: str) -> dict:
+    """The entry as stored: every field checked, times normalised; InputError names the field."""
+    unknown = [k for k in entry if k not in COLUMNS]
+    if unknown:
+        raise InputError(f"{where}: unknown field(s) {', '.join(map(str, unknown))}; expected {', '.join(COLUMNS)}")
+    value = {c: _blank_to_none(entry.get(c)) for c in COLUMNS}
+    row = {
+        "target": _name(where, "target", value["target"]),
+        "site": _name(where, "site", value["site"]),
+        "epoch": _epoch(where, value["epoch"]),
+        "start_utc": _utc(where, "start_utc", value["start_utc"]),
+        "end_utc": _utc(where, "end_utc", value["end_utc"]),
+        "status": _choice(where, "status", value["status"], STATUSES),
+        "outcome": None if value["outcome"] is None else _choice(where, "outcome", value["outcome"], OUTCOMES),
+        "mid_bjd_tdb": _number(where, "mid_bjd_tdb", value["mid_bjd_tdb"],
+                               f"a full Julian date in BJD_TDB (>= {MIN_PLAUSIBLE_JD:.0f})", lambda x: x >= MIN_PLAUSIBLE_JD),
+        "mid_err_d": _number(where, "mid_err_d", value["mid_err_d"], "a positive uncertainty in days", lambda x: x > 0),
+        "in_transit_h": _number(where, "in_transit_h", value["in_transit_h"], "hours >= 0", lambda x: x >= 0),
+        "baseline_h": _number(where, "baseline_h", value["baseline_h"], "hours >= 0", lambda x: x >= 0),
+        "notes": None if value["notes"] is None else str(value["notes"]),
+    }
+    _check_consistency(where, row)
+    return row
+
+
+def _check_consistency(where: str, row: dict) -> None:
+    if row["status"] == "executed" and row["outcome"] is None:
+        raise InputError(f"{where}, field outcome: expected one of {', '.join(OUTCOMES)} for an executed visit, got nothing")
+    if row["status"] == "planned" and row["outcome"] is not None:
+        raise InputError(f"{where}, field outcome: expected nothing for a planned visit, got {row['outcome']!r}")
+    if (row["mid_bjd_tdb"] is None) != (row["mid_err_d"] is None):
+        given, absent = ("mid_bjd_tdb", "mid_err_d") if row["mid_err_d"] is None else ("mid_err_d", "mid_bjd_tdb")
+        raise InputError(f"{where}, field {absent}: expected with {given} (both or neither), got nothing")
+    if row["mid_bjd_tdb"] is not None and row["outcome"] not in DATA_OUTCOMES:
+        raise InputError(f"{where}, field mid_bjd_tdb: a measured mid-time needs an executed clear or partial visit, "
+                         f"got status {row['status']} and outcome {row['outcome']}")
+    start, end = (Time(row[c][:-1], format="isot", scale="utc") for c in ("start_utc", "end_utc"))
+    span_h = (end - start).to_value("hour")
+    if span_h <= 0:
+        raise InputError(f"{where}, field end_utc: expected a time after start_utc {row['start_utc']}, got {row['end_utc']}")
+    hours = (row["in_transit_h"] or 0.0) + (row["baseline_h"] or 0.0)
+    if hours > span_h + _SPAN_TOLERANCE_H:
+        raise InputError(f"{where}, fields in_transit_h and baseline_h: expected together at most the visit's "
+                         f"{span_h:.3f} h, got {hours:.3f} h")
+
+
+def _blank_to_none(value):
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        return None
+    if isinstance(value, str) and not value.strip():
+        return None
+    return value
+
+
+def _problem(where: str, field: str, expected: str, value) -> InputError:
+    got = "nothing" if value is None else repr(value)
+    return InputError(f"{where}, field {field}: expected {expected}, got {got}")
+
+
+def _name(where: str, field: str, value) -> str:
+    if not isinstance(value, str):
+        raise _problem(where, field, "a name", value)
+    return value.strip()
+
+
+def _as_float(value) -> float:
+    """The value as a finite float, or NaN when it is not a number (booleans are not)."""
+    if isinstance(value, bool):
+        return math.nan
+    try:
+        number = float(value.strip()) if isinstance(value, str) else float(value)
+    except (TypeError, ValueError):
+        return math.nan
+    return number if math.isfinite(number) else math.nan
+
+
+def _epoch(where: str, value) -> int:
+    number = _as_float(value)
+    if math.isnan(number) or number != round(number):
+        raise _problem(where, "epoch", "a whole transit number", value)
+    return int(number)
+
+
+def _utc(where: str, field: str, value) -> str:
+    expected = f"an ISO 8601 UTC time ending in Z, like {_UTC_EXAMPLE}"
+    if not isinstance(value, str) or not value.strip().endswith("Z"):
+        raise _problem(where, field, expected, value)
+    try:
+        time = Time(value.strip()[:-1], format="isot", scale="utc", precision=0)
+    except ValueError:
+        raise _problem(where, field, expected, value) from None
+    return time.isot + "Z"
+
+
+def _choice(where: str, field: str, value, choices) -> str:
+    text = value.strip() if isinstance(value, str) else value
+    if text not in choices:
+        raise _problem(where, field, f"one of {', '.join(choices)}", value)
+    return text
+
+
+def _number(where: str, field: str, value, expected: str, acceptable) -> float | None:
+    if value is None:
+        return None
+    number = _as_float(value)
+    if math.isnan(number) or not acceptable(number):
+        raise _problem(where, field, expected, value)
+    return number

@@ -1,0 +1,178 @@
+"""When a target's ephemeris goes stale, and how far one new timing refreshes it.
+
+A linear ephemeris predicts transit n (counted from T0) with the 1-sigma uncertainty
+    sigma_T(n)^2 = sigma_T0^2 + n^2 sigma_P^2 + 2 n cov(T0, P)
+(standard first-order error propagation; vigil.ephemeris.mid_sigma_d). Windows are padded by
+K sigma_T(n) (visibility.Constraints.sigma_k). The ephemeris is stale from the first transit
+whose padded uncertainty K sigma_T(n) exceeds a limit, either
+  - a fraction of the transit duration, by default DURATION_FRACTION = 0.25 (a planning choice:
+    past it, a K-sigma timing error moves a quarter of the transit out of a window centred on
+    the prediction), or
+  - the out-of-transit baseline wanted on each side (hours).
+K and the baseline default to those of the window padding (visibility.Constraints).
+
+Times are BJD_TDB (days); each stale date is also given as an astropy Time in TDB.
+"""
+
+from __future__ import annotations
+
+import math
+import numbers
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+from astropy.time import Time
+
+from vigil.ephemeris import mid_sigma_d
+from vigil.errors import InputError
+from vigil.visibility import Constraints
+
+DURATION_FRACTION = 0.25
+DEFAULT_SIGMA_K = Constraints.sigma_k
+DEFAULT_BASELINE_H = Constraints.baseline_h
+HOURS_PER_DAY = 24.0
+# Past 2^52 consecutive whole numbers are no longer all floats; there the root is final.
+_WHOLE_FLOAT_LIMIT = 2.0**52
+STALENESS_INPUTS = ("name", "t0_bjd_tdb", "t0_err_d", "period_d", "period_err_d", "duration_h")
+
+
+def first_stale_epoch(limit_d: float, t0_err_d: float, period_err_d: float, cov_d2: float = 0.0,
+                      sigma_k: float = DEFAULT_SIGMA_K, from_epoch: int = 0) -> float:
+    """First whole epoch n >= from_epoch with K sigma_T(n) > limit_d (days); inf when there is none.
+
+    Closed form: K sigma_T(n) > L  <=>  q(n) = sigma_P^2 n^2 + 2 cov n + sigma_T0^2 - (L/K)^2 > 0.
+    If q(from_epoch) > 0 the ephemeris is stale already. Otherwise from_epoch lies between the
+    roots of q, and the answer is the first whole number past the larger root; with sigma_P = 0
+    and cov <= 0, q never becomes positive (never stale).
+    """
+    _check_positive("limit_d", limit_d, "days")
+    _check_positive("sigma_k", sigma_k, "(a multiple of sigma)")
+
+    def stale(n: float) -> bool:
+        return bool(sigma_k * mid_sigma_d(n, t0_err_d, period_err_d, cov_d2) > limit_d)
+
+    start = float(from_epoch)
+    if stale(start):
+        return start
+    root = _larger_root(period_err_d**2, 2.0 * cov_d2, t0_err_d**2 - (limit_d / sigma_k) ** 2)
+    if not math.isfinite(root):
+        return math.inf
+    epoch = max(start, math.floor(root) + 1.0)
+    if epoch >= _WHOLE_FLOAT_LIMIT:
+        return epoch
+    # A root computed in floating point can sit a hair off a whole number: settle that one
+    # step with the same expression that defines staleness.
+    if epoch - 1.0 > start and stale(epoch - 1.0):
+        return epoch - 1.0
+    return epoch if stale(epoch) else epoch + 1.0
+
+
+def _larger_root(a: float, b: float, c: float) -> float:
+    """Larger real root of a n^2 + b n + c (a >= 0) where the polynomial is <= 0 somewhere; inf
+    when it stays <= 0 for ever. Uses the cancellation-free form of the quadratic formula."""
+    if a == 0.0:
+        return -c / b if b > 0 else math.inf
+    q = -0.5 * (b + math.copysign(math.sqrt(max(b * b - 4.0 * a * c, 0.0)), b))
+    if q == 0.0:
+        return 0.0
+    return max(q / a, c / q)
+
+
+@dataclass(frozen=True)
+class StaleDate:
+    """The first stale transit: epoch (from T0), mid-time BJD_TDB (d), the same as a TDB Time.
+
+    When the ephemeris never goes stale, epoch and bjd_tdb are inf and time is None.
+    """
+
+    epoch: float
+    bjd_tdb: float
+    time: Time | None
+
+
+def stale_date(t0_bjd_tdb: float, period_d: float, limit_d: float, t0_err_d: float, period_err_d: float,
+               cov_d2: float = 0.0, sigma_k: float = DEFAULT_SIGMA_K, after: Time | None = None) -> StaleDate:
+    """The first transit at or after `after` (default: T0) whose K sigma_T exceeds limit_d (days)."""
+    from_epoch = 0 if after is None else math.ceil((after.tdb.jd - t0_bjd_tdb) / period_d)
+    epoch = first_stale_epoch(limit_d, t0_err_d, period_err_d, cov_d2, sigma_k, from_epoch)
+    if not math.isfinite(epoch):
+        return StaleDate(math.inf, math.inf, None)
+    bjd = t0_bjd_tdb + epoch * period_d
+    return StaleDate(epoch, bjd, Time(bjd, format="jd", scale="tdb"))
+
+
+def staleness(targets: pd.DataFrame, duration_fraction: float = DURATION_FRACTION,
+              baseline_h: float = DEFAULT_BASELINE_H, sigma_k: float = DEFAULT_SIGMA_K,
+              after: Time | None = None) -> pd.DataFrame:
+    """Per target, when K sigma_T first exceeds duration_fraction x duration and when it exceeds baseline_h.
+
+    targets: name, t0_bjd_tdb, t0_err_d, period_d, period_err_d, duration_h, optional
+    t0_period_cov_d2 (0 when absent). Counts transits from `after` (a Time; default each T0).
+    Columns: name, duration_limit_h, stale_by_duration_epoch, stale_by_duration_bjd_tdb,
+    stale_by_duration_time, baseline_h, stale_by_baseline_epoch, stale_by_baseline_bjd_tdb,
+    stale_by_baseline_time (epochs and BJD_TDB inf, times None, when never stale).
+    """
+    missing = [c for c in STALENESS_INPUTS if c not in targets.columns]
+    if missing:
+        raise InputError(f"targets: missing column(s) {', '.join(missing)} needed for staleness")
+    _check_positive("duration_fraction", duration_fraction, "(a fraction of the transit duration)")
+    _check_positive("baseline_h", baseline_h, "hours")
+    rows = []
+    for row in targets.to_dict("records"):
+        cov = row.get("t0_period_cov_d2", 0.0)
+        ephemeris = (row["t0_err_d"], row["period_err_d"], 0.0 if pd.isna(cov) else cov, sigma_k, after)
+        limit_h = duration_fraction * row["duration_h"]
+        by_duration = stale_date(row["t0_bjd_tdb"], row["period_d"], limit_h / HOURS_PER_DAY, *ephemeris)
+        by_baseline = stale_date(row["t0_bjd_tdb"], row["period_d"], baseline_h / HOURS_PER_DAY, *ephemeris)
+        rows.append({"name": row["name"], "duration_limit_h": limit_h,
+                     **_flat("stale_by_duration", by_duration), "baseline_h": baseline_h,
+                     **_flat("stale_by_baseline", by_baseline)})
+    return pd.DataFrame(rows)
+
+
+def _flat(prefix: str, date: StaleDate) -> dict:
+    return {f"{prefix}_epoch": date.epoch, f"{prefix}_bjd_tdb": date.bjd_tdb, f"{prefix}_time": date.time}
+
+
+@dataclass(frozen=True)
+class EphemerisSigma:
+    """Uncertainty of a linear ephemeris: sigma_T0 (d), sigma_P (d), cov(T0, P) (d^2)."""
+
+    t0_err_d: float
+    period_err_d: float
+    t0_period_cov_d2: float
+
+
+def refresh_sigma(t0_err_d: float, period_err_d: float, cov_d2: float, epoch: int, timing_err_d: float) -> EphemerisSigma:
+    """The ephemeris uncertainty once one more mid-time, of 1-sigma timing_err_d (d), is measured at `epoch`.
+
+    Derivation. A timing at epoch n measures t = T0 + n P + e with e ~ N(0, s^2), that is
+    t = a^T theta + e with a = (1, n) and theta = (T0, P). In weighted least squares the
+    information matrix (inverse covariance) of theta is the sum of a_i a_i^T / s_i^2 over the
+    timings, so one more timing adds a a^T / s^2:
+        C_new = (C^-1 + a a^T / s^2)^-1,   C = [[sigma_T0^2, cov], [cov, sigma_P^2]].
+    This is exact when the current ephemeris is itself such a fit (or a Gaussian prior). By the
+    Sherman-Morrison identity, with u = C a,
+        C_new = C - u u^T / (s^2 + a^T C a),
+    which needs no inverse of C (so sigma_P = 0 is fine). For any epoch m, with b = (1, m),
+        sigma_new(m)^2 = b^T C_new b = sigma_T(m)^2 - (b^T C a)^2 / (s^2 + sigma_T(n)^2) <= sigma_T(m)^2,
+    so a refresh never widens a prediction; at m = n it is the inverse-variance combination
+    sigma_T(n)^2 s^2 / (sigma_T(n)^2 + s^2). Before the timing is made its value is unknown and
+    the expected T0 and P are unchanged, so only the uncertainty is returned, with T0 at the same
+    reference epoch as before.
+    """
+    _check_positive("timing_err_d", timing_err_d, "days")
+    if isinstance(epoch, bool) or not float(epoch).is_integer():
+        raise InputError(f"epoch: expected a whole transit number, got {epoch!r}")
+    covariance = np.array([[t0_err_d**2, cov_d2], [cov_d2, period_err_d**2]], dtype=float)
+    a = np.array([1.0, float(epoch)])
+    u = covariance @ a
+    refreshed = covariance - np.outer(u, u) / (timing_err_d**2 + a @ u)
+    return EphemerisSigma(float(math.sqrt(max(refreshed[0, 0], 0.0))), float(math.sqrt(max(refreshed[1, 1], 0.0))),
+                          float(refreshed[0, 1]))
+
+
+def _check_positive(name: str, value, unit: str) -> None:
+    if isinstance(value, bool) or not isinstance(value, numbers.Real) or not math.isfinite(value) or value <= 0:
+        raise InputError(f"{name}: expected a positive number {unit}, got {value!r}")
