@@ -30,6 +30,7 @@ TRANSIT_COLUMNS = {
     "egress_jd_utc": "fourth contact at the site, JD in UTC",
     "window_start_jd_utc": "ingress minus baseline minus K sigma, JD in UTC",
     "window_end_jd_utc": "egress plus baseline plus K sigma, JD in UTC",
+    "stale": "K sigma exceeds a quarter of the duration or the baseline: refresh the ephemeris",
 }
 
 # windows table (visibility adds these)

@@ -26,9 +26,9 @@ from astropy.time import Time
 
 from vigil.ephemeris import mid_sigma_d
 from vigil.errors import InputError
-from vigil.visibility import Constraints
+from vigil.visibility import STALE_DURATION_FRACTION, Constraints
 
-DURATION_FRACTION = 0.25
+DURATION_FRACTION = STALE_DURATION_FRACTION
 DEFAULT_SIGMA_K = Constraints.sigma_k
 DEFAULT_BASELINE_H = Constraints.baseline_h
 HOURS_PER_DAY = 24.0
