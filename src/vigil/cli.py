@@ -2,73 +2,37 @@
 
 from __future__ import annotations
 
-import logging
 import sys
-from contextlib import contextmanager
 from importlib import resources
 from pathlib import Path
 from typing import Optional
 
 import typer
 from astropy.time import Time
-from rich.console import Console
 from rich.table import Table
 
-from vigil import catalog
+from vigil import catalog, pipeline
+from vigil.campaign_spec import read_campaign
+from vigil.cli_support import err, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
-from vigil.export.table import iso_utc, write_csv
-from vigil.export.windows_csv import write_windows_csv
-from vigil.windows import plan_windows
-from vigil import pipeline
-from vigil.campaign_spec import read_campaign
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.plots import hours_plot, resolution_plot
+from vigil.export.table import iso_utc, write_csv
+from vigil.export.windows_csv import write_windows_csv
+from vigil.journal_cli import journal_app
+from vigil.windows import plan_windows
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
                        "how uncertain their times are, what a multi-year campaign collects and when the stacked "
                        "spectrum reaches your goal. Angles are in degrees, durations in hours, dates and times in "
                        "UTC (mid-times also in BJD_TDB); site longitudes are east positive.",
                   no_args_is_help=True, add_completion=False, rich_markup_mode=None)
-err = Console(stderr=True)
-out = Console()
-log = logging.getLogger("vigil")
-
-
-class _Notes(logging.Handler):
-    def emit(self, record):
-        level = "warning" if record.levelno >= logging.WARNING else "note"
-        err.print(f"vigil: {level}: {record.getMessage()}", highlight=False, soft_wrap=True, markup=False)
-
-
-def _setup_logging() -> None:
-    if not any(isinstance(h, _Notes) for h in log.handlers):
-        log.addHandler(_Notes())
-    log.setLevel(logging.INFO)
-    log.propagate = False
-
-
-@contextmanager
-def _user_errors():
-    """Turn InputError into one line on stderr and exit status 2."""
-    try:
-        yield
-    except InputError as exc:
-        err.print(f"vigil: error: {exc}", highlight=False, soft_wrap=True, markup=False)
-        raise typer.Exit(2) from None
-
-
 def _parse_date(text: str, option: str) -> Time:
     try:
         return Time(text, scale="utc")
     except ValueError:
         raise InputError(f"{option}: expected a UTC date such as 2027-01-01 or 2027-01-01T18:00, got {text!r}") from None
-
-
-def _refuse_overwrite(paths, force: bool) -> None:
-    for path in paths:
-        if path is not None and path.exists() and not force:
-            raise InputError(f"{path} exists; pass --force to replace it")
 
 
 def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dict:
@@ -148,11 +112,11 @@ def windows(
     Site defaults in the TOML apply where an option is not given. Times are UTC; mid-times
     also in BJD_TDB. Longitudes in the sites file are east positive.
     """
-    _setup_logging()
+    setup_logging()
     overrides = {"min_altitude_deg": min_altitude, "twilight": twilight, "baseline_h": baseline,
                  "sigma_k": sigma, "moon_sep_deg": moon_sep}
-    with _user_errors():
-        _refuse_overwrite((csv_path, ics_path), force)
+    with user_errors():
+        refuse_overwrite((csv_path, ics_path), force)
         result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
                               _engine(exact), event, local_time)
     _print_summary(result, f"Transit windows {start} to {end}")
@@ -171,8 +135,8 @@ def demo(
     out_dir: Path = typer.Option(Path("vigil-demo"), "--out", metavar="DIR", help="Folder for the demo's outputs (vigil's own; files in it are replaced)."),
 ):
     """Run vigil on its embedded invented scenario: windows for 2027 at three sites, then a 30-year campaign."""
-    _setup_logging()
-    with _user_errors():
+    setup_logging()
+    with user_errors():
         out_dir.mkdir(parents=True, exist_ok=True)
         result = _run_windows(demo_file("targets.csv"), demo_file("sites.toml"), None, "2027-01-01", "2028-01-01", {},
                               False, out_dir / "windows.csv", out_dir / "windows.ics")
@@ -253,9 +217,9 @@ def campaign_command(
     Writes summary.csv, forecast.csv (per target and campaign year), ledger.csv (visits of one
     simulated campaign with their weather), resolution.png and hours.png.
     """
-    _setup_logging()
-    with _user_errors():
-        _refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
+    setup_logging()
+    with user_errors():
+        refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
         spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact))
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
@@ -281,11 +245,11 @@ def refit(
     """
     from vigil.refit import plot_o_minus_c, refit_targets
 
-    _setup_logging()
+    setup_logging()
     oc_path = out_path.with_name(out_path.stem + "_o_minus_c.csv")
     plot_path = oc_path.with_suffix(".png")
-    with _user_errors():
-        _refuse_overwrite((out_path, oc_path, plot_path), force)
+    with user_errors():
+        refuse_overwrite((out_path, oc_path, plot_path), force)
         timings = catalog.read_timings(timings_file)
         targets = catalog.read_targets(targets_file) if targets_file is not None else None
         refitted, o_minus_c = refit_targets(timings, targets)
@@ -298,6 +262,9 @@ def refit(
                   f"{row.t0_err_d * 1440:.2f} min (BJD_TDB), reduced chi2 {row.reduced_chi2:.2f}, "
                   f"{row.n_timings} timings, {row.n_outliers} flagged")
     out.print(f"wrote {out_path}, {oc_path}, {plot_path}")
+
+
+app.add_typer(journal_app, name="journal")
 
 
 def main() -> None:  # pragma: no cover - console entry point

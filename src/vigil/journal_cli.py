@@ -1,0 +1,75 @@
+"""`vigil journal ...`: record planned and executed visits in a campaign journal (SQLite)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Optional
+
+import typer
+
+from vigil.cli_support import refuse_overwrite, user_errors
+from vigil.journal import open_journal
+
+journal_app = typer.Typer(help="Keep a campaign journal (one SQLite file): planned and executed visits, their "
+                               "outcome, measured mid-times (BJD_TDB, days) and hours collected.",
+                          no_args_is_help=True, rich_markup_mode=None)
+JOURNAL_ARG = typer.Argument(..., metavar="JOURNAL.db", help="Journal file (created when missing).")
+
+
+@journal_app.command("add")
+def add(
+    journal_file: Path = JOURNAL_ARG,
+    target: str = typer.Option(..., "--target", metavar="NAME", help="Target name."),
+    site: str = typer.Option(..., "--site", metavar="NAME", help="Site name."),
+    epoch: int = typer.Option(..., "--epoch", metavar="N", help="Transit number counted from the targets file's t0."),
+    start: str = typer.Option(..., "--start", metavar="UTC", help="Visit start, ISO 8601 UTC ending in Z."),
+    end: str = typer.Option(..., "--end", metavar="UTC", help="Visit end, ISO 8601 UTC ending in Z."),
+    status: str = typer.Option("executed", "--status", metavar="KIND", help="planned or executed [default executed]."),
+    outcome: Optional[str] = typer.Option(None, "--outcome", metavar="KIND",
+                                          help="clear, partial, weather or technical (executed visits only)."),
+    mid_bjd_tdb: Optional[float] = typer.Option(None, "--mid-bjd-tdb", metavar="JD", help="Measured mid-transit time, BJD_TDB."),
+    mid_err_d: Optional[float] = typer.Option(None, "--mid-err-d", metavar="DAYS", help="1-sigma error of that time, days."),
+    in_transit_h: Optional[float] = typer.Option(None, "--in-transit-h", metavar="HOURS", help="In-transit hours collected."),
+    baseline_h: Optional[float] = typer.Option(None, "--baseline-h", metavar="HOURS", help="Out-of-transit hours collected."),
+    notes: str = typer.Option("", "--notes", metavar="TEXT", help="Free text."),
+):
+    """Add one visit to the journal."""
+    entry = {"target": target, "site": site, "epoch": epoch, "start_utc": start, "end_utc": end, "status": status,
+             "outcome": outcome, "mid_bjd_tdb": mid_bjd_tdb, "mid_err_d": mid_err_d, "in_transit_h": in_transit_h,
+             "baseline_h": baseline_h, "notes": notes}
+    with user_errors(), open_journal(journal_file) as journal:
+        journal.add(entry)
+    typer.echo(f"added {status} visit of {target} at {site}, epoch {epoch}")
+
+
+@journal_app.command("list")
+def list_entries(
+    journal_file: Path = JOURNAL_ARG,
+    target: Optional[str] = typer.Option(None, "--target", metavar="NAME", help="Only this target."),
+    status: Optional[str] = typer.Option(None, "--status", metavar="KIND", help="Only planned or executed visits."),
+):
+    """Print the journal's visits (times UTC)."""
+    with user_errors(), open_journal(journal_file) as journal:
+        table = journal.entries(target=target, status=status)
+    typer.echo(table.to_string(index=False) if len(table) else "no visits recorded")
+
+
+@journal_app.command("import")
+def import_csv(journal_file: Path = JOURNAL_ARG,
+               csv_file: Path = typer.Argument(..., metavar="VISITS.csv", help="CSV with the journal's columns.")):
+    """Add every row of a CSV, all or none: a bad row leaves the journal as it was."""
+    with user_errors(), open_journal(journal_file) as journal:
+        count = journal.import_csv(csv_file)
+    typer.echo(f"imported {count} visits")
+
+
+@journal_app.command("export")
+def export_csv(journal_file: Path = JOURNAL_ARG,
+               csv_file: Path = typer.Argument(..., metavar="VISITS.csv", help="Where to write the CSV."),
+               force: bool = typer.Option(False, "--force", help="Replace an existing CSV (otherwise vigil refuses).")):
+    """Write the whole journal as CSV (spreadsheet-safe text)."""
+    with user_errors():
+        refuse_overwrite([csv_file], force)
+        with open_journal(journal_file) as journal:
+            journal.export_csv(csv_file)
+    typer.echo(f"wrote {csv_file}")
