@@ -36,12 +36,17 @@ def snr2_per_hour(body: Body, spec: CampaignSpec) -> float:
 
 
 def stacked_hours(visits: pd.DataFrame, clear: np.ndarray, target: str):
-    """(end_jd_utc of the target's visits, cumulative in-transit and baseline hours (trials, visits))."""
-    mask = (visits["target"] == target).to_numpy()
-    got = clear[:, mask]
-    hours_in = np.cumsum(got * visits["in_transit_h"].to_numpy()[mask], axis=1)
-    hours_out = np.cumsum(got * visits["baseline_h"].to_numpy()[mask], axis=1)
-    return visits["end_jd_utc"].to_numpy()[mask], hours_in, hours_out
+    """(end_jd_utc of the target's visits in end order, cumulative in-transit and baseline hours
+    (trials, visits)). A visit's hours count from its end; visits at different sites can end
+    in another order than they start."""
+    rows = np.flatnonzero((visits["target"] == target).to_numpy())
+    end_jd = visits["end_jd_utc"].to_numpy()[rows]
+    order = np.argsort(end_jd, kind="stable")
+    rows, end_jd = rows[order], end_jd[order]
+    got = clear[:, rows]
+    hours_in = np.cumsum(got * visits["in_transit_h"].to_numpy()[rows], axis=1)
+    hours_out = np.cumsum(got * visits["baseline_h"].to_numpy()[rows], axis=1)
+    return end_jd, hours_in, hours_out
 
 
 def _years_to_goal(body: Body, spec: CampaignSpec, end_jd, hours_in, hours_out) -> np.ndarray:

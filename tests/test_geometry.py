@@ -1,0 +1,89 @@
+"""Tests of the transit geometry: total duration (Winn 2010, eq. 14) and a/R* from Kepler's law."""
+
+import math
+
+import numpy as np
+import pytest
+
+import vigil  # noqa: F401  (configures astropy offline before astropy is used)
+from vigil import geometry
+from vigil.errors import InputError
+
+# Earth and Sun: P = 365.256 d, a/R* = 215.03, k = R_earth/R_sun = 0.00917 (REFERENCES.md).
+EARTH_PERIOD_D = 365.256
+EARTH_A_OVER_RSUN = 215.03
+EARTH_K = 0.00917
+# IAU 2015 Resolution B3 nominal values (from memory): GM_sun (m^3 s^-2), R_sun (m).
+GM_SUN_M3_S2 = 1.3271244e20
+R_SUN_M = 6.957e8
+# Earth's sidereal year, days (from memory).
+SIDEREAL_YEAR_D = 365.256363
+
+
+def test_earth_central_crossing_lasts_13_1_hours():
+    # Winn 2010, "Transits and Occultations", eq. 14; Earth crossing the Sun centrally: T14 ~ 13.1 h.
+    duration_h = geometry.transit_duration_h(EARTH_PERIOD_D, EARTH_A_OVER_RSUN, EARTH_K, 0.0)
+    assert duration_h == pytest.approx(13.1, abs=0.05)
+
+
+def test_central_crossing_matches_the_chord_over_the_orbital_speed():
+    # Small-angle limit of Winn 2010 eq. 14 at b = 0: T14 ~ P (1 + k) / (pi a/R*), the stellar
+    # diameter plus planet diameter crossed at the orbital speed 2 pi a / P (common practice, no source).
+    approx_h = EARTH_PERIOD_D * (1 + EARTH_K) / (math.pi * EARTH_A_OVER_RSUN) * 24.0
+    exact_h = geometry.transit_duration_h(EARTH_PERIOD_D, EARTH_A_OVER_RSUN, EARTH_K)
+    assert exact_h == pytest.approx(approx_h, rel=1e-4)
+
+
+def test_earth_like_transits_last_10_to_13_hours_for_modest_impact_parameters():
+    # An Earth-like planet around a Sun-like star transits for roughly 10-13 h, the upper end a
+    # central crossing (REFERENCES.md: fact of the trade). Vectorised over b.
+    b = np.linspace(0.0, 0.6, 13)
+    durations_h = geometry.transit_duration_h(EARTH_PERIOD_D, EARTH_A_OVER_RSUN, EARTH_K, b)
+    assert durations_h.shape == b.shape
+    assert np.all((durations_h >= 10.0) & (durations_h <= 13.2))
+    assert np.all(np.diff(durations_h) < 0)  # a longer chord near the centre (geometry, no source)
+
+
+def test_grazing_limit_shrinks_to_zero_and_beyond_it_no_transit():
+    # Winn 2010 eq. 14: the chord sqrt((1+k)^2 - b^2) vanishes at b = 1 + k; beyond it no transit.
+    near_edge_h = geometry.transit_duration_h(3.0, 10.0, 0.1, 1.1 - 1e-9)
+    assert 0 < near_edge_h < 0.01
+    with pytest.raises(InputError, match="impact_parameter"):
+        geometry.transit_duration_h(3.0, 10.0, 0.1, 1.1)
+    with pytest.raises(InputError, match="impact_parameter"):
+        geometry.transit_duration_h(3.0, 10.0, 0.1, np.array([0.2, 1.5]))
+
+
+def test_duration_scales_with_period_at_fixed_geometry():
+    # Winn 2010 eq. 14: at fixed a/R*, k and b the duration is proportional to P.
+    one = geometry.transit_duration_h(2.0, 8.0, 0.12, 0.4)
+    three = geometry.transit_duration_h(6.0, 8.0, 0.12, 0.4)
+    assert three == pytest.approx(3.0 * one, rel=1e-12)
+
+
+@pytest.mark.parametrize("changes", [{"period_d": -1.0}, {"a_over_rstar": 1.05}, {"radius_ratio": 0.0},
+                                     {"impact_parameter": -0.1}, {"period_d": float("nan")}])
+def test_bad_input_raises_input_error(changes):
+    arguments = {"period_d": 3.0, "a_over_rstar": 10.0, "radius_ratio": 0.1, "impact_parameter": 0.0, **changes}
+    with pytest.raises(InputError):
+        geometry.transit_duration_h(**arguments)
+
+
+def test_kepler_third_law_gives_215_for_the_earth():
+    # IAU nominal solar mass and radius; Earth's sidereal year: a/R* ~ 215 (REFERENCES.md, 1 au / R_sun).
+    a_over_rstar = geometry.a_over_rstar_from_mass_radius(SIDEREAL_YEAR_D, 1.0, 1.0)
+    independent = (GM_SUN_M3_S2 * (SIDEREAL_YEAR_D * 86400.0) ** 2 / (4 * math.pi**2)) ** (1 / 3) / R_SUN_M
+    assert a_over_rstar == pytest.approx(215.03, rel=2e-4)
+    assert a_over_rstar == pytest.approx(independent, rel=1e-6)
+
+
+def test_density_and_mass_radius_forms_agree():
+    # Kepler's third law with rho* = M* / (4/3 pi R*^3): both forms give the same a/R*
+    # (algebra, no source). Invented star: 0.8 M_sun, 0.75 R_sun, periods 1-30 d.
+    period_d = np.array([1.0, 4.5, 30.0])
+    mass_kg = 0.8 * GM_SUN_M3_S2 / 6.6743e-11  # CODATA 2018 G (from memory)
+    density = mass_kg / (4 / 3 * math.pi * (0.75 * R_SUN_M) ** 3)
+    by_mass = geometry.a_over_rstar_from_mass_radius(period_d, 0.8, 0.75)
+    by_density = geometry.a_over_rstar_from_density(period_d, density)
+    assert by_density == pytest.approx(by_mass, rel=1e-4)
+    assert by_mass == pytest.approx(by_mass[0] * period_d ** (2 / 3), rel=1e-12)  # a ∝ P^(2/3)
