@@ -197,7 +197,7 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
         result = pipeline.run_campaign(spec, targets, sites, engine=engine,
                                        on_progress=lambda n: progress.advance(task, n))
     paths = write_campaign_csvs(result, out_dir)
-    resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.ymdhms["year"] + spec.horizon_years,
+    resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")
     hours_plot(result.yearly, out_dir / "hours.png")
     return spec, result, [*paths, out_dir / "resolution.png", out_dir / "hours.png"]

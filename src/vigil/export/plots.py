@@ -18,19 +18,21 @@ def _save(figure: Figure, path) -> None:
     write_atomic(path, buffer.getvalue())
 
 
-def resolution_plot(yearly: pd.DataFrame, goal_resolution: float, horizon_end_year: float, path) -> None:
-    """Achievable resolution at the goal SNR against calendar year, median with 10-90 % band."""
+def resolution_plot(yearly: pd.DataFrame, goal_resolution: float, start_year: float, horizon_years: float, path) -> None:
+    """Achievable resolution at the goal SNR at the end of each campaign year (decimal year from
+    the start's `start_year`), median with the 10-90 % band of trials, goal and horizon marked."""
     figure = Figure(figsize=(8, 5))
     axes = figure.add_subplot()
     for target, table in yearly.groupby("target", sort=False):
-        line, = axes.plot(table["calendar_year"], table["resolution_at_goal_snr_p50"], label=target)
-        axes.fill_between(table["calendar_year"], table["resolution_at_goal_snr_p10"],
+        year_end = start_year + table["campaign_year"]
+        line, = axes.plot(year_end, table["resolution_at_goal_snr_p50"], label=target)
+        axes.fill_between(year_end, table["resolution_at_goal_snr_p10"],
                           table["resolution_at_goal_snr_p90"], color=line.get_color(), alpha=0.15, linewidth=0)
     axes.axhline(goal_resolution, color="black", linestyle="--", linewidth=1, label=f"goal R = {goal_resolution:g}")
-    axes.axvline(horizon_end_year, color="grey", linestyle=":", linewidth=1, label="horizon")
+    axes.axvline(start_year + horizon_years, color="grey", linestyle=":", linewidth=1, label="horizon")
     axes.set_yscale("symlog", linthresh=1.0)  # logarithmic, but 0 (goal out of reach) stays on the plot
     axes.set_ylim(bottom=0.0)
-    axes.set_xlabel("calendar year (end of campaign year)")
+    axes.set_xlabel("year (end of each campaign year)")
     axes.set_ylabel("achievable resolution λ/Δλ at the goal SNR")
     axes.set_title("Stacked transmission spectrum: resolution reached (median, 10–90 % of trials)")
     axes.legend(fontsize=7, ncol=2)
