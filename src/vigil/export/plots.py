@@ -11,7 +11,13 @@ from matplotlib.figure import Figure
 from vigil.export.files import write_atomic
 
 
-def _save(figure: Figure, path) -> None:
+def _save(figure: Figure, axes, xlabel: str, ylabel: str, title: str, path) -> None:
+    """Label, add legend and grid, and write the figure as PNG (atomic, no timestamp metadata)."""
+    axes.set_xlabel(xlabel)
+    axes.set_ylabel(ylabel)
+    axes.set_title(title)
+    axes.legend(fontsize=7, ncol=2)
+    axes.grid(alpha=0.3)
     FigureCanvasAgg(figure)
     buffer = io.BytesIO()
     figure.savefig(buffer, format="png", dpi=110, metadata={"Software": None})
@@ -32,12 +38,8 @@ def resolution_plot(yearly: pd.DataFrame, goal_resolution: float, start_year: fl
     axes.axvline(start_year + horizon_years, color="grey", linestyle=":", linewidth=1, label="horizon")
     axes.set_yscale("symlog", linthresh=1.0)  # logarithmic, but 0 (goal out of reach) stays on the plot
     axes.set_ylim(bottom=0.0)
-    axes.set_xlabel("year (end of each campaign year)")
-    axes.set_ylabel("achievable resolution λ/Δλ at the goal SNR")
-    axes.set_title("Stacked transmission spectrum: resolution reached (median, 10–90 % of trials)")
-    axes.legend(fontsize=7, ncol=2)
-    axes.grid(alpha=0.3)
-    _save(figure, path)
+    _save(figure, axes, "year (end of each campaign year)", "achievable resolution λ/Δλ at the goal SNR",
+          "Stacked transmission spectrum: resolution reached (median, 10–90 % of trials)", path)
 
 
 def hours_plot(yearly: pd.DataFrame, path) -> None:
@@ -47,9 +49,4 @@ def hours_plot(yearly: pd.DataFrame, path) -> None:
     for target, table in yearly.groupby("target", sort=False):
         per_year = table["in_transit_hours_p50"].diff().fillna(table["in_transit_hours_p50"])
         axes.step(table["calendar_year"], per_year, where="mid", label=target)
-    axes.set_xlabel("calendar year")
-    axes.set_ylabel("in-transit hours stacked that year (median)")
-    axes.set_title("In-transit hours per year")
-    axes.legend(fontsize=7, ncol=2)
-    axes.grid(alpha=0.3)
-    _save(figure, path)
+    _save(figure, axes, "calendar year", "in-transit hours stacked that year (median)", "In-transit hours per year", path)
