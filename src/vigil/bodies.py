@@ -16,6 +16,18 @@ from vigil import spectrum
 from vigil.errors import InputError
 
 REQUIRED = ("planet_radius_earth", "star_radius_sun", "star_teff_k")
+OPTIONAL = ("planet_mass_earth", "surface_gravity_m_s2", "teq_k", "a_over_rstar", "mu", "n_scale_heights",
+            "magnitude", "distance_pc")
+#: Every numeric physical column; catalog.read_targets checks them where they are filled in.
+NUMBER_COLUMNS = (*REQUIRED, *OPTIONAL, "priority")
+# The column behind each field name that spectrum.Planet and spectrum.Star report.
+_COLUMN_OF_FIELD = {
+    "planet radius_earth": "planet_radius_earth", "planet mass_earth": "planet_mass_earth",
+    "planet surface_gravity_m_s2": "surface_gravity_m_s2", "planet teq_k": "teq_k", "planet mu": "mu",
+    "planet a_over_rstar": "a_over_rstar", "planet n_scale_heights": "n_scale_heights",
+    "star radius_sun": "star_radius_sun", "star teff_k": "star_teff_k", "star band": "mag_band",
+    "star magnitude": "magnitude", "star distance_pc": "distance_pc",
+}
 
 
 def _optional(row: pd.Series, column: str, where: str):
@@ -33,11 +45,11 @@ def _optional(row: pd.Series, column: str, where: str):
 
 def target_bodies(row: pd.Series, where: str) -> tuple[spectrum.Planet, spectrum.Star]:
     """Planet and Star for one targets row; `where` names the file and line for errors."""
-    values = {c: _optional(row, c, where) for c in (*REQUIRED, "planet_mass_earth", "surface_gravity_m_s2", "teq_k",
-                                                   "a_over_rstar", "mu", "n_scale_heights", "magnitude", "distance_pc")}
+    values = {c: _optional(row, c, where) for c in (*REQUIRED, *OPTIONAL)}
     missing = [c for c in REQUIRED if values[c] is None]
     if missing:
-        raise InputError(f"{where}: target {row['name']!r} needs {', '.join(missing)} for a spectrum forecast")
+        raise InputError(f"{where}, field {missing[0]}: target {row['name']!r} needs {', '.join(missing)} "
+                         "(numbers, units as in the column names) for a spectrum forecast")
     band = str(row.get("mag_band", "")).strip() or None
     try:
         planet = spectrum.Planet(
@@ -48,7 +60,11 @@ def target_bodies(row: pd.Series, where: str) -> tuple[spectrum.Planet, spectrum
         star = spectrum.Star(radius_sun=values["star_radius_sun"], teff_k=values["star_teff_k"],
                              magnitude=values["magnitude"], band=band, distance_pc=values["distance_pc"])
     except InputError as exc:
-        raise InputError(f"{where}: target {row['name']!r}: {exc}") from None
+        field, _, problem = str(exc).partition(": ")
+        column = _COLUMN_OF_FIELD.get(field)
+        if column is None:
+            raise InputError(f"{where}: target {row['name']!r}: {exc}") from None
+        raise InputError(f"{where}, field {column}: target {row['name']!r}: {problem}") from None
     return planet, star
 
 

@@ -8,17 +8,19 @@ from __future__ import annotations
 
 import logging
 from dataclasses import dataclass, field
+from datetime import date, datetime, timezone
 from pathlib import Path
 
 from astropy.time import Time
 
-from vigil.catalog import _load_toml
+from vigil.catalog import CONSTRAINT_KEYS, _checked_constraints, _load_toml, _spelling_hint
 from vigil.errors import InputError
 from vigil.schema import COVERAGE_CLASSES
 from vigil.spectrum import Instrument
 
 log = logging.getLogger("vigil")
 MONTHS = 12
+FIRST_START_YEAR, LAST_START_YEAR = 1950, 2300
 KNOWN = {
     "campaign": {"start", "horizon_years", "targets", "sites_file", "sites", "trials", "seed", "coverage",
                  "min_fraction", "min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg"},
@@ -28,6 +30,8 @@ KNOWN = {
     "goal": {"resolution", "snr"},
     "weather": None,  # one key per site
 }
+REQUIRED_KEYS = {"start", "targets", "sites_file", "sites", "aperture_m", "throughput", "wavelength_min_um",
+                 "wavelength_max_um", "resolution", "snr"}
 
 
 @dataclass(frozen=True)
@@ -57,37 +61,60 @@ class CampaignSpec:
         return Time(self.start.jd + self.horizon_years * 365.25, format="jd", scale="utc")
 
 
-def _get(path: Path, table: dict, section: str, key: str, kind, low=None, high=None, default=...):
+def _expected(kind, low, high, unit: str) -> str:
+    words = {str: "text in quotes", int: "a whole number", list: "a list [...]"}.get(kind, "a number")
+    return f"{words} from {low:g} to {high:g}{unit}" if low is not None else words
+
+
+def _get(path: Path, table: dict, section: str, key: str, kind, low=None, high=None, default=..., unit: str = ""):
     if key not in table:
         if default is ...:
-            raise InputError(f"{path}: [{section}] {key}: required")
+            hint = _spelling_hint([key], set(table) - (KNOWN.get(section) or set()))
+            raise InputError(f"{path}: [{section}] {key}: required, {_expected(kind, low, high, unit)}{hint}")
         return default
     value = table[key]
     ok = isinstance(value, kind) and not isinstance(value, bool)
     if ok and low is not None and not low <= value <= high:
         ok = False
     if not ok:
-        expected = f"from {low:g} to {high:g}" if low is not None else kind.__name__ if isinstance(kind, type) else "a number"
-        raise InputError(f"{path}: [{section}] {key}: expected {expected}, got {value!r}")
+        raise InputError(f"{path}: [{section}] {key}: expected {_expected(kind, low, high, unit)}, got {value!r}")
     return value
 
 
-def _warn_unknown(path: Path, document: dict) -> None:
+def _table(path: Path, document: dict, section: str, required: bool = True) -> dict:
+    """The [section] table; a missing one is an error naming the keys it needs, unless optional."""
+    value = document.get(section)
+    if value is None and not required:
+        return {}
+    if value is None:
+        needed = [k for k in sorted(KNOWN[section]) if k in REQUIRED_KEYS]
+        raise InputError(f"{path}: [{section}] table missing; expected [{section}] {', '.join(needed)}")
+    if not isinstance(value, dict):
+        raise InputError(f"{path}: [{section}]: expected a table, got {value!r}")
+    return value
+
+
+def _warn_unknown(path: Path, document: dict, sites: tuple[str, ...]) -> None:
     for section, value in document.items():
         if section not in KNOWN:
-            log.warning("%s: unknown table [%s] ignored", path, section)
+            log.warning("%s: unknown table [%s] ignored%s", path, section, _spelling_hint([*KNOWN], [section]))
         elif KNOWN[section] is not None and isinstance(value, dict):
             for key in sorted(set(value) - KNOWN[section]):
                 log.warning("%s: [%s] unknown key %r ignored", path, section, key)
+    for site in document.get("weather", {}):
+        if site not in sites:
+            log.warning("%s: [weather.%s] ignored: %r is not in [campaign] sites", path, site, site)
 
 
 def _weather(path: Path, document: dict, sites: tuple[str, ...]) -> dict:
-    table = document.get("weather", {})
+    table = _table(path, document, "weather", required=False)
     fractions = {}
     for site in sites:
-        values = table.get(site, {}).get("clear_fraction") if isinstance(table.get(site), dict) else None
+        entry = table.get(site, {})
+        values = entry.get("clear_fraction") if isinstance(entry, dict) else None
         if values is None:
-            raise InputError(f"{path}: [weather.{site}] clear_fraction: required, 12 monthly fractions (Jan..Dec)")
+            hint = _spelling_hint(["clear_fraction"], entry) if isinstance(entry, dict) else ""
+            raise InputError(f"{path}: [weather.{site}] clear_fraction: required, 12 monthly fractions (Jan..Dec){hint}")
         if (not isinstance(values, list) or len(values) != MONTHS
                 or not all(isinstance(v, (int, float)) and not isinstance(v, bool) and 0 <= v <= 1 for v in values)):
             raise InputError(f"{path}: [weather.{site}] clear_fraction: expected 12 numbers from 0 to 1, got {values!r}")
@@ -99,50 +126,88 @@ def _instrument(path: Path, table: dict) -> Instrument:
     number = (int, float)
     try:
         return Instrument(
-            aperture_m=float(_get(path, table, "instrument", "aperture_m", number, 0.01, 100.0)),
+            aperture_m=float(_get(path, table, "instrument", "aperture_m", number, 0.01, 100.0, unit=" m")),
             central_obstruction=float(_get(path, table, "instrument", "central_obstruction", number, 0.0, 0.99, 0.0)),
             throughput=float(_get(path, table, "instrument", "throughput", number, 1e-6, 1.0)),
-            wavelength_min_um=float(_get(path, table, "instrument", "wavelength_min_um", number, 0.1, 30.0)),
-            wavelength_max_um=float(_get(path, table, "instrument", "wavelength_max_um", number, 0.1, 30.0)),
-            noise_floor_ppm=float(_get(path, table, "instrument", "noise_floor_ppm", number, 0.0, 1e5, 0.0)),
+            wavelength_min_um=float(_get(path, table, "instrument", "wavelength_min_um", number, 0.1, 30.0, unit=" um")),
+            wavelength_max_um=float(_get(path, table, "instrument", "wavelength_max_um", number, 0.1, 30.0, unit=" um")),
+            noise_floor_ppm=float(_get(path, table, "instrument", "noise_floor_ppm", number, 0.0, 1e5, 0.0, unit=" ppm")),
         )
     except InputError as exc:
         message = str(exc)
-        raise InputError(message if message.startswith(str(path)) else f"{path}: [instrument] {message}") from None
+        if message.startswith(str(path)):
+            raise
+        raise InputError(f"{path}: [instrument] {message.removeprefix('instrument ')}") from None
 
 
-def _start(path: Path, text) -> Time:
+def _start(path: Path, c: dict) -> Time:
+    """The campaign start (UTC) from a quoted date or a TOML date or date-time."""
+    expected = f"a UTC date from {FIRST_START_YEAR} to {LAST_START_YEAR} such as 2027-01-01"
+    if "start" not in c:
+        raise InputError(f"{path}: [campaign] start: required, {expected}")
+    value = c["start"]
+    if isinstance(value, datetime) and value.tzinfo is not None:
+        value = value.astimezone(timezone.utc).replace(tzinfo=None)
+    text = value.isoformat() if isinstance(value, date) else value
     try:
-        return Time(str(text), scale="utc")
+        start = Time(text, scale="utc") if isinstance(text, str) else None
     except ValueError:
-        raise InputError(f"{path}: [campaign] start: expected a UTC date such as 2027-01-01, got {text!r}") from None
+        start = None
+    if start is None or not FIRST_START_YEAR <= start.ymdhms["year"] <= LAST_START_YEAR:
+        raise InputError(f"{path}: [campaign] start: expected {expected}, got {c['start']!r}")
+    return start
+
+
+def _sites(path: Path, c: dict) -> tuple[str, ...]:
+    sites = _get(path, c, "campaign", "sites", list)
+    if not sites or not all(isinstance(s, str) for s in sites):
+        raise InputError(f"{path}: [campaign] sites: expected a list of site names, got {sites!r}")
+    twice = next((s for i, s in enumerate(sites) if s in sites[:i]), None)
+    if twice is not None:
+        raise InputError(f"{path}: [campaign] sites: {twice!r} is listed twice")
+    return tuple(sites)
+
+
+def _check_sites_known(path: Path, sites_file: Path, names: tuple[str, ...]) -> None:
+    """Name the [campaign] key when a site is missing from a readable sites file; problems of
+    the sites file itself are left to catalog.read_sites."""
+    try:
+        known = _load_toml(sites_file).get("sites")
+    except InputError:
+        return
+    if not isinstance(known, dict) or not known:
+        return
+    for name in names:
+        if name not in known:
+            raise InputError(f"{path}: [campaign] sites: {name!r} is not a site of {sites_file}; expected one of "
+                             f"{', '.join(known)}")
 
 
 def read_campaign(path: str | Path) -> CampaignSpec:
     """Read a campaign TOML file (see configs/campaign.example.toml for every key)."""
     path = Path(path)
     document = _load_toml(path)
-    _warn_unknown(path, document)
     c = document.get("campaign")
     if not isinstance(c, dict):
-        raise InputError(f"{path}: [campaign] table missing")
-    sites = tuple(_get(path, c, "campaign", "sites", list))
-    if not sites or not all(isinstance(s, str) for s in sites):
-        raise InputError(f"{path}: [campaign] sites: expected a list of site names, got {sites!r}")
+        raise InputError(f"{path}: [campaign] table missing; expected [campaign] start, targets, sites_file, sites")
+    sites = _sites(path, c)
     coverage = tuple(_get(path, c, "campaign", "coverage", list, default=["full"]))
     bad = [k for k in coverage if k not in COVERAGE_CLASSES[:-1]]
     if bad or not coverage:
         raise InputError(f"{path}: [campaign] coverage: expected some of full, ingress, egress, partial; got {coverage!r}")
-    allocation = document.get("allocation", {})
-    goal = document.get("goal", {})
-    return CampaignSpec(
-        start=_start(path, _get(path, c, "campaign", "start", str)),
-        horizon_years=float(_get(path, c, "campaign", "horizon_years", (int, float), 0.1, 200.0, 30)),
+    allocation = _table(path, document, "allocation", required=False)
+    goal = _table(path, document, "goal")
+    sites_file = path.parent / _get(path, c, "campaign", "sites_file", str)
+    _check_sites_known(path, sites_file, sites)
+    constraints = {k: c[k] for k in CONSTRAINT_KEYS if k in c}
+    spec = CampaignSpec(
+        start=_start(path, c),
+        horizon_years=float(_get(path, c, "campaign", "horizon_years", (int, float), 0.1, 200.0, 30, " years")),
         targets_file=path.parent / _get(path, c, "campaign", "targets", str),
-        sites_file=path.parent / _get(path, c, "campaign", "sites_file", str),
+        sites_file=sites_file,
         site_names=sites,
         clear_fraction=_weather(path, document, sites),
-        instrument=_instrument(path, document.get("instrument", {})),
+        instrument=_instrument(path, _table(path, document, "instrument")),
         goal_resolution=float(_get(path, goal, "goal", "resolution", (int, float), 1.0, 1e6)),
         goal_snr=float(_get(path, goal, "goal", "snr", (int, float), 0.1, 1e4)),
         trials=int(_get(path, c, "campaign", "trials", int, 1, 100_000, 200)),
@@ -151,6 +216,8 @@ def read_campaign(path: str | Path) -> CampaignSpec:
         min_fraction=float(_get(path, c, "campaign", "min_fraction", (int, float), 0.0, 1.0, 0.0)),
         per_target_per_semester=_get(path, allocation, "allocation", "per_target_per_semester", int, 0, 10_000, None),
         per_site_per_semester=_get(path, allocation, "allocation", "per_site_per_semester", int, 0, 100_000, None),
-        overhead_h=float(_get(path, allocation, "allocation", "overhead_h", (int, float), 0.0, 24.0, 0.0)),
-        constraints={k: c[k] for k in ("min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg") if k in c},
+        overhead_h=float(_get(path, allocation, "allocation", "overhead_h", (int, float), 0.0, 24.0, 0.0, " hours")),
+        constraints=_checked_constraints(f"{path}: [campaign]", constraints),
     )
+    _warn_unknown(path, document, sites)
+    return spec

@@ -1,28 +1,50 @@
-"""Read and validate the user's targets (CSV) and sites (TOML) into normalised tables and objects.
+"""Read and validate the user's targets and timings (CSV) and sites (TOML).
 
 Every problem is reported as one `InputError` line naming the file, the row (as the line
-number in the file) or TOML key, and the field, with what was expected.
+number in the file) or TOML key, and the field, with what was expected. Values that are
+plausible but odd are accepted with a warning on the "vigil" logger.
+
+CSV files are UTF-8, with or without a byte-order mark, comma-separated, with a point as the
+decimal mark; blank lines are skipped, and rows shorter than the header are padded with empty
+cells.
 """
 
 from __future__ import annotations
 
+import csv
+import difflib
+import io
 import logging
 import math
+import re
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
+import astropy.units as u
 import numpy as np
 import pandas as pd
 from astropy.coordinates import Angle
 
+from vigil import bodies
 from vigil.errors import InputError
+from vigil.visibility import Constraints
 
 log = logging.getLogger("vigil")
 
 REQUIRED_TARGET_FIELDS = ("name", "t0_bjd_tdb", "t0_err_d", "period_d", "period_err_d", "duration_h")
-# Full Julian dates of the telescope era; smaller values are MJD or truncated JDs.
+TIMING_FIELDS = ("target", "mid_bjd_tdb", "mid_err_d")
+# Full Julian dates of the telescope era (years 1858 to 2406); smaller values are MJDs or
+# truncated JDs, larger ones a unit or offset mistake.
 MIN_PLAUSIBLE_JD = 2_400_000.0
+MAX_PLAUSIBLE_JD = 2_600_000.0
+# Shorter periods than this are a unit mistake, and would ask for millions of transits.
+MIN_PERIOD_D = 0.05
+MAX_LINE_CHARS = 10_000
+# Thresholds of the warnings for plausible but odd values.
+ODD_PERIOD_ERR_FRACTION = 0.01
+LOW_ALTITUDE_LIMIT_DEG = 10.0
+HIGH_ELEVATION_M = 5000.0
 CONSTRAINT_KEYS = ("min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg")
 SITE_KEYS = {"latitude_deg", "longitude_deg", "elevation_m", "timezone", "pressure_hpa", "temperature_c",
              *CONSTRAINT_KEYS}
@@ -55,33 +77,131 @@ def _where(path: Path, line: int | None = None, key: str | None = None) -> str:
     return f"{path}: [{key}]" if key else str(path)
 
 
-def _read_csv(path: Path) -> pd.DataFrame:
+def _spelling_hint(wanted, found) -> str:
+    """' (is 'X' meant to be 'Y'?)' for the first wanted name with a near miss among `found`."""
+    found = list(found)
+    for name in wanted:
+        by_case = [f for f in found if f.lower() == name.lower()]
+        close = by_case or difflib.get_close_matches(name, found, n=1, cutoff=0.75)
+        if close:
+            return f" (is {close[0]!r} meant to be {name!r}?)"
+    return ""
+
+
+# --- text files ----------------------------------------------------------------------------
+
+_LINE_BREAK = re.compile(r"\r\n|\r|\n")
+_CONTROL_CHARACTER = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
+
+
+def _read_text(path: Path) -> str:
+    """The file's text: UTF-8, with or without a byte-order mark."""
     try:
         raw = path.read_bytes()
     except OSError as exc:
         raise InputError(f"{path}: cannot read file ({exc.strerror})") from None
     try:
-        text = raw.decode("utf-8-sig")
+        return raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
-        raise InputError(f"{path}: not UTF-8 text (bad byte at offset {exc.start})") from None
-    if not text.strip():
-        raise InputError(f"{path}: file is empty; expected a header line and one row per target")
-    from io import StringIO
+        line = raw[:exc.start].count(b"\n") + 1
+        raise InputError(f"{path}: line {line}: not UTF-8 text (byte 0x{raw[exc.start]:02X}); "
+                         "expected a file saved as UTF-8") from None
 
+
+def _check_plain_lines(path: Path, text: str, rows_are: str) -> None:
+    for number, line in enumerate(_LINE_BREAK.split(text), start=1):
+        if len(line) > MAX_LINE_CHARS:
+            raise InputError(f"{path}: line {number} is {len(line)} characters long; expected at most "
+                             f"{MAX_LINE_CHARS} per line of a table of {rows_are}s")
+        bad = _CONTROL_CHARACTER.search(line)
+        if bad:
+            raise InputError(f"{path}: line {number}: control character U+{ord(bad.group()):04X} at column "
+                             f"{bad.start() + 1}; expected plain text")
+
+
+def _records(path: Path, text: str) -> list[tuple[int, list[str]]]:
+    """(first line, stripped fields) of every record that is not blank."""
+    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
+    records, line = [], 1
     try:
-        table = pd.read_csv(StringIO(text), dtype=str, keep_default_na=False, skipinitialspace=True,
-                            skip_blank_lines=False)
-    except pd.errors.ParserError as exc:
-        raise InputError(f"{path}: not a valid comma-separated table ({exc})") from None
-    table.columns = [str(c).strip() for c in table.columns]
-    if len(table.columns) == 1 and ";" in table.columns[0]:
-        raise InputError(f"{path}: header uses ';' as delimiter; vigil expects comma-separated values")
-    # Blank lines are read as empty rows and dropped here, so that the index still counts
-    # file lines: row i is line i + 2.
-    table = table[(table != "").any(axis=1)]
-    if table.empty:
-        raise InputError(f"{path}: header only; expected one row per target below it")
-    return table
+        for fields in reader:
+            if any(f.strip() for f in fields):
+                records.append((line, [f.strip() for f in fields]))
+            line = reader.line_num + 1
+    except csv.Error as exc:
+        raise InputError(f"{path}: line {line}: not valid comma-separated values ({exc}); check the quotes") from None
+    return records
+
+
+def _check_header(path: Path, line: int, header: list[str]) -> None:
+    if len(header) == 1:
+        for mark, name in ((";", "semicolons"), ("\t", "tabs")):
+            if mark in header[0]:
+                raise InputError(f"{path}: line {line}: fields are separated by {name}; expected comma-separated "
+                                 "values with a point as the decimal mark (45.20, not 45,20)")
+    named = [h for h in header if h]
+    twice = next((h for i, h in enumerate(named) if h in named[:i]), None)
+    if twice is not None:
+        raise InputError(f"{path}: line {line}: column {twice!r} appears twice in the header")
+
+
+def _cells(path: Path, line: int, fields: list[str], header: list[str]) -> list[str]:
+    """The row's values for the named columns; short rows are padded with empty cells."""
+    if len(fields) > len(header) and any(fields[len(header):]):
+        raise InputError(f"{path}: line {line}: {len(fields)} fields but the header has {len(header)}; expected one "
+                         "value per column (a decimal comma such as 45,20 or an unquoted comma in a name splits "
+                         "a field: use points and quote such names)")
+    fields = (fields + [""] * len(header))[:len(header)]
+    stray = next((v for h, v in zip(header, fields) if not h and v), None)
+    if stray is not None:
+        raise InputError(f"{path}: line {line}: value {stray!r} sits under a column with no name in the header")
+    return [v for h, v in zip(header, fields) if h]
+
+
+def _read_csv(path: Path, rows_are: str) -> tuple[int, pd.DataFrame]:
+    """(header line, table of stripped text cells indexed by line number in the file)."""
+    text = _read_text(path)
+    _check_plain_lines(path, text, rows_are)
+    records = _records(path, text)
+    if not records:
+        raise InputError(f"{path}: file is empty; expected a header line and one row per {rows_are}")
+    (header_line, header), body = records[0], records[1:]
+    _check_header(path, header_line, header)
+    if not body:
+        raise InputError(f"{path}: header only; expected one row per {rows_are} below line {header_line}")
+    cells = [_cells(path, line, fields, header) for line, fields in body]
+    table = pd.DataFrame(cells, columns=[h for h in header if h], index=[line for line, _ in body], dtype=str)
+    return header_line, table
+
+
+def _other_time_column(columns, time_column: str) -> str | None:
+    """A column that holds the mid-times under another scale or format, e.g. t0_hjd_utc."""
+    prefix = time_column.split("_")[0]
+    for column in columns:
+        lowered = column.lower()
+        if lowered == prefix or (lowered.startswith(prefix + "_") and "err" not in lowered
+                                 and re.search(r"jd|tdb|utc|tt", lowered)):
+            return column
+    return None
+
+
+def _require_columns(path: Path, line: int, columns, required, time_column: str) -> None:
+    missing = [c for c in required if c not in columns]
+    if not missing:
+        return
+    other = _other_time_column(columns, time_column) if time_column in missing else None
+    if other is not None:
+        raise InputError(f"{path}: line {line}: column {other!r} found, but vigil needs {time_column}: times as "
+                         "Barycentric Julian Dates in TDB (BJD_TDB); rename the column if it holds BJD_TDB, else "
+                         "convert the times first (HJD, JD or UTC-based times differ from BJD_TDB by up to about "
+                         "10 minutes)")
+    hint = _spelling_hint(missing, [c for c in columns if c not in required])
+    raise InputError(f"{path}: line {line}: missing column(s) {', '.join(missing)}{hint}; found {', '.join(columns)}")
+
+
+# --- values --------------------------------------------------------------------------------
+
+_DECIMAL_COMMA = re.compile(r"[+-]?\d+,\d+")
 
 
 def _number(path: Path, line: int, column: str, text: str, expected: str) -> float:
@@ -89,28 +209,44 @@ def _number(path: Path, line: int, column: str, text: str, expected: str) -> flo
         value = float(text)
     except ValueError:
         value = math.nan
-    if not math.isfinite(value):
-        raise InputError(f"{_where(path, line)}, field {column}: expected {expected}, got {text!r}")
-    return value
+    if math.isfinite(value):
+        return value
+    where = f"{_where(path, line)}, field {column}"
+    if _DECIMAL_COMMA.fullmatch(text):
+        raise InputError(f"{where}: {text!r} has a decimal comma; expected {expected} with a point as the decimal "
+                         f"mark ({text.replace(',', '.')})")
+    raise InputError(f"{where}: expected {expected}, got {repr(text) if text else 'an empty cell'}")
 
 
-def _coordinates(path: Path, line: int, row: pd.Series, columns) -> tuple[float, float]:
-    if "ra_deg" in columns and "dec_deg" in columns:
-        ra_field, dec_field = "ra_deg", "dec_deg"
+def _full_jd(path: Path, line: int, column: str, value: float) -> float:
+    if MIN_PLAUSIBLE_JD <= value <= MAX_PLAUSIBLE_JD:
+        return value
+    if 0 < value < 30_000:
+        looks = f"looks like JD - 2450000 (the full date would be {value + 2_450_000:.5f})"
+    elif 30_000 <= value < 100_000:
+        looks = "looks like an MJD (JD - 2400000.5) or a reduced JD (JD - 2400000)"
+    else:
+        looks = "is not a Julian date of the years 1858 to 2406"
+    raise InputError(f"{_where(path, line)}, field {column}: {value:.6g} {looks}; expected a full Julian date in "
+                     "BJD_TDB (e.g. 2461000.5)")
+
+
+def _coordinate_columns(path: Path, line: int, columns) -> tuple[str, str]:
+    """('ra_deg', 'dec_deg') or, for sexagesimal text, ('ra', 'dec')."""
+    for pair in (("ra_deg", "dec_deg"), ("ra", "dec")):
+        if all(c in columns for c in pair):
+            return pair
+    raise InputError(f"{path}: line {line}: missing coordinates; expected columns ra_deg and dec_deg (or ra and dec)"
+                     f"{_spelling_hint(('ra_deg', 'dec_deg'), columns)}; found {', '.join(columns)}")
+
+
+def _coordinates(path: Path, line: int, row: pd.Series, ra_field: str, dec_field: str) -> tuple[float, float]:
+    if ra_field == "ra_deg":
         ra = _number(path, line, ra_field, row[ra_field], "right ascension in degrees")
         dec = _number(path, line, dec_field, row[dec_field], "declination in degrees")
-    elif "ra" in columns and "dec" in columns:
-        ra_field, dec_field = "ra", "dec"
-        try:
-            ra = Angle(row["ra"], unit="hourangle").deg
-        except (ValueError, TypeError):
-            raise InputError(f"{_where(path, line)}, field ra: expected hh:mm:ss, got {row['ra']!r}") from None
-        try:
-            dec = Angle(row["dec"], unit="deg").deg
-        except (ValueError, TypeError):
-            raise InputError(f"{_where(path, line)}, field dec: expected ±dd:mm:ss, got {row['dec']!r}") from None
     else:
-        raise InputError(f"{path}: missing coordinates; expected columns ra_deg and dec_deg (or ra and dec)")
+        ra = _angle_deg(path, line, ra_field, row[ra_field], "hourangle", "hh:mm:ss")
+        dec = _angle_deg(path, line, dec_field, row[dec_field], "deg", "±dd:mm:ss")
     if not 0.0 <= ra < 360.0:
         raise InputError(f"{_where(path, line)}, field {ra_field}: expected 0 <= RA < 360 degrees, got {ra:g}")
     if not -90.0 <= dec <= 90.0:
@@ -118,120 +254,204 @@ def _coordinates(path: Path, line: int, row: pd.Series, columns) -> tuple[float,
     return ra, dec
 
 
-def _target_row(path: Path, line: int, row: pd.Series, columns) -> dict:
-    name = row["name"].strip()
+def _angle_deg(path: Path, line: int, column: str, text: str, unit: str, form: str) -> float:
+    try:
+        return float(Angle(text, unit=unit).deg)
+    except (ValueError, TypeError, u.UnitsError):
+        raise InputError(f"{_where(path, line)}, field {column}: expected {form}, "
+                         f"got {repr(text) if text else 'an empty cell'}") from None
+
+
+TARGET_EXPECTATIONS = {
+    "t0_bjd_tdb": "a mid-transit time as a full Julian date (BJD_TDB)",
+    "t0_err_d": "an uncertainty in days (>= 0)",
+    "period_d": "a positive period in days",
+    "period_err_d": "an uncertainty in days (>= 0)",
+    "duration_h": "a positive duration in hours",
+}
+
+
+def _target_row(path: Path, line: int, row: pd.Series, coordinates: tuple[str, str]) -> dict:
+    name = row["name"]
     if not name:
         raise InputError(f"{_where(path, line)}, field name: expected a target name, got an empty cell")
-    ra, dec = _coordinates(path, line, row, columns)
+    ra, dec = _coordinates(path, line, row, *coordinates)
     values = {"name": name, "ra_deg": ra, "dec_deg": dec}
-    expectations = {
-        "t0_bjd_tdb": "a mid-transit time as a full Julian date (BJD_TDB)",
-        "t0_err_d": "an uncertainty in days (>= 0)",
-        "period_d": "a positive period in days",
-        "period_err_d": "an uncertainty in days (>= 0)",
-        "duration_h": "a positive duration in hours",
-    }
-    for column, expected in expectations.items():
+    for column, expected in TARGET_EXPECTATIONS.items():
         values[column] = _number(path, line, column, row[column], expected)
     cov = row.get("t0_period_cov_d2", "")
-    values["t0_period_cov_d2"] = _number(path, line, "t0_period_cov_d2", cov, "a covariance in d^2") if str(cov).strip() else 0.0
+    values["t0_period_cov_d2"] = _number(path, line, "t0_period_cov_d2", cov, "a covariance in d^2") if cov else 0.0
     _check_target_values(path, line, values)
+    _check_body_columns(path, line, row)
+    _warn_odd_target(path, line, values)
     return values
 
 
 def _check_target_values(path: Path, line: int, v: dict) -> None:
     where = _where(path, line)
-    if v["t0_bjd_tdb"] < MIN_PLAUSIBLE_JD:
-        raise InputError(f"{where}, field t0_bjd_tdb: {v['t0_bjd_tdb']:g} looks like an MJD or a truncated JD; "
-                         "expected a full Julian date in BJD_TDB (e.g. 2461000.5)")
-    if v["period_d"] <= 0:
-        raise InputError(f"{where}, field period_d: expected a positive period in days, got {v['period_d']:g}")
-    if v["duration_h"] <= 0 or v["duration_h"] / 24.0 >= v["period_d"]:
-        raise InputError(f"{where}, field duration_h: expected 0 < duration < period, got {v['duration_h']:g} h")
+    _full_jd(path, line, "t0_bjd_tdb", v["t0_bjd_tdb"])
+    if v["period_d"] < MIN_PERIOD_D:
+        raise InputError(f"{where}, field period_d: expected a period of at least {MIN_PERIOD_D:g} days, "
+                         f"got {v['period_d']:g}")
     for column in ("t0_err_d", "period_err_d"):
         if v[column] < 0:
             raise InputError(f"{where}, field {column}: expected an uncertainty >= 0 days, got {v[column]:g}")
     if v["period_err_d"] >= v["period_d"]:
-        raise InputError(f"{where}, field period_err_d: uncertainty {v['period_err_d']:g} d is not smaller than the period")
+        raise InputError(f"{where}, field period_err_d: expected an uncertainty smaller than the period "
+                         f"({v['period_d']:g} d), got {v['period_err_d']:g} d")
+    if v["duration_h"] <= 0 or v["duration_h"] / 24.0 >= v["period_d"]:
+        raise InputError(f"{where}, field duration_h: expected 0 < duration < period ({v['period_d'] * 24:g} h), "
+                         f"got {v['duration_h']:g} h")
     bound = v["t0_err_d"] * v["period_err_d"]
     if abs(v["t0_period_cov_d2"]) > bound * (1 + 1e-9):
-        raise InputError(f"{where}, field t0_period_cov_d2: |cov| must not exceed t0_err_d * period_err_d = {bound:g} d^2")
+        raise InputError(f"{where}, field t0_period_cov_d2: expected |cov| <= t0_err_d * period_err_d = {bound:g} d^2, "
+                         f"got {v['t0_period_cov_d2']:g}")
+
+
+def _check_body_columns(path: Path, line: int, row: pd.Series) -> None:
+    """The optional physical columns (bodies.py) hold numbers where they are filled in."""
+    for column in bodies.NUMBER_COLUMNS:
+        text = row.get(column, "")
+        if text and text.lower() != "nan":
+            _number(path, line, column, text, "a number (units as in the column name) or an empty cell")
+
+
+def _warn_odd_target(path: Path, line: int, v: dict) -> None:
+    where = _where(path, line)
+    if v["period_err_d"] > ODD_PERIOD_ERR_FRACTION * v["period_d"]:
+        log.warning("%s, field period_err_d: %g d is more than 1 %% of the period (%g d); check the units "
+                    "(predicted times blur within a few epochs)", where, v["period_err_d"], v["period_d"])
+    if v["t0_err_d"] * 24.0 > v["duration_h"]:
+        log.warning("%s, field t0_err_d: %g d is longer than the transit itself (%g h); check the units",
+                    where, v["t0_err_d"], v["duration_h"])
 
 
 def read_targets(path: str | Path) -> pd.DataFrame:
     """Read a targets CSV into a table with the columns of `schema.TARGET_COLUMNS`.
 
-    Extra columns are kept as text; one `InputError` line reports the first problem.
+    Extra columns are kept as text (numbers where bodies.NUMBER_COLUMNS says so are checked);
+    one `InputError` line reports the first problem.
     """
     path = Path(path)
-    table = _read_csv(path)
-    missing = [c for c in REQUIRED_TARGET_FIELDS if c not in table.columns]
-    if missing:
-        raise InputError(f"{path}: missing column(s) {', '.join(missing)}; found {', '.join(table.columns)}")
-    rows = [_target_row(path, i + 2, row, table.columns) for i, row in table.iterrows()]
+    header_line, table = _read_csv(path, "target")
+    _require_columns(path, header_line, table.columns, REQUIRED_TARGET_FIELDS, "t0_bjd_tdb")
+    coordinates = _coordinate_columns(path, header_line, table.columns)
+    rows = [_target_row(path, line, row, coordinates) for line, row in table.iterrows()]
     parsed = pd.DataFrame(rows)
     duplicated = parsed["name"].duplicated().to_numpy()
     if duplicated.any():
         first = int(np.flatnonzero(duplicated)[0])
-        line = int(table.index[first]) + 2
-        raise InputError(f"{_where(path, line)}, field name: target {parsed['name'][first]!r} appears twice")
+        name = parsed["name"][first]
+        earlier = int(table.index[int(np.flatnonzero(parsed["name"] == name)[0])])
+        raise InputError(f"{_where(path, int(table.index[first]))}, field name: target {name!r} appears twice "
+                         f"(also on line {earlier}); expected unique names")
     extra = [c for c in table.columns if c not in parsed.columns and c not in ("ra", "dec")]
     return pd.concat([parsed, table[extra].reset_index(drop=True)], axis=1)
 
 
+def _timing_row(path: Path, line: int, row: pd.Series) -> dict:
+    target = row["target"]
+    if not target:
+        raise InputError(f"{_where(path, line)}, field target: expected a target name, got an empty cell")
+    mid = _number(path, line, "mid_bjd_tdb", row["mid_bjd_tdb"], "a mid-transit time as a full Julian date (BJD_TDB)")
+    _full_jd(path, line, "mid_bjd_tdb", mid)
+    err = _number(path, line, "mid_err_d", row["mid_err_d"], "a positive uncertainty in days")
+    if err <= 0:
+        raise InputError(f"{_where(path, line)}, field mid_err_d: expected a positive uncertainty in days, got {err:g}")
+    return {"target": target, "mid_bjd_tdb": mid, "mid_err_d": err, "note": row.get("note", "")}
+
+
+def read_timings(path: str | Path) -> pd.DataFrame:
+    """Read measured mid-transit times: target, mid_bjd_tdb, mid_err_d (days), optional note."""
+    path = Path(path)
+    header_line, table = _read_csv(path, "timing")
+    _require_columns(path, header_line, table.columns, TIMING_FIELDS, "mid_bjd_tdb")
+    return pd.DataFrame([_timing_row(path, line, row) for line, row in table.iterrows()])
+
+
+# --- sites (TOML) --------------------------------------------------------------------------
+
+
 def _load_toml(path: Path) -> dict:
+    """The TOML document (UTF-8, a byte-order mark allowed)."""
+    text = _read_text(path)
     try:
-        with path.open("rb") as handle:
-            return tomllib.load(handle)
-    except OSError as exc:
-        raise InputError(f"{path}: cannot read file ({exc.strerror})") from None
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{path}: TOML syntax error: {exc}") from None
-    except UnicodeDecodeError:
-        raise InputError(f"{path}: not UTF-8 text") from None
+
+
+def _checked_constraints(prefix: str, values: dict) -> dict:
+    """`values` (constraint keys only) if they make valid Constraints; else an error after `prefix`."""
+    twilight = values.get("twilight", "astronomical")
+    if not isinstance(twilight, str):
+        raise InputError(f"{prefix} twilight: expected civil, nautical or astronomical, got {twilight!r}")
+    try:
+        Constraints(**values)
+    except InputError as exc:
+        raise InputError(f"{prefix} {exc}") from None
+    return values
 
 
 def _site_number(path: Path, key: str, entry: dict, field_name: str, low: float, high: float, unit: str) -> float:
-    value = entry.get(field_name)
+    expected = f"a number from {low:g} to {high:g} {unit}"
+    if field_name not in entry:
+        hint = _spelling_hint([field_name], set(entry) - SITE_KEYS)
+        raise InputError(f"{path}: [{key}] {field_name}: required, {expected}{hint}")
+    value = entry[field_name]
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not low <= value <= high:
-        raise InputError(f"{path}: [{key}] {field_name}: expected a number from {low:g} to {high:g} {unit}, got {value!r}")
+        raise InputError(f"{path}: [{key}] {field_name}: expected {expected}, got {value!r}")
     return float(value)
 
 
 def _site(path: Path, name: str, entry) -> Site:
     key = f"sites.{name}"
     if not isinstance(entry, dict):
-        raise InputError(f"{path}: [{key}]: expected a table of site fields")
-    for unknown in sorted(set(entry) - SITE_KEYS):
-        log.warning("%s: [%s] unknown key %r ignored", path, key, unknown)
-    lon = _site_number(path, key, entry, "longitude_deg", -180.0, 360.0, "degrees east")
-    if lon > 180.0:
-        log.info("%s: [%s] longitude %.4f read as 0-360 east, used as %.4f", path, key, lon, lon - 360.0)
-        lon -= 360.0
-    defaults = {k: entry[k] for k in CONSTRAINT_KEYS if k in entry}
-    pressure = entry.get("pressure_hpa")
-    if pressure is not None:
-        pressure = _site_number(path, key, entry, "pressure_hpa", 0.0, 1100.0, "hPa")
+        raise InputError(f"{path}: [{key}]: expected a table of site fields, got {entry!r}")
+    latitude = _site_number(path, key, entry, "latitude_deg", -90.0, 90.0, "degrees")
+    longitude = _site_number(path, key, entry, "longitude_deg", -180.0, 360.0, "degrees east")
+    elevation = _site_number(path, key, entry, "elevation_m", -500.0, 9000.0, "metres")
+    pressure = _site_number(path, key, entry, "pressure_hpa", 0.0, 1100.0, "hPa") if "pressure_hpa" in entry else None
+    temperature = _site_number(path, key, entry, "temperature_c", -80.0, 60.0, "°C") if "temperature_c" in entry else 10.0
     timezone = entry.get("timezone")
     if timezone is not None:
         _check_timezone(path, key, timezone)
-    return Site(
-        name=name,
-        latitude_deg=_site_number(path, key, entry, "latitude_deg", -90.0, 90.0, "degrees"),
-        longitude_deg=lon,
-        elevation_m=_site_number(path, key, entry, "elevation_m", -500.0, 9000.0, "metres"),
-        timezone=timezone,
-        pressure_hpa=pressure,
-        temperature_c=_site_number(path, key, entry, "temperature_c", -80.0, 60.0, "°C") if "temperature_c" in entry else 10.0,
-        defaults=defaults,
-    )
+    defaults = _checked_constraints(f"{path}: [{key}]", {k: entry[k] for k in CONSTRAINT_KEYS if k in entry})
+    _note_site(path, key, entry, longitude, elevation, defaults)
+    return Site(name=name, latitude_deg=latitude, longitude_deg=_east_longitude_deg(longitude), elevation_m=elevation,
+                timezone=timezone, pressure_hpa=pressure, temperature_c=temperature, defaults=defaults)
+
+
+def _east_longitude_deg(longitude: float) -> float:
+    """The same meridian in (-180, 180] degrees east."""
+    if longitude > 180.0:
+        return longitude - 360.0
+    return 180.0 if longitude == -180.0 else longitude
+
+
+def _note_site(path: Path, key: str, entry: dict, longitude: float, elevation: float, defaults: dict) -> None:
+    """Warn about unknown keys and odd values of a site that is otherwise valid."""
+    for unknown in sorted(set(entry) - SITE_KEYS):
+        log.warning("%s: [%s] unknown key %r ignored", path, key, unknown)
+    if longitude > 180.0:
+        log.info("%s: [%s] longitude_deg %.4f read as 0-360 degrees east, used as %.4f (east positive, -180 to 180)",
+                 path, key, longitude, _east_longitude_deg(longitude))
+    if elevation > HIGH_ELEVATION_M:
+        log.warning("%s: [%s] elevation_m %g is above %g m; check it is in metres, not feet",
+                    path, key, elevation, HIGH_ELEVATION_M)
+    altitude = defaults.get("min_altitude_deg")
+    if altitude is not None and altitude < LOW_ALTITUDE_LIMIT_DEG:
+        log.warning("%s: [%s] min_altitude_deg %g is below %g degrees, where the air mass exceeds 5 "
+                    "and extinction and refraction are large", path, key, altitude, LOW_ALTITUDE_LIMIT_DEG)
 
 
 def _check_timezone(path: Path, key: str, name) -> None:
     from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
     try:
-        ZoneInfo(str(name))
+        if not isinstance(name, str):
+            raise ValueError(name)
+        ZoneInfo(name)
     except (ZoneInfoNotFoundError, ValueError):
         raise InputError(f"{path}: [{key}] timezone: expected an IANA time zone name such as 'America/Santiago', got {name!r}") from None
 
@@ -242,29 +462,6 @@ def read_sites(path: str | Path) -> dict[str, Site]:
     document = _load_toml(path)
     sites = document.get("sites")
     if not isinstance(sites, dict) or not sites:
-        raise InputError(f"{path}: no [sites.NAME] tables found")
+        found = f" (found: {', '.join(document)})" if document else ""
+        raise InputError(f"{path}: [sites]: expected one or more [sites.NAME] tables{found}")
     return {name: _site(path, name, entry) for name, entry in sites.items()}
-
-
-def read_timings(path: str | Path) -> pd.DataFrame:
-    """Read measured mid-transit times: target, mid_bjd_tdb, mid_err_d (days), optional note."""
-    path = Path(path)
-    table = _read_csv(path)
-    missing = [c for c in ("target", "mid_bjd_tdb", "mid_err_d") if c not in table.columns]
-    if missing:
-        raise InputError(f"{path}: missing column(s) {', '.join(missing)}; found {', '.join(table.columns)}")
-    rows = []
-    for index, row in table.iterrows():
-        line = int(index) + 2
-        target = row["target"].strip()
-        if not target:
-            raise InputError(f"{_where(path, line)}, field target: expected a target name, got an empty cell")
-        mid = _number(path, line, "mid_bjd_tdb", row["mid_bjd_tdb"], "a mid-transit time as a full Julian date (BJD_TDB)")
-        if mid < MIN_PLAUSIBLE_JD:
-            raise InputError(f"{_where(path, line)}, field mid_bjd_tdb: {mid:g} looks like an MJD or a truncated JD; "
-                             "expected a full Julian date in BJD_TDB")
-        err = _number(path, line, "mid_err_d", row["mid_err_d"], "a positive uncertainty in days")
-        if err <= 0:
-            raise InputError(f"{_where(path, line)}, field mid_err_d: expected a positive uncertainty in days, got {err:g}")
-        rows.append({"target": target, "mid_bjd_tdb": mid, "mid_err_d": err, "note": row.get("note", "")})
-    return pd.DataFrame(rows)

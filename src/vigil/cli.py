@@ -192,10 +192,20 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
             raise InputError(f"{spec.targets_file}: no target named {target!r}")
         targets = targets[targets["name"] == target].reset_index(drop=True)
     sites = catalog.read_sites(spec.sites_file)
-    with Progress(console=err, transient=True) as progress:
-        task = progress.add_task("weather trials", total=spec.trials)
-        result = pipeline.run_campaign(spec, targets, sites, engine=engine,
-                                       on_progress=lambda n: progress.advance(task, n))
+    progress = Progress(console=err, transient=True)
+    tasks = []
+
+    def advance(count: int) -> None:  # the bar appears once the trials start, after all input checks
+        if not tasks:
+            progress.start()
+            tasks.append(progress.add_task("weather trials", total=spec.trials))
+        progress.advance(tasks[0], count)
+
+    try:
+        result = pipeline.run_campaign(spec, targets, sites, engine=engine, on_progress=advance)
+    finally:
+        if tasks:
+            progress.stop()
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")
