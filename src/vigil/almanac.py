@@ -37,6 +37,7 @@ _EARTH_RADIUS_KM = 6378.137  # WGS84 equatorial radius
 _EARTH_FLATTENING = 1.0 / 298.257223563  # WGS84
 _TT_MINUS_TAI_S = 32.184  # TT - TAI, IAU definition
 _FIRST_UTC_YEAR = 1960  # erfa's leap-second table starts here
+_INTEGRAL_LEAP_SECONDS_JD = 2441317.5  # 1972-01-01 0h UTC: whole leap seconds from here on
 _SOLAR_DAY_HOUR_ANGLE_RATE_DEG_PER_D = 360.0  # mean solar hour angle advances 360 deg per day
 
 
@@ -67,9 +68,27 @@ def tt_minus_utc_s(jd_utc):
     """TT - UTC in seconds at the given UTC Julian dates (TAI - UTC from erfa's leap-second table).
 
     Before 1960 (no UTC) the 1960 value is used; after the table's last leap second it stays
-    at the last value, since later leap seconds cannot be known in advance.
+    at the last value, since later leap seconds cannot be known in advance. From 1972 on,
+    TAI - UTC is a step function of the date: looked up in the table by bisection.
     """
     jd = np.asarray(jd_utc, dtype=float)
+    leaps = erfa.leap_seconds.get()
+    step_jd = np.add(*erfa.cal2jd(leaps["year"], leaps["month"], np.ones(leaps.size, dtype=int)))
+    tai_minus_utc = np.full(jd.shape, leaps["tai_utc"][-1])
+    before_last = jd < step_jd[-1]  # most dates planned for lie after the last leap second
+    if np.any(before_last):
+        index = np.maximum(np.searchsorted(step_jd, jd[before_last], side="right") - 1, 0)
+        tai_minus_utc[before_last] = leaps["tai_utc"][index]
+    tai_minus_utc[np.isnan(jd)] = np.nan
+    drifting = jd < _INTEGRAL_LEAP_SECONDS_JD
+    if np.any(drifting):
+        tai_minus_utc = np.where(drifting, _drifting_tai_minus_utc_s(np.where(drifting, jd, _INTEGRAL_LEAP_SECONDS_JD)),
+                                 tai_minus_utc)
+    return tai_minus_utc + _TT_MINUS_TAI_S
+
+
+def _drifting_tai_minus_utc_s(jd):
+    """TAI - UTC by erfa.dat date by date (needed before 1972, when UTC ran at a drifting rate)."""
     year, month, day, frac = erfa.jd2cal(jd, 0.0)
     early = year < _FIRST_UTC_YEAR
     year = np.where(early, _FIRST_UTC_YEAR, year)
@@ -77,8 +96,7 @@ def tt_minus_utc_s(jd_utc):
     day = np.where(early, 1, day)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", erfa.ErfaWarning)  # "dubious year" past the table
-        tai_minus_utc = erfa.dat(year, month, day, frac)
-    return tai_minus_utc + _TT_MINUS_TAI_S
+        return erfa.dat(year, month, day, frac)
 
 
 def jd_tt_from_utc(jd_utc):
@@ -187,9 +205,18 @@ def gmst_deg(jd_ut1):
     return _wrap360(theta)
 
 
-def _gast_from_nutation_deg(jd_ut1, nutation):
+def _equation_of_equinoxes_from_nutation_deg(nutation):
     dpsi, _, eps_true = nutation
-    return _wrap360(gmst_deg(jd_ut1) + dpsi * np.cos(np.radians(eps_true)))
+    return dpsi * np.cos(np.radians(eps_true))
+
+
+def equation_of_equinoxes_deg(jd_tt):
+    """Apparent minus mean sidereal time in degrees: dpsi cos(true obliquity) (Meeus ch. 12)."""
+    return _equation_of_equinoxes_from_nutation_deg(_nutation_state(jd_tt))
+
+
+def _gast_from_nutation_deg(jd_ut1, nutation):
+    return _wrap360(gmst_deg(jd_ut1) + _equation_of_equinoxes_from_nutation_deg(nutation))
 
 
 def gast_deg(jd_ut1, jd_tt):
@@ -421,6 +448,12 @@ def _moon_apparent(jd_tt):
     return ra, dec, dist_km
 
 
+def moon_geocentric_km(jd_tt):
+    """Apparent geocentric position of the Moon (x, y, z) in km, true equator and equinox of date."""
+    ra, dec, dist_km = _moon_apparent(jd_tt)
+    return tuple(dist_km * c for c in _unit_vector(np.radians(ra), np.radians(dec)))
+
+
 def moon_radec_deg(jd_tt):
     """Apparent geocentric (ra_deg, dec_deg) of the Moon, true equator and equinox of date.
 
@@ -430,7 +463,7 @@ def moon_radec_deg(jd_tt):
     return ra, dec
 
 
-def _observer_geocentric_km(lat_deg, elev_m):
+def observer_geocentric_km(lat_deg, elev_m):
     """Observer's distance from the Earth's axis and from the equator plane (km), WGS84."""
     lat_rad = np.radians(lat_deg)
     b_over_a = 1.0 - _EARTH_FLATTENING
@@ -449,15 +482,10 @@ def moon_topocentric_radec_deg(jd_tt, jd_ut, lat_deg, lon_deg, elev_m):
     jd_ut is UT1 taken as UTC.
     """
     lat = _check_latitude(lat_deg)
-    ra, dec, dist_km = _moon_apparent(jd_tt)
-    mx, my, mz = _unit_vector(np.radians(ra), np.radians(dec))
-    rho_cos, rho_sin = _observer_geocentric_km(lat, elev_m)
+    mx, my, mz = moon_geocentric_km(jd_tt)
+    rho_cos, rho_sin = observer_geocentric_km(lat, elev_m)
     last_rad = np.radians(gast_deg(jd_ut, jd_tt) + np.asarray(lon_deg, dtype=float))
-    return _radec_deg_from_vector(
-        dist_km * mx - rho_cos * np.cos(last_rad),
-        dist_km * my - rho_cos * np.sin(last_rad),
-        dist_km * mz - rho_sin,
-    )
+    return _radec_deg_from_vector(mx - rho_cos * np.cos(last_rad), my - rho_cos * np.sin(last_rad), mz - rho_sin)
 
 
 def moon_illuminated_fraction(jd_tt):
@@ -506,6 +534,20 @@ def _earth_velocity_over_c(jd_tt):
     return _rot_x(ecliptic, np.radians(mean_obliquity_deg(jd_tt)))
 
 
+def star_of_date_terms(jd_tt):
+    """The target-independent part of a star's apparent place of date, for many stars at once.
+
+    Returns (matrix, beta): the precession-nutation matrix from J2000 mean equator to the true
+    equator and equinox of date, shaped (3, 3) + shape(jd_tt) as [row, column, ...], and the
+    Earth's velocity / c in the frame of date, shaped (3,) + shape(jd_tt). A J2000 unit vector
+    v0 goes to v = matrix v0, then to the apparent direction v + beta - (v . beta) v.
+    """
+    jd = np.asarray(jd_tt, dtype=float)
+    basis = tuple(np.eye(3)[i].reshape((3,) + (1,) * jd.ndim) for i in range(3))
+    matrix = np.array(np.broadcast_arrays(*_precess_nutate(basis, jd)))
+    return matrix, np.array(np.broadcast_arrays(*_earth_velocity_over_c(jd)))
+
+
 def precess_to_date(ra_deg, dec_deg, jd_tt):
     """Apparent (ra_deg, dec_deg) of date of a star given its ICRS / J2000 mean place.
 
@@ -514,12 +556,9 @@ def precess_to_date(ra_deg, dec_deg, jd_tt):
     light deflection (< 0.01" away from the Sun), proper motion and parallax of the star.
     Agrees with astropy's TETE frame to under 0.5" for 1975-2075.
     """
-    jd = np.asarray(jd_tt, dtype=float)
-    basis = tuple(np.eye(3)[i].reshape((3,) + (1,) * jd.ndim) for i in range(3))
-    matrix = np.array(np.broadcast_arrays(*_precess_nutate(basis, jd)))  # [row, column, ...]
+    matrix, beta = star_of_date_terms(jd_tt)
     x0, y0, z0 = _unit_vector(np.radians(ra_deg), np.radians(dec_deg))
     v = tuple(matrix[r, 0] * x0 + matrix[r, 1] * y0 + matrix[r, 2] * z0 for r in range(3))
-    beta = _earth_velocity_over_c(jd)
     v_dot_beta = v[0] * beta[0] + v[1] * beta[1] + v[2] * beta[2]
     return _radec_deg_from_vector(*(v[i] + beta[i] - v_dot_beta * v[i] for i in range(3)))
 

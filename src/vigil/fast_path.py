@@ -3,15 +3,30 @@
 Per site, the dark intervals over the whole span are found once (almanac.dark_intervals).
 Per transit, the target's apparent place of date gives the hour-angle half-width above the
 altitude limit; the limit is an apparent altitude, so it is lowered by the refraction there
-(constant for a site). The stretches above the limit around the three culminations nearest
+(constant for a site). The stretches above the limit around the culminations nearest
 mid-transit are intersected with the dark intervals and clipped to the window by
 `searchsorted`, for all transits at once. The Moon separation, when asked, is sampled every
-`MOON_STEP_MIN` minutes and its edges interpolated. Error budget (checked against the
-reference path in the tests): place of date ~0.5", UT1 taken as UTC < 0.004 deg in hour
-angle, Sun ~0.003 deg, refraction model ~0.01 deg: window edges within about a minute.
+`MOON_STEP_MIN` minutes and its edges interpolated, in the windows where it can cross the
+limit; elsewhere it is settled by its value at mid-transit (see `_moon_clear`).
+
+Target-independent quantities are tabulated once per process on fixed grids of Julian dates,
+in blocks computed on first use, and interpolated linearly (`_Table`). Linear interpolation
+over a step h errs by at most h^2/8 max|f''|; for a rotating direction, interpolating the
+vector and normalising it leaves only the part due to the change of its angular rate:
+- `SKY_TABLE` (1 d, JD UTC): precession-nutation matrix and annual aberration (< 0.01": the
+  13.7 d nutation term and the yearly aberration are the most curved), the equation of the
+  equinoxes (< 0.01") and the Sun's direction (< 0.3", from the orbit's eccentricity).
+- `EARTH_TABLE` (1 d, JD TDB): the Earth's barycentric position (< 4e-5 au, 20 ms of light).
+- `MOON_TABLE` (1 h, JD UTC): the geocentric Moon (< 1", from its varying angular rate).
+Error budget of the engine (checked against the reference path in the tests): place of date
+~0.5", UT1 taken as UTC < 0.004 deg in hour angle, Sun ~0.003 deg, refraction model ~0.01 deg:
+window edges within about a minute.
 """
 
 from __future__ import annotations
+
+from functools import lru_cache
+from typing import Callable, NamedTuple
 
 import erfa
 import numpy as np
@@ -24,87 +39,229 @@ from vigil.visibility import Constraints
 
 SIDEREAL_DEG_PER_DAY = 360.98564736629  # Earth's rotation relative to the equinox, per UT day
 MOON_STEP_MIN = 20.0
+# The topocentric Moon moves against the stars by at most about 16.5 deg/day in its orbit plus
+# 6.5 deg/day from the diurnal parallax (1.02 deg swung at 6.3 rad/day): 23 deg/day, taken as
+# 26; the Moon-target angle changes no faster (triangle inequality).
+MOON_SEPARATION_RATE_DEG_PER_D = 26.0
 _DARK_MARGIN_D = 1.0
 _AU_LIGHT_D = 499.004783836 / 86400.0  # light time for one astronomical unit, days
-_EARTH_GRID_D = 1.0
+_BLOCK_NODES = 1024
+_BLOCKS_KEPT = 2048  # per table: the hourly Moon over 240 years, 50 MB
 
 
-def _earth_barycentric_au(jd_tdb: np.ndarray) -> np.ndarray:
-    """Earth's barycentric position (au, ICRS axes), erfa.epv00 on a daily grid, interpolated.
+class _Table(NamedTuple):
+    """Rows of a function of time tabulated at the nodes k * step_d (JD), in blocks of nodes.
 
-    Linear interpolation over one day errs by at most 4e-5 au (20 ms of light time).
+    `block(b)` returns the values at nodes b * _BLOCK_NODES ... (b + 1) * _BLOCK_NODES - 1 as
+    an array (_BLOCK_NODES, n_rows), node by node (one gather fetches all the rows of a node);
+    it is cached, so each block is computed once a process.
     """
-    grid = np.arange(np.floor(jd_tdb.min()) - 1.0, np.ceil(jd_tdb.max()) + 2.0, _EARTH_GRID_D)
-    _, barycentric = erfa.epv00(grid, np.zeros_like(grid))
-    position = barycentric["p"]
-    return np.stack([np.interp(jd_tdb, grid, position[:, k]) for k in range(3)], axis=-1)
+
+    step_d: float
+    n_rows: int
+    block: Callable[[int], np.ndarray]
+
+    def at(self, jd: np.ndarray, rows: slice = slice(None)) -> np.ndarray:
+        """Rows interpolated linearly at the Julian dates jd (1-d), shaped (jd.size, n_rows)."""
+        scaled = np.asarray(jd, dtype=float) / self.step_d
+        node = np.floor(scaled)
+        values, index = self._values(node, node + 1, rows)
+        below = values[index]
+        return below + (values[index + 1] - below) * (scaled - node)[:, None]
+
+    def nearest(self, jd: np.ndarray, rows: slice = slice(None)) -> np.ndarray:
+        """Rows at the node nearest to each Julian date in jd (1-d), shaped (jd.size, n_rows)."""
+        node = np.rint(np.asarray(jd, dtype=float) / self.step_d)
+        values, index = self._values(node, node, rows)
+        return values[index]
+
+    def _values(self, low_node, high_node, rows: slice):
+        """The tabulated rows over the blocks from low_node to high_node, and the index into them of low_node."""
+        if low_node.size == 0:
+            return np.empty((1, len(range(self.n_rows)[rows]))), np.zeros(0, dtype=np.intp)
+        first = int(low_node.min()) // _BLOCK_NODES
+        last = int(high_node.max()) // _BLOCK_NODES
+        values = np.concatenate([self.block(b)[:, rows] for b in range(first, last + 1)])
+        return values, (low_node - first * _BLOCK_NODES).astype(np.intp)
+
+
+def _block_nodes(block: int, step_d: float) -> np.ndarray:
+    return (block * _BLOCK_NODES + np.arange(_BLOCK_NODES)) * step_d
+
+
+@lru_cache(maxsize=_BLOCKS_KEPT)
+def _sky_block(block: int) -> np.ndarray:
+    """Columns `SKY_STAR_OF_DATE` (precession-nutation matrix, row by row, then aberration beta),
+    `SKY_EQUATION_OF_EQUINOXES` (deg) and `SKY_SUN` (unit vector of date) at nodes of JD UTC."""
+    jd_tt = almanac.jd_tt_from_utc(_block_nodes(block, SKY_STEP_D))
+    matrix, beta = almanac.star_of_date_terms(jd_tt)
+    sun_ra, sun_dec = np.radians(almanac.sun_radec_deg(jd_tt))
+    sun = [np.cos(sun_dec) * np.cos(sun_ra), np.cos(sun_dec) * np.sin(sun_ra), np.sin(sun_dec)]
+    return np.column_stack([*matrix.reshape(9, -1), *beta, almanac.equation_of_equinoxes_deg(jd_tt), *sun])
+
+
+@lru_cache(maxsize=_BLOCKS_KEPT)
+def _earth_block(block: int) -> np.ndarray:
+    """The Earth's barycentric position (au, ICRS axes; erfa.epv00) at nodes of JD TDB."""
+    jd_tdb = _block_nodes(block, EARTH_STEP_D)
+    _, barycentric = erfa.epv00(jd_tdb, np.zeros_like(jd_tdb))
+    return np.ascontiguousarray(barycentric["p"])
+
+
+@lru_cache(maxsize=_BLOCKS_KEPT)
+def _moon_block(block: int) -> np.ndarray:
+    """The geocentric Moon (km, true equator and equinox of date) at nodes of JD UTC."""
+    jd_tt = almanac.jd_tt_from_utc(_block_nodes(block, MOON_STEP_D))
+    return np.column_stack(almanac.moon_geocentric_km(jd_tt))
+
+
+SKY_STEP_D = 1.0 / 8.0
+EARTH_STEP_D = 1.0
+MOON_STEP_D = 1.0 / 24.0
+SKY_TABLE = _Table(SKY_STEP_D, 16, _sky_block)
+EARTH_TABLE = _Table(EARTH_STEP_D, 3, _earth_block)
+MOON_TABLE = _Table(MOON_STEP_D, 3, _moon_block)
+# SKY_TABLE columns: matrix row by row (9) and aberration (3), equation of the equinoxes, Sun
+SKY_STAR_OF_DATE, SKY_EQUATION_OF_EQUINOXES, SKY_SUN = slice(0, 12), slice(12, 13), slice(13, 16)
+_POINTING = slice(0, 13)  # star of date and equation of the equinoxes, fetched together
+
+
+def _unit_vectors(ra_deg, dec_deg) -> np.ndarray:
+    """ICRS unit vectors, shaped (n, 3)."""
+    ra, dec = np.radians(ra_deg), np.radians(dec_deg)
+    cos_dec = np.cos(dec)
+    return np.column_stack([cos_dec * np.cos(ra), cos_dec * np.sin(ra), np.sin(dec)])
+
+
+def _dot(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Row-wise dot products of (n, 3) arrays."""
+    return a[:, 0] * b[:, 0] + a[:, 1] * b[:, 1] + a[:, 2] * b[:, 2]
 
 
 def site_mid_jd_utc(transits: pd.DataFrame, site: Site) -> np.ndarray:
     """Mid-transit as seen at the site, JD UTC, from BJD_TDB (Roemer delay of the geocentre).
 
     Neglected: the site's offset from the geocentre (< 21 ms), TDB - TT (< 2 ms), relativistic
-    delays (< 0.1 ms); the whole conversion is within 0.05 s of astropy's.
+    delays (< 0.1 ms); with the tabulated Earth (20 ms) the whole conversion is within 0.05 s
+    of astropy's.
     """
-    bjd = transits["mid_bjd_tdb"].to_numpy()
-    ra, dec = np.radians(transits["ra_deg"].to_numpy()), np.radians(transits["dec_deg"].to_numpy())
-    direction = np.stack([np.cos(dec) * np.cos(ra), np.cos(dec) * np.sin(ra), np.sin(dec)], axis=-1)
-    seen_tt = bjd.copy()
+    bjd = transits["mid_bjd_tdb"].to_numpy(dtype=float)
+    direction = _unit_vectors(transits["ra_deg"].to_numpy(dtype=float), transits["dec_deg"].to_numpy(dtype=float))
+    seen_tt = bjd
     for _ in range(2):  # the delay changes by < 1e-4 s per s: two passes converge
-        seen_tt = bjd - np.einsum("ij,ij->i", _earth_barycentric_au(seen_tt), direction) * _AU_LIGHT_D
+        seen_tt = bjd - _dot(EARTH_TABLE.at(seen_tt), direction) * _AU_LIGHT_D
     utc = seen_tt - almanac.tt_minus_utc_s(seen_tt) / 86400.0
     return seen_tt - almanac.tt_minus_utc_s(utc) / 86400.0
 
 
-def _place_of_date(windows: pd.DataFrame):
-    jd_tt = almanac.jd_tt_from_utc(windows["mid_jd_utc"].to_numpy())
-    ra, dec = almanac.precess_to_date(windows["ra_deg"].to_numpy(), windows["dec_deg"].to_numpy(), jd_tt)
-    return ra, dec, jd_tt
+class _Pointing(NamedTuple):
+    """Per transit at mid-time: the target's apparent direction of date (3, n; unit length to
+    1e-8, the aberration's second order) and the local apparent sidereal time (deg, UT1 taken
+    as UTC) with its cosine and sine."""
+
+    target: np.ndarray
+    lst_deg: np.ndarray
+    cos_lst: np.ndarray
+    sin_lst: np.ndarray
 
 
-def _above_limit(windows: pd.DataFrame, site: Site, constraints: Constraints, ra, dec):
+def _pointing(windows: pd.DataFrame, site: Site) -> _Pointing:
+    mid = windows["mid_jd_utc"].to_numpy(dtype=float)
+    terms = np.ascontiguousarray(SKY_TABLE.nearest(mid, _POINTING).T)
+    x0, y0, z0 = _unit_vectors(windows["ra_deg"].to_numpy(dtype=float), windows["dec_deg"].to_numpy(dtype=float)).T
+    v = np.empty((3, mid.size))
+    for r in range(3):
+        np.multiply(terms[3 * r], x0, out=v[r])
+        v[r] += terms[3 * r + 1] * y0
+        v[r] += terms[3 * r + 2] * z0
+    beta = terms[9:12]
+    v_dot_beta = v[0] * beta[0] + v[1] * beta[1] + v[2] * beta[2]
+    v += beta
+    v -= v_dot_beta * v
+    lst = _local_sidereal_deg(mid, terms[12], site)
+    lst_rad = np.radians(lst)
+    return _Pointing(v, lst, np.cos(lst_rad), np.sin(lst_rad))
+
+
+def _local_sidereal_deg(jd_utc, equation_of_equinoxes_deg, site: Site):
+    return almanac.gmst_deg(jd_utc) + equation_of_equinoxes_deg + site.longitude_deg
+
+
+def _sin_altitude(x, y, z, pointing: _Pointing, site: Site) -> np.ndarray:
+    """sin(geometric altitude) of unit vectors of date (components x, y, z) at the pointing's sidereal times."""
+    lat = np.radians(site.latitude_deg)
+    return np.cos(lat) * (x * pointing.cos_lst + y * pointing.sin_lst) + np.sin(lat) * z
+
+
+def _above_limit(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing):
     """Flat interval set of time above the apparent altitude limit near each window."""
     limit = constraints.min_altitude_deg
     geometric_limit = limit - almanac.refraction_deg(limit, site.air_pressure_hpa, site.temperature_c, alt_is_apparent=True)
-    half_width_d = almanac.hour_angle_at_altitude_deg(geometric_limit, dec, site.latitude_deg) / SIDEREAL_DEG_PER_DAY
-    mid = windows["mid_jd_utc"].to_numpy()
-    ha_mid = (almanac.local_sidereal_deg(mid, site.longitude_deg) - ra + 180.0) % 360.0 - 180.0
+    x, y, z = pointing.target
+    lat = np.radians(site.latitude_deg)
+    numerator = np.sin(np.radians(geometric_limit)) - np.sin(lat) * z
+    denominator = np.cos(lat) * np.hypot(x, y)
+    flat = denominator < 1e-12  # pole of the sky or of the Earth: altitude is constant
+    with np.errstate(divide="ignore", invalid="ignore"):
+        cos_h = np.where(flat, np.where(numerator < 0.0, -1.0, 1.0), numerator / denominator)
+    half_width_d = np.degrees(np.arccos(np.clip(cos_h, -1.0, 1.0))) / SIDEREAL_DEG_PER_DAY
+    mid = windows["mid_jd_utc"].to_numpy(dtype=float)
+    lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
+    ha_mid = (pointing.lst_deg - np.degrees(np.arctan2(y, x)) + 180.0) % 360.0 - 180.0
     culmination = mid - ha_mid / SIDEREAL_DEG_PER_DAY
     sidereal_day = 360.0 / SIDEREAL_DEG_PER_DAY
-    n = len(windows)
-    lo, hi = windows["window_start_jd_utc"].to_numpy(), windows["window_end_jd_utc"].to_numpy()
-    centres = culmination[:, None] + sidereal_day * np.array([-1.0, 0.0, 1.0])
-    start = centres - half_width_d[:, None]
-    end = centres + half_width_d[:, None]
-    always = (half_width_d >= 0.5 * sidereal_day)[:, None]
-    start = np.where(always, lo[:, None], np.maximum(start, lo[:, None]))
-    end = np.where(always, hi[:, None], np.minimum(end, hi[:, None]))
-    row = np.repeat(np.arange(n), 3)
+    reach = int(np.ceil(np.max(np.maximum(mid - lo, hi - mid), initial=0.0) / sidereal_day + 0.5))
+    offsets = sidereal_day * np.arange(-reach, reach + 1)  # the culminations that can touch a window
+    always = half_width_d >= 0.5 * sidereal_day
+    centres = culmination[:, None] + offsets
+    start = np.maximum(centres - half_width_d[:, None], lo[:, None])
+    end = np.minimum(centres + half_width_d[:, None], hi[:, None])
+    start[always, :] = np.inf  # never sets: one interval, the whole window
+    start[always, reach], end[always, reach] = lo[always], hi[always]
+    row = np.repeat(np.arange(len(windows)), offsets.size)
     start, end = start.ravel(), end.ravel()
     keep = end > start
-    keep &= ~(always.repeat(3, axis=1).ravel() & (np.tile([0, 1, 2], n) != 1))  # circumpolar: one interval
     return row[keep], start[keep], end[keep]
 
 
-def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, ra, dec):
-    """Flat interval set where the Moon is at least the required angle away."""
-    row, jd = intervals.sample_grid(windows["window_start_jd_utc"].to_numpy(),
-                                    windows["window_end_jd_utc"].to_numpy(), MOON_STEP_MIN / 1440.0)
-    separation = _moon_separation_deg(jd, site, ra[row], dec[row])
-    return intervals.from_samples(row, jd, separation - constraints.moon_sep_deg)
+def _moon_separation_deg(jd_utc, target: np.ndarray, site: Site, lst_deg=None) -> np.ndarray:
+    """Angle (deg) between directions of date (3, n) and the Moon seen from the site at jd_utc.
+
+    The site's position (WGS84) rotated by the local apparent sidereal time (computed unless
+    given) is taken from the tabulated geocentric Moon; the angle is atan2(|a x b|, a . b).
+    """
+    if lst_deg is None:
+        lst_deg = _local_sidereal_deg(jd_utc, SKY_TABLE.nearest(jd_utc, SKY_EQUATION_OF_EQUINOXES)[:, 0], site)
+    mx, my, mz = MOON_TABLE.at(jd_utc).T
+    rho_cos, rho_sin = almanac.observer_geocentric_km(site.latitude_deg, site.elevation_m)
+    lst_rad = np.radians(lst_deg)
+    mx = mx - rho_cos * np.cos(lst_rad)
+    my = my - rho_cos * np.sin(lst_rad)
+    mz = mz - rho_sin
+    x, y, z = target
+    cross_sq = (y * mz - z * my) ** 2 + (z * mx - x * mz) ** 2 + (x * my - y * mx) ** 2
+    return np.degrees(np.arctan2(np.sqrt(cross_sq), x * mx + y * my + z * mz))
 
 
-def _moon_separation_deg(jd_utc, site: Site, ra, dec):
-    moon_ra, moon_dec = almanac.moon_topocentric_radec_deg(almanac.jd_tt_from_utc(jd_utc), jd_utc, site.latitude_deg,
-                                                           site.longitude_deg, site.elevation_m)
-    return _angle_deg(ra, dec, moon_ra, moon_dec)
+def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing):
+    """Flat interval set where the Moon is at least the required angle away.
 
-
-def _angle_deg(ra1, dec1, ra2, dec2):
-    """Angle between two directions (degrees), by the haversine form (accurate at small angles)."""
-    d1, d2 = np.radians(dec1), np.radians(dec2)
-    h = np.sin((d2 - d1) / 2) ** 2 + np.cos(d1) * np.cos(d2) * np.sin(np.radians(ra2 - ra1) / 2) ** 2
-    return np.degrees(2 * np.arcsin(np.sqrt(np.clip(h, 0.0, 1.0))))
+    A window whose separation at mid-transit is farther from the limit than the separation
+    can move in its half-length (MOON_SEPARATION_RATE_DEG_PER_D) is clear throughout or not at
+    all; only the others are sampled.
+    """
+    mid = windows["mid_jd_utc"].to_numpy(dtype=float)
+    lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
+    margin_mid = _moon_separation_deg(mid, pointing.target, site, pointing.lst_deg) - constraints.moon_sep_deg
+    reach_deg = MOON_SEPARATION_RATE_DEG_PER_D * np.maximum(mid - lo, hi - mid)
+    near = np.flatnonzero(np.abs(margin_mid) <= reach_deg)
+    clear = np.flatnonzero(margin_mid > reach_deg)
+    sample_row, jd = intervals.sample_grid(lo[near], hi[near], MOON_STEP_MIN / 1440.0)
+    separation = _moon_separation_deg(jd, pointing.target[:, near[sample_row]], site)
+    row, start, end = intervals.from_samples(sample_row, jd, separation - constraints.moon_sep_deg)
+    row = np.concatenate([near[row], clear])
+    order = np.argsort(row, kind="stable")
+    return row[order], np.concatenate([start, lo[clear]])[order], np.concatenate([end, hi[clear]])[order]
 
 
 def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constraints):
@@ -113,28 +270,28 @@ def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constra
     if n == 0:
         empty = np.array([], dtype=float)
         return np.array([], dtype=int), empty, empty
-    lo, hi = windows["window_start_jd_utc"].to_numpy(), windows["window_end_jd_utc"].to_numpy()
+    lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
     dark_start, dark_end = almanac.dark_intervals(site.latitude_deg, site.longitude_deg, site.elevation_m,
                                                   lo.min() - _DARK_MARGIN_D, hi.max() + _DARK_MARGIN_D,
                                                   constraints.sun_altitude_deg)
-    ra, dec, _ = _place_of_date(windows)
+    pointing = _pointing(windows, site)
     observable = intervals.intersect(intervals.clip_to_windows(dark_start, dark_end, lo, hi),
-                                     _above_limit(windows, site, constraints, ra, dec), n)
+                                     _above_limit(windows, site, constraints, pointing), n)
     if constraints.moon_sep_deg > 0:
-        observable = intervals.intersect(observable, _moon_clear(windows, site, constraints, ra, dec), n)
+        observable = intervals.intersect(observable, _moon_clear(windows, site, constraints, pointing), n)
     return observable
 
 
 def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
     """Target altitude (apparent) and airmass, Sun altitude and Moon separation at mid-transit."""
-    ra, dec, jd_tt = _place_of_date(windows)
-    mid = windows["mid_jd_utc"].to_numpy()
-    lst = almanac.local_sidereal_deg(mid, site.longitude_deg)
-    geometric = almanac.altitude_deg(lst - ra, dec, site.latitude_deg)
-    sun_ra, sun_dec = almanac.sun_radec_deg(jd_tt)
+    mid = windows["mid_jd_utc"].to_numpy(dtype=float)
+    pointing = _pointing(windows, site)
+    geometric = np.degrees(np.arcsin(np.clip(_sin_altitude(*pointing.target, pointing, site), -1.0, 1.0)))
+    sun = SKY_TABLE.at(mid, SKY_SUN).T
+    sin_sun_alt = _sin_altitude(*sun, pointing, site) / np.sqrt(sun[0] ** 2 + sun[1] ** 2 + sun[2] ** 2)
     return pd.DataFrame({
         "alt_mid_deg": geometric + almanac.refraction_deg(geometric, site.air_pressure_hpa, site.temperature_c),
         "airmass_mid": airmass_kasten_young(geometric),
-        "sun_alt_mid_deg": almanac.altitude_deg(lst - sun_ra, sun_dec, site.latitude_deg),
-        "moon_sep_deg": _moon_separation_deg(mid, site, ra, dec),
+        "sun_alt_mid_deg": np.degrees(np.arcsin(np.clip(sin_sun_alt, -1.0, 1.0))),
+        "moon_sep_deg": _moon_separation_deg(mid, pointing.target, site, pointing.lst_deg),
     }, index=windows.index)
