@@ -283,7 +283,6 @@ def _target_row(path: Path, line: int, row: pd.Series, coordinates: tuple[str, s
     values["t0_period_cov_d2"] = _number(path, line, "t0_period_cov_d2", cov, "a covariance in d^2") if cov else 0.0
     _check_target_values(path, line, values)
     _check_body_columns(path, line, row)
-    _warn_odd_target(path, line, values)
     return values
 
 
@@ -316,14 +315,16 @@ def _check_body_columns(path: Path, line: int, row: pd.Series) -> None:
             _number(path, line, column, text, "a number (units as in the column name) or an empty cell")
 
 
-def _warn_odd_target(path: Path, line: int, v: dict) -> None:
-    where = _where(path, line)
+def _odd_target_notes(path: Path, line: int, v: dict) -> list[str]:
+    """Warnings for a valid row with plausible but odd values."""
+    where, notes = _where(path, line), []
     if v["period_err_d"] > ODD_PERIOD_ERR_FRACTION * v["period_d"]:
-        log.warning("%s, field period_err_d: %g d is more than 1 %% of the period (%g d); check the units "
-                    "(predicted times blur within a few epochs)", where, v["period_err_d"], v["period_d"])
+        notes.append(f"{where}, field period_err_d: {v['period_err_d']:g} d is more than 1 % of the period "
+                     f"({v['period_d']:g} d); check the units (predicted times blur within a few epochs)")
     if v["t0_err_d"] * 24.0 > v["duration_h"]:
-        log.warning("%s, field t0_err_d: %g d is longer than the transit itself (%g h); check the units",
-                    where, v["t0_err_d"], v["duration_h"])
+        notes.append(f"{where}, field t0_err_d: {v['t0_err_d']:g} d is longer than the transit itself "
+                     f"({v['duration_h']:g} h); check the units")
+    return notes
 
 
 def read_targets(path: str | Path) -> pd.DataFrame:
@@ -345,6 +346,9 @@ def read_targets(path: str | Path) -> pd.DataFrame:
         earlier = int(table.index[int(np.flatnonzero(parsed["name"] == name)[0])])
         raise InputError(f"{_where(path, int(table.index[first]))}, field name: target {name!r} appears twice "
                          f"(also on line {earlier}); expected unique names")
+    for line, values in zip(table.index, rows):  # warnings only once the whole file is valid
+        for note in _odd_target_notes(path, int(line), values):
+            log.warning("%s", note)
     extra = [c for c in table.columns if c not in parsed.columns and c not in ("ra", "dec")]
     return pd.concat([parsed, table[extra].reset_index(drop=True)], axis=1)
 
