@@ -40,8 +40,9 @@ TARGET_ERRORS = {
     "text_in_radius.csv": ("line 3", "field planet_radius_earth", "a number", "'large'"),
     "negative_period.csv": ("line 2", "field period_d", "period of at least", "-2.84631"),
     "zero_period.csv": ("line 3", "field period_d", "period of at least", "got 0"),
-    "period_err_exceeds_period.csv": ("line 2", "field period_err_d", "smaller than the period", "3.1"),
+    "period_err_exceeds_period.csv": ("line 2", "field period_err_d", "smaller than half the period", "3.1"),
     "negative_t0_err.csv": ("line 3", "field t0_err_d", ">= 0"),
+    "t0_err_over_half_period.csv": ("line 3", "field t0_err_d", "smaller than half the period", "2.5 d"),
     "covariance_too_large.csv": ("line 3", "field t0_period_cov_d2", "t0_err_d * period_err_d"),
     "dec_beyond_90.csv": ("line 3", "field dec_deg", "-90 <= Dec <= 90", "-95.2"),
     "ra_beyond_360.csv": ("line 2", "field ra_deg", "0 <= RA < 360", "384.3"),
@@ -195,7 +196,8 @@ def test_corpus_is_large_enough():
     assert len(cases) >= 40
     listed = {f"targets/{n}" for n in TARGET_ERRORS} | {f"sites/{n}" for n in SITE_ERRORS} | \
              {f"campaign/{n}" for n in (*CAMPAIGN_ERRORS, *CAMPAIGN_COMPANION_ERRORS)} | \
-             {f"timings/{n}" for n in TIMING_ERRORS} | {str(Path(*a)) for a, *_ in ACCEPTED + WARNED}
+             {f"timings/{n}" for n in (*TIMING_ERRORS, "single_timing.csv")} | \
+             {str(Path(*a)) for a, *_ in ACCEPTED + WARNED}
     assert {str(p.relative_to(CORPUS)) for p in cases} == listed  # every file is exercised
 
 
@@ -280,6 +282,7 @@ def test_harmless_variants_give_the_companions_result(no_network, tmp_path, part
 WARNED = [
     (("targets", "period_err_over_1_percent.csv"), ("line 2", "field period_err_d", "1 %", "0.05 d")),
     (("targets", "t0_err_longer_than_transit.csv"), ("line 3", "field t0_err_d", "0.2 d", "2.75 h")),
+    (("targets", "duration_over_half_period.csv"), ("line 2", "field duration_h", "40 h", "half the period")),
     (("sites", "unknown_key.toml"), ("[sites.alto_verde]", "unknown key 'humidity'")),
     (("sites", "low_altitude_limit.toml"), ("[sites.alto_verde] min_altitude_deg 5", "below 10 degrees")),
     (("sites", "high_elevation.toml"), ("[sites.alto_verde] elevation_m 5600", "above 5000 m")),
@@ -299,3 +302,31 @@ def test_odd_values_warn_and_the_command_succeeds(no_network, tmp_path, parts, w
     assert len(warnings) == 1, result.output
     assert str(path) in warnings[0] and all(w in warnings[0] for w in words), warnings[0]
     assert all(p.stat().st_size > 0 for p in _outputs(command, tmp_path))
+
+
+# Faults only the command line can report well; each needs the cli.py change named in its
+# reason (strict: the test starts failing, as a reminder to drop the mark, once it is made).
+def _gap(reason: str):
+    return pytest.mark.xfail(strict=True, reason=f"needs cli.py: {reason}")
+
+
+CLI_GAPS = [
+    pytest.param(lambda out: _windows(GOOD / "targets.csv", GOOD / "sites.toml", out, "--min-altitude", "95"),
+                 ("--min-altitude", "from -5 to 89"), id="option-named",
+                 marks=_gap("prefix Constraints errors from overrides with the option's name")),
+    pytest.param(lambda out: ("refit", CORPUS / "timings" / "single_timing.csv", "--out", out / "refit.csv"),
+                 (str(CORPUS / "timings" / "single_timing.csv"), "'Brisa-4 b'", "two or more distinct epochs"),
+                 id="refit-names-timings-file", marks=_gap("prefix refit_targets errors with the timings file")),
+    pytest.param(lambda out: (*_windows(GOOD / "targets.csv", GOOD / "sites.toml", out)[:-4], "--csv", out,
+                              "--force"),
+                 (), id="output-is-a-folder",
+                 marks=_gap("refuse an output path that is a folder; report OSError as one line")),
+]
+
+
+@pytest.mark.parametrize("arguments, words", CLI_GAPS)
+def test_command_line_faults_are_one_error_line(tmp_path, arguments, words):
+    out = tmp_path / "out"
+    out.mkdir()
+    _assert_one_error_line(_run(*arguments(out)), None, words)
+    assert _snapshot(out) == {}

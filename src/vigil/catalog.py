@@ -71,10 +71,8 @@ class Site:
         return 1013.25 * (1.0 - 2.25577e-5 * self.elevation_m) ** 5.25588
 
 
-def _where(path: Path, line: int | None = None, key: str | None = None) -> str:
-    if line is not None:
-        return f"{path}: line {line}"
-    return f"{path}: [{key}]" if key else str(path)
+def _where(path: Path, line: int) -> str:
+    return f"{path}: line {line}"
 
 
 def _spelling_hint(wanted, found) -> str:
@@ -295,9 +293,10 @@ def _check_target_values(path: Path, line: int, v: dict) -> None:
     for column in ("t0_err_d", "period_err_d"):
         if v[column] < 0:
             raise InputError(f"{where}, field {column}: expected an uncertainty >= 0 days, got {v[column]:g}")
-    if v["period_err_d"] >= v["period_d"]:
-        raise InputError(f"{where}, field period_err_d: expected an uncertainty smaller than the period "
-                         f"({v['period_d']:g} d), got {v['period_err_d']:g} d")
+    for column in ("t0_err_d", "period_err_d"):
+        if v[column] >= v["period_d"] / 2:
+            raise InputError(f"{where}, field {column}: expected an uncertainty smaller than half the period "
+                             f"({v['period_d'] / 2:g} d; beyond it the transit phase is unknown), got {v[column]:g} d")
     if v["duration_h"] <= 0 or v["duration_h"] / 24.0 >= v["period_d"]:
         raise InputError(f"{where}, field duration_h: expected 0 < duration < period ({v['period_d'] * 24:g} h), "
                          f"got {v['duration_h']:g} h")
@@ -321,6 +320,10 @@ def _odd_target_notes(path: Path, line: int, v: dict) -> list[str]:
     if v["period_err_d"] > ODD_PERIOD_ERR_FRACTION * v["period_d"]:
         notes.append(f"{where}, field period_err_d: {v['period_err_d']:g} d is more than 1 % of the period "
                      f"({v['period_d']:g} d); check the units (predicted times blur within a few epochs)")
+    # Circular orbit: T14 = (P / pi) asin(...) <= P / 2 (Seager & Mallen-Ornelas 2003, eq. 3; from memory).
+    if v["duration_h"] > v["period_d"] * 12.0:
+        notes.append(f"{where}, field duration_h: {v['duration_h']:g} h is more than half the period "
+                     f"({v['period_d']:g} d), longer than a circular orbit allows; check the units")
     if v["t0_err_d"] * 24.0 > v["duration_h"]:
         notes.append(f"{where}, field t0_err_d: {v['t0_err_d']:g} d is longer than the transit itself "
                      f"({v['duration_h']:g} h); check the units")
