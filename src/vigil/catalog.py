@@ -353,7 +353,9 @@ def read_targets(path: str | Path) -> pd.DataFrame:
         for note in _odd_target_notes(path, int(line), values):
             log.warning("%s", note)
     extra = [c for c in table.columns if c not in parsed.columns and c not in ("ra", "dec")]
-    return pd.concat([parsed, table[extra].reset_index(drop=True)], axis=1)
+    result = pd.concat([parsed, table[extra].reset_index(drop=True)], axis=1)
+    result.attrs["source_lines"] = dict(zip(parsed["name"], (int(line) for line in table.index)))
+    return result
 
 
 def _timing_row(path: Path, line: int, row: pd.Series) -> dict:

@@ -21,6 +21,7 @@ from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv
 from vigil.journal_cli import journal_app
+from vigil.visibility import Constraints
 from vigil.windows import plan_windows
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
@@ -62,6 +63,20 @@ def _print_summary(windows, title: str) -> None:
 
 EXACT_HELP = ("Use the exact astropy engine (samples every 5 min; about 100x slower) instead of the fast "
               "analytic one (edges within about a minute of it).")
+
+
+OPTION_OF = {"min_altitude_deg": "--min-altitude", "twilight": "--twilight", "baseline_h": "--baseline",
+             "sigma_k": "--sigma", "moon_sep_deg": "--moon-sep"}
+
+
+def _check_options(overrides: dict) -> None:
+    """Check each constraint option on its own so an error names the option."""
+    for key, value in overrides.items():
+        if value is not None:
+            try:
+                Constraints(**{key: value})
+            except InputError as exc:
+                raise InputError(f"{OPTION_OF[key]}: {str(exc).split(': ', 1)[1]}") from None
 
 
 def _engine(exact: bool) -> str:
@@ -116,6 +131,7 @@ def windows(
     overrides = {"min_altitude_deg": min_altitude, "twilight": twilight, "baseline_h": baseline,
                  "sigma_k": sigma, "moon_sep_deg": moon_sep}
     with user_errors():
+        _check_options(overrides)
         refuse_overwrite((csv_path, ics_path), force)
         result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
                               _engine(exact), event, local_time)
@@ -262,7 +278,10 @@ def refit(
         refuse_overwrite((out_path, oc_path, plot_path), force)
         timings = catalog.read_timings(timings_file)
         targets = catalog.read_targets(targets_file) if targets_file is not None else None
-        refitted, o_minus_c = refit_targets(timings, targets)
+        try:
+            refitted, o_minus_c = refit_targets(timings, targets)
+        except InputError as exc:
+            raise InputError(f"{timings_file}: {exc}") from None
         write_csv(refitted, out_path, text_columns=("name",))
         write_csv(o_minus_c, oc_path, text_columns=("target",))
         plot_o_minus_c(o_minus_c, plot_path)

@@ -34,11 +34,24 @@ def user_errors():
     try:
         yield
     except InputError as exc:
-        err.print(f"vigil: error: {exc}", highlight=False, soft_wrap=True, markup=False)
-        raise typer.Exit(2) from None
+        _error_line(str(exc))
+    except OSError as exc:  # an output that cannot be written: a folder, a read-only place, a full disk
+        _error_line(f"cannot write {exc.filename or 'an output file'}: {exc.strerror or exc}")
+
+
+def _error_line(message: str):
+    err.print(f"vigil: error: {message}", highlight=False, soft_wrap=True, markup=False)
+    raise typer.Exit(2) from None
 
 
 def refuse_overwrite(paths, force: bool) -> None:
+    """Refuse outputs that exist (unless forced), that are folders, or whose folder is a file."""
     for path in paths:
-        if path is not None and path.exists() and not force:
+        if path is None:
+            continue
+        if path.is_dir():
+            raise InputError(f"{path} is a folder; expected a file name for the output")
+        if any(parent.exists() and not parent.is_dir() for parent in path.parents):
+            raise InputError(f"{path}: a part of this path is a file, not a folder")
+        if path.exists() and not force:
             raise InputError(f"{path} exists; pass --force to replace it")

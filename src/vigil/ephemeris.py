@@ -85,7 +85,7 @@ def project_transits(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: f
                      event: str = "transit") -> pd.DataFrame:
     """One row per event (transit or occultation) of each target with mid-time in [start, end] (BJD_TDB).
 
-    Columns: target, event, epoch, mid_bjd_tdb, mid_sigma_d, duration_h, ra_deg, dec_deg. An
+    Columns: target, event, epoch, mid_bjd_tdb, mid_sigma_d, duration_h, period_d, ra_deg, dec_deg. An
     occultation carries the epoch of the transit before it and that transit's timing sigma.
     """
     if not end_bjd_tdb > start_bjd_tdb:
@@ -101,10 +101,11 @@ def project_transits(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: f
             "mid_bjd_tdb": row.t0_bjd_tdb + offset + epochs * row.period_d,
             "mid_sigma_d": mid_sigma_d(epochs, row.t0_err_d, row.period_err_d, row.t0_period_cov_d2),
             "duration_h": duration,
+            "period_d": row.period_d,
             "ra_deg": row.ra_deg,
             "dec_deg": row.dec_deg,
         }))
-    columns = ["target", "event", "epoch", "mid_bjd_tdb", "mid_sigma_d", "duration_h", "ra_deg", "dec_deg"]
+    columns = ["target", "event", "epoch", "mid_bjd_tdb", "mid_sigma_d", "duration_h", "period_d", "ra_deg", "dec_deg"]
     if not parts:
         return pd.DataFrame(columns=columns)
     return pd.concat(parts, ignore_index=True)[columns]

@@ -25,6 +25,8 @@ TRANSIT_COLUMNS = {
     "epoch": "transit number counted from t0",
     "mid_bjd_tdb": "predicted mid-transit time, BJD_TDB",
     "mid_sigma_d": "1-sigma uncertainty of the mid-time, days",
+    "duration_h": "event duration, first to fourth contact, hours",
+    "period_d": "orbital period, days",
     "mid_jd_utc": "mid-transit time as seen at the site, JD in UTC",
     "ingress_jd_utc": "first contact at the site, JD in UTC",
     "egress_jd_utc": "fourth contact at the site, JD in UTC",

@@ -6,6 +6,7 @@ coverage classes and conditions at mid-transit.
 
 from __future__ import annotations
 
+import numpy as np
 import pandas as pd
 from astropy.time import Time
 
@@ -31,7 +32,11 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: visibility.Con
     """Windows table for one site: padded windows, coverage, conditions at mid."""
     engine_module = ENGINES[engine]
     padded = visibility.pad_windows(at_site(transits, site, start, end, engine_module), constraints)
-    observable = engine_module.observable_intervals(padded, site, constraints)
+    # Once K sigma exceeds half a period the transit's phase is lost: it cannot be planned
+    # (coverage none), and its days-wide window is not handed to the engine.
+    timed = (constraints.sigma_k * padded["mid_sigma_d"] < 0.5 * padded["period_d"]).to_numpy()
+    row, obs_start, obs_end = engine_module.observable_intervals(padded[timed].reset_index(drop=True), site, constraints)
+    observable = (np.flatnonzero(timed)[row], obs_start, obs_end)
     classified = visibility.classify(padded, observable, constraints.sigma_k)
     return pd.concat([classified, engine_module.conditions_at_mid(padded, site)], axis=1)
 
