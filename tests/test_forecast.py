@@ -75,9 +75,17 @@ def test_stacked_hours_count_each_visit_from_its_end():
     visits = pd.DataFrame({"target": ["x", "x", "x"], "site": ["a", "b", "a"],
                            "start_jd_utc": [10.0, 10.1, 11.0], "end_jd_utc": [10.5, 10.3, 11.2],
                            "in_transit_h": [3.0, 1.0, 2.0], "baseline_h": [1.0, 0.5, 1.0]})
-    end_jd, hours_in, hours_out = forecast.stacked_hours(visits, np.ones((1, 3), dtype=bool), "x")
-    assert end_jd.tolist() == [10.3, 10.5, 11.2]
-    assert hours_in.tolist() == [[1.0, 4.0, 6.0]] and hours_out.tolist() == [[0.5, 1.5, 2.5]]
+    end_jd, hours_in, hours_out = forecast.stacked_hours(visits, np.ones((1, 3), dtype=bool), "x", 9.0)
+    assert end_jd.tolist() == [9.0, 10.3, 10.5, 11.2]
+    assert hours_in.tolist() == [[0.0, 1.0, 4.0, 6.0]] and hours_out.tolist() == [[0.0, 0.5, 1.5, 2.5]]
+
+
+def test_hours_already_stacked_start_the_count():
+    # Hours from earlier observations add to the stack from the first day (common practice, no source).
+    visits = pd.DataFrame({"target": ["x"], "site": ["a"], "start_jd_utc": [10.0], "end_jd_utc": [10.5],
+                           "in_transit_h": [3.0], "baseline_h": [1.0]})
+    _, hours_in, hours_out = forecast.stacked_hours(visits, np.array([[True], [False]]), "x", 9.0, (5.0, 4.0))
+    assert hours_in.tolist() == [[5.0, 8.0], [5.0, 5.0]] and hours_out.tolist() == [[4.0, 5.0], [4.0, 4.0]]
 
 
 # --- the Earth twin --------------------------------------------------------------------------

@@ -23,7 +23,8 @@ MONTHS = 12
 FIRST_START_YEAR, LAST_START_YEAR = 1950, 2300
 KNOWN = {
     "campaign": {"start", "horizon_years", "targets", "sites_file", "sites", "trials", "seed", "coverage",
-                 "min_fraction", "min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg"},
+                 "min_fraction", "min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg", "journal"},
+    "refresh": {"every_years", "timing_err_min"},
     "allocation": {"per_target_per_semester", "per_site_per_semester", "overhead_h"},
     "instrument": {"aperture_m", "central_obstruction", "throughput", "wavelength_min_um", "wavelength_max_um",
                    "noise_floor_ppm"},
@@ -55,6 +56,9 @@ class CampaignSpec:
     per_site_per_semester: int | None = None
     overhead_h: float = 0.0
     constraints: dict = field(default_factory=dict)
+    journal_file: Path | None = None
+    refresh_every_years: float | None = None
+    refresh_timing_err_d: float = 0.0
 
     @property
     def end(self) -> Time:
@@ -183,6 +187,15 @@ def _check_sites_known(path: Path, sites_file: Path, names: tuple[str, ...]) -> 
                              f"{', '.join(known)}")
 
 
+def _refresh(path: Path, table: dict) -> dict:
+    """Planned ephemeris refreshes: one timing per target every N years, of the given precision."""
+    if not table:
+        return {}
+    every = float(_get(path, table, "refresh", "every_years", (int, float), 0.1, 100.0, default=..., unit=" years"))
+    error_min = float(_get(path, table, "refresh", "timing_err_min", (int, float), 0.01, 600.0, default=..., unit=" minutes"))
+    return {"refresh_every_years": every, "refresh_timing_err_d": error_min / 1440.0}
+
+
 def read_campaign(path: str | Path) -> CampaignSpec:
     """Read a campaign TOML file (see configs/campaign.example.toml for every key)."""
     path = Path(path)
@@ -218,6 +231,8 @@ def read_campaign(path: str | Path) -> CampaignSpec:
         per_site_per_semester=_get(path, allocation, "allocation", "per_site_per_semester", int, 0, 100_000, None),
         overhead_h=float(_get(path, allocation, "allocation", "overhead_h", (int, float), 0.0, 24.0, 0.0, " hours")),
         constraints=_checked_constraints(f"{path}: [campaign]", constraints),
+        journal_file=path.parent / c["journal"] if _get(path, c, "campaign", "journal", str, default=None) else None,
+        **_refresh(path, _table(path, document, "refresh", required=False)),
     )
     _warn_unknown(path, document, sites)
     return spec

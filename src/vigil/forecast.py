@@ -35,25 +35,24 @@ def snr2_per_hour(body: Body, spec: CampaignSpec) -> float:
     return float(spectrum.spectrum_snr(body.planet, body.star, spec.instrument, spec.goal_resolution, 1.0, 1.0)) ** 2
 
 
-def stacked_hours(visits: pd.DataFrame, clear: np.ndarray, target: str):
+def stacked_hours(visits: pd.DataFrame, clear: np.ndarray, target: str, start_jd_utc: float,
+                  prior_h: tuple[float, float] = (0.0, 0.0)):
     """(end_jd_utc of the target's visits in end order, cumulative in-transit and baseline hours
-    (trials, visits)). A visit's hours count from its end; visits at different sites can end
-    in another order than they start."""
+    (trials, visits)). The first column is the campaign start holding `prior_h` (hours already
+    stacked, e.g. from the journal); a visit's hours count from its end, and visits at
+    different sites can end in another order than they start."""
     rows = np.flatnonzero((visits["target"] == target).to_numpy())
     end_jd = visits["end_jd_utc"].to_numpy()[rows]
     order = np.argsort(end_jd, kind="stable")
-    rows, end_jd = rows[order], end_jd[order]
-    got = clear[:, rows]
-    hours_in = np.cumsum(got * visits["in_transit_h"].to_numpy()[rows], axis=1)
-    hours_out = np.cumsum(got * visits["baseline_h"].to_numpy()[rows], axis=1)
+    rows, end_jd = rows[order], np.concatenate([[start_jd_utc], end_jd[order]])
+    got = np.concatenate([np.ones((clear.shape[0], 1), dtype=bool), clear[:, rows]], axis=1)
+    hours_in = np.cumsum(got * np.r_[prior_h[0], visits["in_transit_h"].to_numpy()[rows]], axis=1)
+    hours_out = np.cumsum(got * np.r_[prior_h[1], visits["baseline_h"].to_numpy()[rows]], axis=1)
     return end_jd, hours_in, hours_out
 
 
 def _years_to_goal(body: Body, spec: CampaignSpec, end_jd, hours_in, hours_out) -> np.ndarray:
     """Years from the start until the goal is first met, per trial (inf if never)."""
-    trials = hours_in.shape[0]
-    if end_jd.size == 0:
-        return np.full(trials, np.inf)
     resolution = spectrum.achievable_resolution(body.planet, body.star, spec.instrument, spec.goal_snr, hours_in, hours_out)
     met = resolution >= spec.goal_resolution
     first = np.argmax(met, axis=1)
@@ -65,9 +64,8 @@ def _at_year_ends(end_jd, cumulative: np.ndarray, spec: CampaignSpec) -> np.ndar
     """Cumulative hours at the end of each campaign year, (trials, years)."""
     years = int(np.ceil(spec.horizon_years))
     cutoffs = spec.start.utc.jd + DAYS_PER_YEAR * np.minimum(np.arange(1, years + 1), spec.horizon_years)
-    index = np.searchsorted(end_jd, cutoffs, side="right")
-    padded = np.concatenate([np.zeros((cumulative.shape[0], 1)), cumulative], axis=1)
-    return padded[:, index]
+    index = np.searchsorted(end_jd, cutoffs, side="right")  # >= 1: the first column is the start
+    return cumulative[:, index - 1]
 
 
 def yearly_forecast(target: str, body: Body, spec: CampaignSpec, end_jd, hours_in, hours_out) -> pd.DataFrame:
@@ -94,12 +92,14 @@ def years_quantiles(years: np.ndarray) -> dict:
     return {"years_to_goal_p10": pick(0.1), "years_to_goal_p50": pick(0.5), "years_to_goal_p90": pick(0.9)}
 
 
-def target_summary(target: str, body: Body, spec: CampaignSpec, visits: pd.DataFrame, clear: np.ndarray) -> tuple[dict, pd.DataFrame, np.ndarray]:
-    """Summary row, yearly table and per-trial years-to-goal for one target."""
-    end_jd, hours_in, hours_out = stacked_hours(visits, clear, target)
+def target_summary(target: str, body: Body, spec: CampaignSpec, visits: pd.DataFrame, clear: np.ndarray,
+                   prior_h: tuple[float, float] = (0.0, 0.0)) -> tuple[dict, pd.DataFrame, np.ndarray]:
+    """Summary row, yearly table and per-trial years-to-goal for one target; `prior_h` are the
+    (in-transit, baseline) hours stacked before the start. Rates per year count new hours only."""
+    end_jd, hours_in, hours_out = stacked_hours(visits, clear, target, spec.start.utc.jd, prior_h)
     years = _years_to_goal(body, spec, end_jd, hours_in, hours_out)
     observed = clear[:, (visits["target"] == target).to_numpy()].sum(axis=1)
-    total_in = hours_in[:, -1] if hours_in.shape[1] else np.zeros(clear.shape[0])
+    total_in = hours_in[:, -1] - prior_h[0]
     row = {
         "target": target, "goal_resolution": spec.goal_resolution, "goal_snr": spec.goal_snr,
         "transits_per_year": float(observed.mean() / spec.horizon_years),

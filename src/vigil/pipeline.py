@@ -8,10 +8,11 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from vigil import bodies, campaign, forecast
+from vigil import bodies, campaign, forecast, upkeep
 from vigil.campaign_spec import CampaignSpec
 from vigil.catalog import Site
 from vigil.errors import InputError
+from vigil.journal import open_journal
 from vigil.windows import plan_windows
 
 TRIAL_CHUNK = 50
@@ -40,8 +41,25 @@ def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
 
 
 def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str) -> pd.DataFrame:
-    windows = plan_windows(targets, sites, constraints, spec.start, spec.end, engine=engine)
+    """Counted windows over the horizon, each stretch between planned refreshes with its own sigma."""
+    pieces = [plan_windows(part, sites, constraints, lo, hi, engine=engine)
+              for lo, hi, part in upkeep.segments(targets, spec.start, spec.end, spec.refresh_every_years,
+                                                   spec.refresh_timing_err_d)]
+    windows = pd.concat([p for p in pieces if len(p)] or pieces[:1], ignore_index=True)
+    windows = windows.drop_duplicates(["target", "site", "epoch"])  # a transit on a segment edge
     return campaign.visits_from_windows(windows, spec, {n: s.longitude_deg for n, s in sites.items()})
+
+
+def _from_journal(spec: CampaignSpec, targets: pd.DataFrame) -> tuple[pd.DataFrame, dict]:
+    """Targets with the journal's measured timings folded in, and hours already stacked per target."""
+    if spec.journal_file is None:
+        return targets, {}
+    if not spec.journal_file.exists():
+        raise InputError(f"{spec.journal_file}: journal not found (named by [campaign] journal)")
+    with open_journal(spec.journal_file) as journal:
+        timings, hours = journal.timings(), journal.executed_hours()
+    stacked = {row.target: (float(row.in_transit_h), float(row.baseline_h)) for row in hours.itertuples(index=False)}
+    return upkeep.assimilate_timings(targets, timings), stacked
 
 
 def _trials(scheduled: pd.DataFrame, spec: CampaignSpec, on_progress: Callable[[int], None] | None) -> np.ndarray:
@@ -63,30 +81,35 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
         raise InputError(f"{spec.sites_file}: campaign site {missing[0]!r} not found; sites are {', '.join(sites)}")
     sites = {n: sites[n] for n in spec.site_names}
     found, priority = _bodies(targets, spec)
+    targets, stacked = _from_journal(spec, targets)
     candidates = _candidates(targets, sites, spec, spec.constraints, engine)
     gain = {name: forecast.snr2_per_hour(body, spec) for name, body in found.items()}
     scheduled = campaign.schedule(candidates, gain, priority, spec)
     clear = _trials(scheduled, spec, on_progress)
     rows, yearly, years = [], [], {}
     for name, body in found.items():
-        row, table, years[name] = forecast.target_summary(name, body, spec, scheduled, clear)
-        row["limited_by"] = _limit(row, body, spec, scheduled, candidates, targets, sites, engine)
+        row, table, years[name] = forecast.target_summary(name, body, spec, scheduled, clear,
+                                                          stacked.get(name, (0.0, 0.0)))
+        row["limited_by"] = _limit(row, body, spec, scheduled, candidates, targets, sites, engine,
+                                   stacked.get(name, (0.0, 0.0))[0])
         rows.append(row)
         yearly.append(table)
     return CampaignResult(pd.DataFrame(rows), pd.concat(yearly, ignore_index=True), _ledger(scheduled, clear), years)
 
 
-def _limit(row, body, spec, scheduled, candidates, targets, sites, engine) -> str:
+def _limit(row, body, spec, scheduled, candidates, targets, sites, engine, prior_in_h: float) -> str:
+    """limited_by for one target; hours already stacked (journal) count towards every option."""
     name = row["target"]
     mine = candidates[candidates["target"] == name]
     ratio = float(mine["baseline_h"].sum() / mine["in_transit_h"].sum()) if len(mine) else 1.0
 
     def without_padding() -> float:
         unpadded = _candidates(targets[targets["name"] == name], sites, spec, {**spec.constraints, "sigma_k": 0.0}, engine)
-        return forecast.expected_in_transit_h(unpadded, spec, name)
+        return prior_in_h + forecast.expected_in_transit_h(unpadded, spec, name)
 
-    return forecast.limiting_factor(row, body, spec, forecast.expected_in_transit_h(scheduled, spec, name),
-                                    forecast.expected_in_transit_h(candidates, spec, name), without_padding, ratio)
+    return forecast.limiting_factor(row, body, spec, prior_in_h + forecast.expected_in_transit_h(scheduled, spec, name),
+                                    prior_in_h + forecast.expected_in_transit_h(candidates, spec, name),
+                                    without_padding, ratio)
 
 
 def _ledger(scheduled: pd.DataFrame, clear: np.ndarray) -> pd.DataFrame:
