@@ -17,7 +17,8 @@ import erfa
 import numpy as np
 import pandas as pd
 import pytest
-from astropy.coordinates import TETE, CartesianRepresentation, SkyCoord, get_body, get_body_barycentric, solar_system_ephemeris
+from astropy.coordinates import (TETE, CartesianRepresentation, SkyCoord, get_body, get_body_barycentric,
+                                 solar_system_ephemeris)
 from astropy.time import Time
 
 from vigil import almanac, fast_path, reference_path, visibility, windows
@@ -127,8 +128,7 @@ def _reference_margin_deg(table: pd.DataFrame, positions, jd_utc) -> np.ndarray:
 
 def _interior_edges(stretches, lo, hi):
     """(time, is_start) of the edges of a row's stretches that are not the window's own ends."""
-    edges = [(s, True) for s, _ in stretches if s > lo] + [(e, False) for _, e in stretches if e < hi]
-    return edges
+    return [(s, True) for s, _ in stretches if s > lo] + [(e, False) for _, e in stretches if e < hi]
 
 
 def test_workload_exercises_every_case(paired):
@@ -186,7 +186,8 @@ def test_fast_edges_are_within_a_minute_of_the_reference_constraint_crossings(pa
     before = _reference_margin_deg(table, positions, times - offset)
     after = _reference_margin_deg(table, positions, times + offset)
     crossing = np.where(is_start, (before < 0) & (after >= 0), (before >= 0) & (after < 0))
-    print(f"{positions.size} interior fast edges; {np.count_nonzero(~crossing)} without a reference crossing within 60 s")
+    print(f"{positions.size} interior fast edges; {np.count_nonzero(~crossing)} without a reference crossing "
+          "within 60 s")
     assert positions.size > 50
     assert np.all(crossing)
 
@@ -353,3 +354,20 @@ def test_topocentric_moon_moves_slower_than_the_bound_used_to_skip_sampling():
     fastest = float(np.max(_angle_arcsec(xyz[1:], xyz[:-1]) / 3600.0 / (10 * MINUTE_D)))
     print(f"topocentric Moon: fastest {fastest:.2f} deg/day; bound {fast_path.MOON_SEPARATION_RATE_DEG_PER_D}")
     assert 18.0 < fastest < fast_path.MOON_SEPARATION_RATE_DEG_PER_D
+
+
+def test_reused_pointing_never_serves_other_windows(paired):
+    # conditions_at_mid reuses the pointing computed for the same windows just before; windows
+    # that differ (here by one mid-time) must get their own. Reference: the same call on a
+    # fresh copy after an unrelated call has replaced what is kept.
+    table, _ = paired
+    site = SITES["mittelberg"]
+    rows = table[table["site"] == "mittelberg"].reset_index(drop=True)
+    fast_path.conditions_at_mid(rows, site)
+    moved = rows.copy()
+    moved.loc[0, "mid_jd_utc"] += 0.1
+    got = fast_path.conditions_at_mid(moved, site)
+    fast_path.conditions_at_mid(rows.iloc[:1], SITES["austral_ridge"])
+    expected = fast_path.conditions_at_mid(moved.copy(), site)
+    pd.testing.assert_frame_equal(got, expected, check_exact=True)
+    assert got["alt_mid_deg"].iat[0] != fast_path.conditions_at_mid(rows, site)["alt_mid_deg"].iat[0]

@@ -43,13 +43,13 @@ def test_one_process_matches_plan_windows(catalog, demo_sites, chunk_targets, in
     got = sweep.plan_windows_chunked(catalog, demo_sites, {"moon_sep_deg": 20.0}, START, END, jobs=1,
                                      chunk_targets=chunk_targets, include_unobservable=include_unobservable)
     assert len(expected) > 30
-    pd.testing.assert_frame_equal(got, expected)
+    pd.testing.assert_frame_equal(got, expected, check_exact=True)
 
 
 def test_two_processes_match_plan_windows(catalog, demo_sites):
     expected = windows.plan_windows(catalog, demo_sites, {}, START, END)
     got = sweep.plan_windows_chunked(catalog, demo_sites, {}, START, END, jobs=2, chunk_targets=5)
-    pd.testing.assert_frame_equal(got, expected)
+    pd.testing.assert_frame_equal(got, expected, check_exact=True)
 
 
 def test_occultations_match_plan_windows(catalog, demo_sites):
@@ -58,7 +58,7 @@ def test_occultations_match_plan_windows(catalog, demo_sites):
     expected = windows.plan_windows(eccentric, demo_sites, {}, START, END, event="occultation")
     got = sweep.plan_windows_chunked(eccentric, demo_sites, {}, START, END, chunk_targets=3, event="occultation")
     assert set(got["event"]) == {"occultation"}
-    pd.testing.assert_frame_equal(got, expected)
+    pd.testing.assert_frame_equal(got, expected, check_exact=True)
 
 
 def test_chunks_sized_by_expected_transits_match(catalog, demo_sites, monkeypatch):
@@ -67,7 +67,7 @@ def test_chunks_sized_by_expected_transits_match(catalog, demo_sites, monkeypatc
     seen = []
     got = sweep.plan_windows_chunked(catalog, demo_sites, {}, START, END,
                                      on_chunk=lambda table, done, total: seen.append((len(table), done, total)))
-    pd.testing.assert_frame_equal(got, windows.plan_windows(catalog, demo_sites, {}, START, END))
+    pd.testing.assert_frame_equal(got, windows.plan_windows(catalog, demo_sites, {}, START, END), check_exact=True)
     assert len(seen) > 5
     assert [done for _, done, _ in seen] == sorted({done for _, done, _ in seen})
     assert seen[-1][1:] == (len(catalog), len(catalog))
@@ -81,7 +81,7 @@ def test_equal_mid_times_fall_back_to_the_full_sort(catalog, demo_sites):
     expected = windows.plan_windows(twins, demo_sites, {}, START, END, include_unobservable=True)
     assert expected["mid_jd_utc"].duplicated().any()
     got = sweep.plan_windows_chunked(twins, demo_sites, {}, START, END, chunk_targets=3, include_unobservable=True)
-    pd.testing.assert_frame_equal(got, expected)
+    pd.testing.assert_frame_equal(got, expected, check_exact=True)
 
 
 def test_nothing_observable_gives_the_same_empty_table(catalog, demo_sites):
@@ -90,7 +90,7 @@ def test_nothing_observable_gives_the_same_empty_table(catalog, demo_sites):
     expected = windows.plan_windows(catalog, demo_sites, {}, START, end)
     got = sweep.plan_windows_chunked(catalog, demo_sites, {}, START, end, chunk_targets=3)
     assert expected.empty
-    pd.testing.assert_frame_equal(got, expected)
+    pd.testing.assert_frame_equal(got, expected, check_exact=True)
 
 
 @pytest.mark.parametrize("kwargs, field", [({"jobs": 0}, "jobs"), ({"jobs": 1.5}, "jobs"),

@@ -665,6 +665,7 @@ def _sun_crossings(start, end, start_dark, day, lat_deg, lon_deg, sun_alt_deg):
     sin_lat, cos_lat, sin_h0 = np.sin(lat), np.cos(lat), np.sin(np.radians(sun_alt_deg))
     ha_rate_rad = np.radians(_SOLAR_DAY_HOUR_ANGLE_RATE_DEG_PER_D)
     lo, hi = start.copy(), end.copy()
+    converged = np.zeros(t.shape, dtype=bool)
     for _ in range(40):
         ha, dec = _sun_hour_angle_dec(t, day, lon_deg)
         ha_rad, dec_rad = np.radians(ha), np.radians(dec)
@@ -679,9 +680,12 @@ def _sun_crossings(start, end, start_dark, day, lat_deg, lon_deg, sun_alt_deg):
         with np.errstate(divide="ignore", invalid="ignore"):
             t_new = t - g / dg
         t_new = np.where((t_new >= lo) & (t_new <= hi), t_new, 0.5 * (lo + hi))
-        converged = np.all(np.abs(t_new - t) < 1e-6)  # 0.09 s
+        # Each crossing stops once its own step is below 1e-6 d (0.09 s), so that a night's
+        # answer does not depend on which other nights are solved in the same call.
+        t_new = np.where(converged, t, t_new)
+        converged |= np.abs(t_new - t) < 1e-6
         t = t_new
-        if converged:
+        if np.all(converged):
             break
     return t
 

@@ -10,17 +10,20 @@ mid-transit are intersected with the dark intervals and clipped to the window by
 limit; elsewhere it is settled by its value at mid-transit (see `_moon_clear`).
 
 Target-independent quantities are tabulated once per process on fixed grids of Julian dates,
-in blocks computed on first use, and interpolated linearly (`_Table`). Linear interpolation
-over a step h errs by at most h^2/8 max|f''|; for a rotating direction, interpolating the
-vector and normalising it leaves only the part due to the change of its angular rate:
-- `SKY_TABLE` (1 d, JD UTC): precession-nutation matrix and annual aberration (< 0.01": the
-  13.7 d nutation term and the yearly aberration are the most curved), the equation of the
-  equinoxes (< 0.01") and the Sun's direction (< 0.3", from the orbit's eccentricity).
+in blocks computed on first use (`_Table`), and read at the nearest node or interpolated
+linearly. Linear interpolation over a step h errs by at most h^2/8 max|f''|; for a rotating
+direction, interpolating the vector leaves only the part due to the change of its angular
+rate (and a shortening of the vector, removed by normalising). Bounds, checked in the tests:
+- `SKY_TABLE` (3 h, JD UTC): precession-nutation matrix, annual aberration and equation of
+  the equinoxes at the nearest node (< 0.05": the place of date moves < 0.7"/day), and the
+  Sun's direction, interpolated (< 0.01").
 - `EARTH_TABLE` (1 d, JD TDB): the Earth's barycentric position (< 4e-5 au, 20 ms of light).
-- `MOON_TABLE` (1 h, JD UTC): the geocentric Moon (< 1", from its varying angular rate).
+- `MOON_TABLE` (1 h, JD UTC): the geocentric Moon (< 1", and < 7 km in distance).
 Error budget of the engine (checked against the reference path in the tests): place of date
 ~0.5", UT1 taken as UTC < 0.004 deg in hour angle, Sun ~0.003 deg, refraction model ~0.01 deg:
-window edges within about a minute.
+window edges within about a minute. Each row's results depend on that row alone (the tables
+on their fixed nodes, the dark intervals night by night), so a catalog planned in chunks gets
+the same numbers bit for bit (vigil.sweep relies on this).
 """
 
 from __future__ import annotations
@@ -43,45 +46,48 @@ MOON_STEP_MIN = 20.0
 # 6.5 deg/day from the diurnal parallax (1.02 deg swung at 6.3 rad/day): 23 deg/day, taken as
 # 26; the Moon-target angle changes no faster (triangle inequality).
 MOON_SEPARATION_RATE_DEG_PER_D = 26.0
+SKY_STEP_D = 1.0 / 8.0
+EARTH_STEP_D = 1.0
+MOON_STEP_D = 1.0 / 24.0
 _DARK_MARGIN_D = 1.0
 _AU_LIGHT_D = 499.004783836 / 86400.0  # light time for one astronomical unit, days
 _BLOCK_NODES = 1024
-_BLOCKS_KEPT = 2048  # per table: the hourly Moon over 240 years, 50 MB
+_BLOCKS_KEPT = 2048  # per table: 240 years of the hourly Moon (50 MB), 700 of the 3-hourly sky (270 MB)
 
 
 class _Table(NamedTuple):
-    """Rows of a function of time tabulated at the nodes k * step_d (JD), in blocks of nodes.
+    """Columns of functions of time tabulated at the nodes k * step_d (JD), in blocks of nodes.
 
     `block(b)` returns the values at nodes b * _BLOCK_NODES ... (b + 1) * _BLOCK_NODES - 1 as
-    an array (_BLOCK_NODES, n_rows), node by node (one gather fetches all the rows of a node);
+    an array (_BLOCK_NODES, n_columns), node by node (one gather fetches a node's columns);
     it is cached, so each block is computed once a process.
     """
 
     step_d: float
-    n_rows: int
+    n_columns: int
     block: Callable[[int], np.ndarray]
 
-    def at(self, jd: np.ndarray, rows: slice = slice(None)) -> np.ndarray:
-        """Rows interpolated linearly at the Julian dates jd (1-d), shaped (jd.size, n_rows)."""
+    def at(self, jd: np.ndarray, columns: slice = slice(None)) -> np.ndarray:
+        """Columns interpolated linearly at the Julian dates jd (1-d), shaped (jd.size, columns)."""
         scaled = np.asarray(jd, dtype=float) / self.step_d
         node = np.floor(scaled)
-        values, index = self._values(node, node + 1, rows)
+        values, index = self._values(node, node + 1, columns)
         below = values[index]
         return below + (values[index + 1] - below) * (scaled - node)[:, None]
 
-    def nearest(self, jd: np.ndarray, rows: slice = slice(None)) -> np.ndarray:
-        """Rows at the node nearest to each Julian date in jd (1-d), shaped (jd.size, n_rows)."""
+    def nearest(self, jd: np.ndarray, columns: slice = slice(None)) -> np.ndarray:
+        """Columns at the node nearest to each Julian date in jd (1-d), shaped (jd.size, columns)."""
         node = np.rint(np.asarray(jd, dtype=float) / self.step_d)
-        values, index = self._values(node, node, rows)
+        values, index = self._values(node, node, columns)
         return values[index]
 
-    def _values(self, low_node, high_node, rows: slice):
-        """The tabulated rows over the blocks from low_node to high_node, and the index into them of low_node."""
+    def _values(self, low_node, high_node, columns: slice):
+        """The columns of the blocks from low_node to high_node, and the position of low_node in them."""
         if low_node.size == 0:
-            return np.empty((1, len(range(self.n_rows)[rows]))), np.zeros(0, dtype=np.intp)
+            return np.empty((1, len(range(self.n_columns)[columns]))), np.zeros(0, dtype=np.intp)
         first = int(low_node.min()) // _BLOCK_NODES
         last = int(high_node.max()) // _BLOCK_NODES
-        values = np.concatenate([self.block(b)[:, rows] for b in range(first, last + 1)])
+        values = np.concatenate([self.block(b)[:, columns] for b in range(first, last + 1)])
         return values, (low_node - first * _BLOCK_NODES).astype(np.intp)
 
 
@@ -115,9 +121,6 @@ def _moon_block(block: int) -> np.ndarray:
     return np.column_stack(almanac.moon_geocentric_km(jd_tt))
 
 
-SKY_STEP_D = 1.0 / 8.0
-EARTH_STEP_D = 1.0
-MOON_STEP_D = 1.0 / 24.0
 SKY_TABLE = _Table(SKY_STEP_D, 16, _sky_block)
 EARTH_TABLE = _Table(EARTH_STEP_D, 3, _earth_block)
 MOON_TABLE = _Table(MOON_STEP_D, 3, _moon_block)
@@ -126,11 +129,16 @@ SKY_STAR_OF_DATE, SKY_EQUATION_OF_EQUINOXES, SKY_SUN = slice(0, 12), slice(12, 1
 _POINTING = slice(0, 13)  # star of date and equation of the equinoxes, fetched together
 
 
-def _unit_vectors(ra_deg, dec_deg) -> np.ndarray:
-    """ICRS unit vectors, shaped (n, 3)."""
-    ra, dec = np.radians(ra_deg), np.radians(dec_deg)
+def _unit_vectors(ra_deg: np.ndarray, dec_deg: np.ndarray) -> np.ndarray:
+    """ICRS unit vectors, shaped (n, 3), computed once per run of rows with equal coordinates
+    (the transits of one target come together)."""
+    new_run = np.ones(ra_deg.size, dtype=bool)
+    new_run[1:] = (ra_deg[1:] != ra_deg[:-1]) | (dec_deg[1:] != dec_deg[:-1])
+    first = np.flatnonzero(new_run)
+    ra, dec = np.radians(ra_deg[first]), np.radians(dec_deg[first])
     cos_dec = np.cos(dec)
-    return np.column_stack([cos_dec * np.cos(ra), cos_dec * np.sin(ra), np.sin(dec)])
+    vectors = np.column_stack([cos_dec * np.cos(ra), cos_dec * np.sin(ra), np.sin(dec)])
+    return np.repeat(vectors, np.diff(np.append(first, ra_deg.size)), axis=0)
 
 
 def _dot(a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -138,15 +146,40 @@ def _dot(a: np.ndarray, b: np.ndarray) -> np.ndarray:
     return a[:, 0] * b[:, 0] + a[:, 1] * b[:, 1] + a[:, 2] * b[:, 2]
 
 
+class _Latest:
+    """The result of the latest computation with copies of its inputs, handed back when the
+    next call's inputs are equal (windows.site_windows asks for some things twice, and
+    plan_windows for the mid-times once per site, which this engine computes alike)."""
+
+    def __init__(self):
+        self._inputs = None
+        self._result = None
+
+    def get(self, key, arrays: tuple, compute: Callable):
+        kept = self._inputs
+        if kept is not None and kept[0] == key and all(np.array_equal(a, b) for a, b in zip(kept[1], arrays)):
+            return self._result
+        self._result = compute(*arrays)
+        self._inputs = (key, tuple(a.copy() for a in arrays))
+        return self._result
+
+
+_latest_mid, _latest_pointing = _Latest(), _Latest()
+
+
 def site_mid_jd_utc(transits: pd.DataFrame, site: Site) -> np.ndarray:
     """Mid-transit as seen at the site, JD UTC, from BJD_TDB (Roemer delay of the geocentre).
 
     Neglected: the site's offset from the geocentre (< 21 ms), TDB - TT (< 2 ms), relativistic
     delays (< 0.1 ms); with the tabulated Earth (20 ms) the whole conversion is within 0.05 s
-    of astropy's.
+    of astropy's. Being the same for every site, it is computed once for a run of sites.
     """
-    bjd = transits["mid_bjd_tdb"].to_numpy(dtype=float)
-    direction = _unit_vectors(transits["ra_deg"].to_numpy(dtype=float), transits["dec_deg"].to_numpy(dtype=float))
+    columns = tuple(transits[c].to_numpy(dtype=float) for c in ("mid_bjd_tdb", "ra_deg", "dec_deg"))
+    return _latest_mid.get(None, columns, _geocentre_mid_jd_utc).copy()
+
+
+def _geocentre_mid_jd_utc(bjd, ra_deg, dec_deg) -> np.ndarray:
+    direction = _unit_vectors(ra_deg, dec_deg)
     seen_tt = bjd
     for _ in range(2):  # the delay changes by < 1e-4 s per s: two passes converge
         seen_tt = bjd - _dot(EARTH_TABLE.at(seen_tt), direction) * _AU_LIGHT_D
@@ -166,9 +199,15 @@ class _Pointing(NamedTuple):
 
 
 def _pointing(windows: pd.DataFrame, site: Site) -> _Pointing:
-    mid = windows["mid_jd_utc"].to_numpy(dtype=float)
+    """Each window's pointing at mid-transit (asked for by observable_intervals, then again by
+    conditions_at_mid); read-only arrays."""
+    columns = tuple(windows[c].to_numpy(dtype=float) for c in ("mid_jd_utc", "ra_deg", "dec_deg"))
+    return _latest_pointing.get(site, columns, lambda mid, ra, dec: _compute_pointing(mid, ra, dec, site))
+
+
+def _compute_pointing(mid, ra, dec, site: Site) -> _Pointing:
     terms = np.ascontiguousarray(SKY_TABLE.nearest(mid, _POINTING).T)
-    x0, y0, z0 = _unit_vectors(windows["ra_deg"].to_numpy(dtype=float), windows["dec_deg"].to_numpy(dtype=float)).T
+    x0, y0, z0 = _unit_vectors(ra, dec).T
     v = np.empty((3, mid.size))
     for r in range(3):
         np.multiply(terms[3 * r], x0, out=v[r])
@@ -180,7 +219,10 @@ def _pointing(windows: pd.DataFrame, site: Site) -> _Pointing:
     v -= v_dot_beta * v
     lst = _local_sidereal_deg(mid, terms[12], site)
     lst_rad = np.radians(lst)
-    return _Pointing(v, lst, np.cos(lst_rad), np.sin(lst_rad))
+    pointing = _Pointing(v, lst, np.cos(lst_rad), np.sin(lst_rad))
+    for array in pointing:
+        array.setflags(write=False)  # handed to later calls too
+    return pointing
 
 
 def _local_sidereal_deg(jd_utc, equation_of_equinoxes_deg, site: Site):
@@ -196,7 +238,8 @@ def _sin_altitude(x, y, z, pointing: _Pointing, site: Site) -> np.ndarray:
 def _above_limit(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing):
     """Flat interval set of time above the apparent altitude limit near each window."""
     limit = constraints.min_altitude_deg
-    geometric_limit = limit - almanac.refraction_deg(limit, site.air_pressure_hpa, site.temperature_c, alt_is_apparent=True)
+    geometric_limit = limit - almanac.refraction_deg(limit, site.air_pressure_hpa, site.temperature_c,
+                                                     alt_is_apparent=True)
     x, y, z = pointing.target
     lat = np.radians(site.latitude_deg)
     numerator = np.sin(np.radians(geometric_limit)) - np.sin(lat) * z
@@ -227,8 +270,9 @@ def _above_limit(windows: pd.DataFrame, site: Site, constraints: Constraints, po
 def _moon_separation_deg(jd_utc, target: np.ndarray, site: Site, lst_deg=None) -> np.ndarray:
     """Angle (deg) between directions of date (3, n) and the Moon seen from the site at jd_utc.
 
-    The site's position (WGS84) rotated by the local apparent sidereal time (computed unless
-    given) is taken from the tabulated geocentric Moon; the angle is atan2(|a x b|, a . b).
+    The Moon seen from the site is the tabulated geocentric Moon minus the site's position
+    (WGS84) turned by the local apparent sidereal time (computed unless given); the angle is
+    atan2(|a x b|, a . b), accurate at all angles.
     """
     if lst_deg is None:
         lst_deg = _local_sidereal_deg(jd_utc, SKY_TABLE.nearest(jd_utc, SKY_EQUATION_OF_EQUINOXES)[:, 0], site)
@@ -264,6 +308,16 @@ def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, poi
     return row[order], np.concatenate([start, lo[clear]])[order], np.concatenate([end, hi[clear]])[order]
 
 
+@lru_cache(maxsize=64)
+def _dark_intervals(lat_deg, lon_deg, elev_m, jd_utc_start, jd_utc_end, sun_alt_deg):
+    """almanac.dark_intervals, kept for repeated calls (chunks of a catalog share their span:
+    it is rounded out to whole days, which changes no night inside it). Read-only arrays."""
+    starts, ends = almanac.dark_intervals(lat_deg, lon_deg, elev_m, jd_utc_start, jd_utc_end, sun_alt_deg)
+    starts.setflags(write=False)
+    ends.setflags(write=False)
+    return starts, ends
+
+
 def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constraints):
     """Flat interval set (row, start, end), JD UTC, of observable time inside each window."""
     n = len(windows)
@@ -271,9 +325,9 @@ def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constra
         empty = np.array([], dtype=float)
         return np.array([], dtype=int), empty, empty
     lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
-    dark_start, dark_end = almanac.dark_intervals(site.latitude_deg, site.longitude_deg, site.elevation_m,
-                                                  lo.min() - _DARK_MARGIN_D, hi.max() + _DARK_MARGIN_D,
-                                                  constraints.sun_altitude_deg)
+    dark_start, dark_end = _dark_intervals(site.latitude_deg, site.longitude_deg, site.elevation_m,
+                                           float(np.floor(lo.min()) - _DARK_MARGIN_D),
+                                           float(np.ceil(hi.max()) + _DARK_MARGIN_D), constraints.sun_altitude_deg)
     pointing = _pointing(windows, site)
     observable = intervals.intersect(intervals.clip_to_windows(dark_start, dark_end, lo, hi),
                                      _above_limit(windows, site, constraints, pointing), n)

@@ -1,10 +1,12 @@
 """Catalog-scale windows: `windows.plan_windows` over chunks of targets, optionally in processes.
 
-Each chunk of consecutive targets is planned on its own (so memory is bounded by the chunk,
-not by the catalog times the horizon); the chunk tables are then merged into the order that
-`plan_windows` gives the whole catalog: by mid-time, then target, then site. Worker
-processes are started with the "spawn" method, so this works where fork is unavailable or
-unsafe (macOS, Windows, threads in the parent).
+Each chunk of consecutive targets is planned on its own (so working memory is bounded by
+the chunk, not by the catalog times the horizon; the result itself is of course whole); the
+chunk tables are then merged into the order that `plan_windows` gives the whole catalog: by
+mid-time, then target, then site. Every row is computed from its own transit alone (see
+vigil.fast_path), so the numbers are the same bit for bit. Worker processes are started
+with the "spawn" method, so this works where fork is unavailable or unsafe (macOS, Windows,
+threads in the parent); each worker pays once for importing vigil (about a second or two).
 """
 
 from __future__ import annotations
