@@ -22,6 +22,12 @@ def mid_sigma_d(epoch, t0_err_d, period_err_d, cov_d2=0.0):
 
 def epochs_between(t0_bjd_tdb: float, period_d: float, start_bjd_tdb: float, end_bjd_tdb: float) -> np.ndarray:
     """All integer epochs n with start <= T0 + n P <= end (both ends inclusive)."""
+    first, last = epoch_range(t0_bjd_tdb, period_d, start_bjd_tdb, end_bjd_tdb)
+    return np.arange(first, last + 1, dtype=np.int64)
+
+
+def epoch_range(t0_bjd_tdb: float, period_d: float, start_bjd_tdb: float, end_bjd_tdb: float) -> tuple[int, int]:
+    """(first, last) integer epoch with start <= T0 + n P <= end; last < first when there is none."""
     first = int(np.ceil((start_bjd_tdb - t0_bjd_tdb) / period_d))
     last = int(np.floor((end_bjd_tdb - t0_bjd_tdb) / period_d))
     # The rounded quotient can land one epoch off an end that falls exactly on a mid-time;
@@ -34,7 +40,7 @@ def epochs_between(t0_bjd_tdb: float, period_d: float, start_bjd_tdb: float, end
         last += 1
     while t0_bjd_tdb + last * period_d > end_bjd_tdb:
         last -= 1
-    return np.arange(first, last + 1, dtype=np.int64)
+    return first, last
 
 
 EVENTS = ("transit", "occultation")
@@ -91,21 +97,23 @@ def project_transits(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: f
     if not end_bjd_tdb > start_bjd_tdb:
         raise InputError("the end of the date range must come after its start")
     offsets, durations = event_offsets(targets, event)
-    parts = []
-    for row, offset, duration in zip(targets.itertuples(index=False), offsets, durations):
-        epochs = epochs_between(row.t0_bjd_tdb + offset, row.period_d, start_bjd_tdb, end_bjd_tdb)
-        parts.append(pd.DataFrame({
-            "target": row.name,
-            "event": event,
-            "epoch": epochs,
-            "mid_bjd_tdb": row.t0_bjd_tdb + offset + epochs * row.period_d,
-            "mid_sigma_d": mid_sigma_d(epochs, row.t0_err_d, row.period_err_d, row.t0_period_cov_d2),
-            "duration_h": duration,
-            "period_d": row.period_d,
-            "ra_deg": row.ra_deg,
-            "dec_deg": row.dec_deg,
-        }))
-    columns = ["target", "event", "epoch", "mid_bjd_tdb", "mid_sigma_d", "duration_h", "period_d", "ra_deg", "dec_deg"]
-    if not parts:
-        return pd.DataFrame(columns=columns)
-    return pd.concat(parts, ignore_index=True)[columns]
+    t0 = targets["t0_bjd_tdb"].to_numpy(dtype=float) + offsets
+    period = targets["period_d"].to_numpy(dtype=float)
+    ranges = np.array([epoch_range(t, p, start_bjd_tdb, end_bjd_tdb) for t, p in zip(t0, period)],
+                      dtype=np.int64).reshape(-1, 2)
+    first, counts = ranges[:, 0], np.maximum(ranges[:, 1] - ranges[:, 0] + 1, 0)
+    which = np.repeat(np.arange(len(targets)), counts)
+    epochs = first[which] + (np.arange(which.size) - np.repeat(np.cumsum(counts) - counts, counts))
+    names = targets["name"].astype(str).to_numpy()
+    column = lambda name: targets[name].to_numpy(dtype=float)[which]  # noqa: E731
+    return pd.DataFrame({
+        "target": names[which],
+        "event": pd.Categorical([event] * which.size, categories=EVENTS),
+        "epoch": epochs,
+        "mid_bjd_tdb": t0[which] + epochs * period[which],
+        "mid_sigma_d": mid_sigma_d(epochs, column("t0_err_d"), column("period_err_d"), column("t0_period_cov_d2")),
+        "duration_h": durations[which],
+        "period_d": period[which],
+        "ra_deg": column("ra_deg"),
+        "dec_deg": column("dec_deg"),
+    })

@@ -26,7 +26,6 @@ from vigil.errors import InputError
 # With chunk_targets=None, consecutive targets are grouped until their expected transits
 # (horizon / period, each) reach this many; each transit then makes one row per site.
 CHUNK_TRANSITS = 100_000
-SORT_KEYS = ["mid_jd_utc", "target", "site"]
 
 
 def plan_windows_chunked(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,
@@ -93,21 +92,9 @@ def _collect(results, bounds, total: int, on_chunk) -> list[pd.DataFrame]:
 
 
 def _merge(tables: list[pd.DataFrame]) -> pd.DataFrame:
-    """Chunk tables (each sorted by SORT_KEYS) into one table sorted by SORT_KEYS.
-
-    Mid-times of different rows practically never coincide; when none do, the order by
-    mid-time alone is the order by all keys, and a stable sort of the concatenated sorted
-    runs is cheap. Otherwise all keys are sorted as plan_windows sorts them.
-    """
+    """Chunk tables into one table in plan_windows' order (windows.in_time_order)."""
     filled = [t for t in tables if len(t)]
     if not filled:
         typed = [t for t in tables if "ra_deg" in t.columns]
         return (typed or tables)[0]
-    table = pd.concat(filled, ignore_index=True) if len(filled) > 1 else filled[0]
-    mid = table["mid_jd_utc"].to_numpy()
-    order = np.argsort(mid, kind="stable")
-    if np.any(np.diff(mid[order]) == 0.0):
-        return table.sort_values(SORT_KEYS, kind="stable").reset_index(drop=True)
-    if np.all(order[1:] > order[:-1]):
-        return table.reset_index(drop=True)
-    return table.take(order).reset_index(drop=True)
+    return windows.in_time_order(pd.concat(filled, ignore_index=True) if len(filled) > 1 else filled[0])

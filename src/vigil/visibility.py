@@ -14,6 +14,7 @@ import pandas as pd
 
 from vigil import intervals
 from vigil.errors import InputError
+from vigil.schema import COVERAGE_CLASSES
 from vigil.sky import TWILIGHT_SUN_ALT_DEG
 
 HOURS_PER_DAY = 24.0
@@ -97,7 +98,8 @@ def classify(windows: pd.DataFrame, observable, sigma_k: float) -> pd.DataFrame:
     full = intervals.any_covers(row, start, end, lo, hi, n)
     pre = intervals.any_covers(row, start, end, lo, mid + ksig, n)
     post = intervals.any_covers(row, start, end, mid - ksig, hi, n)
-    coverage = np.select([full, pre, post, fraction > 0], ["full", "ingress", "egress", "partial"], "none")
+    codes = np.select([full, pre, post, fraction > 0], [0, 1, 2, 3], 4)  # positions in COVERAGE_CLASSES
+    coverage = pd.Categorical.from_codes(codes, categories=COVERAGE_CLASSES)
     out = windows.copy()
     out["coverage"] = coverage
     out["observable_fraction"] = np.where(full, 1.0, fraction)

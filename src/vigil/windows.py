@@ -10,7 +10,7 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil import ephemeris, fast_path, reference_path, schema, visibility
+from vigil import ephemeris, fast_path, reference_path, schema, space_path, visibility
 from vigil.catalog import Site
 from vigil.errors import InputError
 
@@ -29,8 +29,9 @@ def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time, engine=r
 
 def site_windows(transits: pd.DataFrame, site: Site, constraints: visibility.Constraints,
                  start: Time, end: Time, engine: str = "fast") -> pd.DataFrame:
-    """Windows table for one site: padded windows, coverage, conditions at mid."""
-    engine_module = ENGINES[engine]
+    """Windows table for one site: padded windows, coverage, conditions at mid. A site of kind
+    space always goes to the space engine; `engine` chooses for ground sites."""
+    engine_module = space_path if site.kind == "space" else ENGINES[engine]
     padded = visibility.pad_windows(at_site(transits, site, start, end, engine_module), constraints)
     # Once K sigma exceeds half a period the transit's phase is lost: it cannot be planned
     # (coverage none), and its days-wide window is not handed to the engine.
@@ -57,4 +58,15 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
     table = pd.concat(tables, ignore_index=True)
     if not include_unobservable:
         table = table[table["coverage"] != "none"]
-    return table.sort_values(["mid_jd_utc", "target", "site"], kind="stable").reset_index(drop=True)
+    return in_time_order(table)
+
+
+def in_time_order(table: pd.DataFrame) -> pd.DataFrame:
+    """Rows sorted by mid-time, then target, then site (the three-key sort only if mid-times tie)."""
+    mid = table["mid_jd_utc"].to_numpy()
+    order = np.argsort(mid, kind="stable")
+    if np.any(np.diff(mid[order]) == 0):
+        return table.sort_values(["mid_jd_utc", "target", "site"], kind="stable").reset_index(drop=True)
+    if np.all(order[1:] > order[:-1]):
+        return table.reset_index(drop=True)
+    return table.take(order).reset_index(drop=True)
