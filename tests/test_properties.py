@@ -128,7 +128,7 @@ def target_rows(draw):
             "dec_deg": draw(st.floats(-90.0, 90.0)), "t0_bjd_tdb": draw(st.floats(2.4e6, 2.6e6)),
             "t0_err_d": draw(st.floats(0.0, 0.01)), "period_d": period,
             "period_err_d": draw(st.floats(0.0, period * 0.009)),
-            "duration_h": draw(st.floats(0.01, min(24.0, period * 24.0), exclude_max=True))}
+            "duration_h": draw(st.floats(0.01, min(24.0, period * 24.0 * 0.999)))}  # clear of the duration < period limit
 
 
 def _write(folder: str, name: str, text: str, bom: bool) -> Path:

@@ -13,7 +13,7 @@ from rich.table import Table
 
 from vigil import catalog, pipeline
 from vigil.campaign_spec import read_campaign
-from vigil.cli_support import err, out, refuse_overwrite, setup_logging, user_errors
+from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
@@ -22,7 +22,7 @@ from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv
 from vigil.journal_cli import journal_app
 from vigil.visibility import Constraints
-from vigil.windows import plan_windows
+from vigil.sweep import plan_windows_chunked
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
                        "how uncertain their times are, what a multi-year campaign collects and when the stacked "
@@ -61,6 +61,7 @@ def _print_summary(windows, title: str) -> None:
     out.print(f"[dim]{SAFETY_NOTE}[/dim]")
 
 
+JOBS_HELP = "Worker processes for the windows computation (targets are split into chunks) [default 1]."
 EXACT_HELP = ("Use the exact astropy engine (samples every 5 min; about 100x slower) instead of the fast "
               "analytic one (edges within about a minute of it).")
 
@@ -85,11 +86,14 @@ def _engine(exact: bool) -> str:
 
 def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
                  include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast",
-                 event: str = "transit", local_time: bool = False):
+                 event: str = "transit", local_time: bool = False, jobs: int = 1):
     targets = catalog.read_targets(targets_file)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
-    windows = plan_windows(targets, sites, overrides, _parse_date(start, "--start"), _parse_date(end, "--end"),
-                           engine=engine, include_unobservable=include_all, event=event)
+    with LazyProgress("windows (targets)") as progress:
+        windows = plan_windows_chunked(targets, sites, overrides, _parse_date(start, "--start"),
+                                       _parse_date(end, "--end"), jobs=jobs, engine=engine,
+                                       include_unobservable=include_all, event=event,
+                                       on_chunk=lambda _, done, total: progress.advance(done, total))
     if csv_path is not None:
         write_windows_csv(windows, csv_path, {n: s.timezone for n, s in sites.items()} if local_time else None)
     if ics_path is not None:
@@ -121,6 +125,7 @@ def windows(
                                    "eccentricity, omega_deg, inclination_deg) [default transit]."),
     local_time: bool = typer.Option(False, "--local-time", help="Add local civil times (each site's IANA timezone, "
                                     "with UTC offset) to the CSV."),
+    jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -134,7 +139,7 @@ def windows(
         _check_options(overrides)
         refuse_overwrite((csv_path, ics_path), force)
         result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
-                              _engine(exact), event, local_time)
+                              _engine(exact), event, local_time, jobs)
     _print_summary(result, f"Transit windows {start} to {end}")
     for path in (csv_path, ics_path):
         if path is not None:
@@ -198,9 +203,7 @@ def _verdict(row, spec) -> str:
     return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
 
 
-def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast"):
-    from rich.progress import Progress
-
+def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1):
     spec = read_campaign(campaign_file)
     targets = catalog.read_targets(spec.targets_file)
     if target is not None:
@@ -208,20 +211,14 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
             raise InputError(f"{spec.targets_file}: no target named {target!r}")
         targets = targets[targets["name"] == target].reset_index(drop=True)
     sites = catalog.read_sites(spec.sites_file)
-    progress = Progress(console=err, transient=True)
-    tasks = []
+    done = [0]
 
-    def advance(count: int) -> None:  # the bar appears once the trials start, after all input checks
-        if not tasks:
-            progress.start()
-            tasks.append(progress.add_task("weather trials", total=spec.trials))
-        progress.advance(tasks[0], count)
+    def trials_done(count: int) -> None:
+        done[0] += count
+        progress.advance(done[0], spec.trials)
 
-    try:
-        result = pipeline.run_campaign(spec, targets, sites, engine=engine, on_progress=advance)
-    finally:
-        if tasks:
-            progress.stop()
+    with LazyProgress("weather trials") as progress:
+        result = pipeline.run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=jobs)
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")
@@ -237,6 +234,7 @@ def campaign_command(
     out_dir: Path = typer.Option(Path("vigil-campaign"), "--out", metavar="DIR", help="Output folder for CSVs and PNG plots."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
+    jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
@@ -246,7 +244,7 @@ def campaign_command(
     setup_logging()
     with user_errors():
         refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact))
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs)
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
     else:

@@ -55,3 +55,28 @@ def refuse_overwrite(paths, force: bool) -> None:
             raise InputError(f"{path}: a part of this path is a file, not a folder")
         if path.exists() and not force:
             raise InputError(f"{path} exists; pass --force to replace it")
+
+
+class LazyProgress:
+    """A rich progress bar on stderr that appears only once work is under way (never before an
+    input error) and disappears when done. Use as a context manager; call `advance(done, total)`."""
+
+    def __init__(self, label: str):
+        from rich.progress import Progress
+
+        self._progress = Progress(console=err, transient=True)
+        self._label = label
+        self._task = None
+
+    def advance(self, done: int, total: int) -> None:
+        if self._task is None:
+            self._progress.start()
+            self._task = self._progress.add_task(self._label, total=total)
+        self._progress.update(self._task, completed=done, total=total)
+
+    def __enter__(self) -> "LazyProgress":
+        return self
+
+    def __exit__(self, *exc_info) -> None:
+        if self._task is not None:  # a never-started bar would still print an empty line
+            self._progress.stop()

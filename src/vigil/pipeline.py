@@ -13,7 +13,7 @@ from vigil.campaign_spec import CampaignSpec
 from vigil.catalog import Site
 from vigil.errors import InputError
 from vigil.journal import open_journal
-from vigil.windows import plan_windows
+from vigil.sweep import plan_windows_chunked
 
 TRIAL_CHUNK = 50
 
@@ -40,9 +40,9 @@ def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
     return found, priority
 
 
-def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str) -> pd.DataFrame:
+def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str, jobs: int = 1) -> pd.DataFrame:
     """Counted windows over the horizon, each stretch between planned refreshes with its own sigma."""
-    pieces = [plan_windows(part, sites, constraints, lo, hi, engine=engine)
+    pieces = [plan_windows_chunked(part, sites, constraints, lo, hi, jobs=jobs, engine=engine)
               for lo, hi, part in upkeep.segments(targets, spec.start, spec.end, spec.refresh_every_years,
                                                    spec.refresh_timing_err_d)]
     windows = pd.concat([p for p in pieces if len(p)] or pieces[:1], ignore_index=True)
@@ -74,7 +74,7 @@ def _trials(scheduled: pd.DataFrame, spec: CampaignSpec, on_progress: Callable[[
 
 
 def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Site], engine: str = "fast",
-                 on_progress: Callable[[int], None] | None = None) -> CampaignResult:
+                 on_progress: Callable[[int], None] | None = None, jobs: int = 1) -> CampaignResult:
     """Simulate the campaign: summary per target, yearly forecast, ledger of trial 0."""
     missing = [s for s in spec.site_names if s not in sites]
     if missing:
@@ -82,7 +82,7 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
     sites = {n: sites[n] for n in spec.site_names}
     found, priority = _bodies(targets, spec)
     targets, stacked = _from_journal(spec, targets)
-    candidates = _candidates(targets, sites, spec, spec.constraints, engine)
+    candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs)
     gain = {name: forecast.snr2_per_hour(body, spec) for name, body in found.items()}
     scheduled = campaign.schedule(candidates, gain, priority, spec)
     clear = _trials(scheduled, spec, on_progress)
