@@ -12,6 +12,7 @@ cells.
 from __future__ import annotations
 
 import csv
+import datetime
 import difflib
 import io
 import logging
@@ -25,6 +26,7 @@ import astropy.units as u
 import numpy as np
 import pandas as pd
 from astropy.coordinates import Angle
+from astropy.time import Time
 
 from vigil import bodies
 from vigil.errors import InputError
@@ -46,13 +48,47 @@ ODD_PERIOD_ERR_FRACTION = 0.01
 LOW_ALTITUDE_LIMIT_DEG = 10.0
 HIGH_ELEVATION_M = 5000.0
 CONSTRAINT_KEYS = ("min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg")
-SITE_KEYS = {"latitude_deg", "longitude_deg", "elevation_m", "timezone", "pressure_hpa", "temperature_c",
-             *CONSTRAINT_KEYS}
+GROUND_KEYS = ("latitude_deg", "longitude_deg", "elevation_m", "pressure_hpa", "temperature_c")
+SPACE_KEYS = ("sun_angle_min_deg", "sun_angle_max_deg", "interruption_period_h", "interruption_h",
+              "interruption_start_utc", "blackouts", "distance_from_earth_km")
+SITE_KEYS = {"kind", *GROUND_KEYS, "timezone", *CONSTRAINT_KEYS}
+SPACE_SITE_KEYS = {"kind", *SPACE_KEYS, "timezone", *CONSTRAINT_KEYS}
+# Constraints of the ground that mean nothing in space (the windows' padding still applies).
+GROUND_ONLY_CONSTRAINTS = ("min_altitude_deg", "twilight", "moon_sep_deg")
+# A field of regard typical of a Sun-shielded observatory far from the Earth (common practice, no source).
+DEFAULT_SUN_ANGLE_MIN_DEG = 85.0
+DEFAULT_SUN_ANGLE_MAX_DEG = 135.0
+DEFAULT_INTERRUPTION_START_JD_UTC = 2451544.5  # 2000-01-01 0h UTC
+MIN_INTERRUPTION_PERIOD_H = 0.1
+_LIGHT_KM_PER_S = 299792.458
+_AU_KM = 149597870.7
+
+
+@dataclass(frozen=True)
+class SpaceSettings:
+    """What limits an observatory in space.
+
+    The target is observable while its angle from the Sun lies in [sun_angle_min_deg,
+    sun_angle_max_deg], except during regular interruptions (interruption_h hours every
+    interruption_period_h hours, the first starting at interruption_start_jd_utc; none when
+    the period is None) and during blackouts ((start, end) pairs, JD UTC, sorted by start).
+    distance_from_earth_km (from the geocentre; None if not given) sizes the notes on the errors
+    of taking the site at the geocentre, and beyond a low orbit leaves moon_sep_deg NaN.
+    """
+
+    sun_angle_min_deg: float = DEFAULT_SUN_ANGLE_MIN_DEG
+    sun_angle_max_deg: float = DEFAULT_SUN_ANGLE_MAX_DEG
+    interruption_period_h: float | None = None
+    interruption_h: float = 0.0
+    interruption_start_jd_utc: float = DEFAULT_INTERRUPTION_START_JD_UTC
+    blackouts_jd_utc: tuple[tuple[float, float], ...] = ()
+    distance_from_earth_km: float | None = None
 
 
 @dataclass(frozen=True)
 class Site:
-    """A ground observatory. Longitude is east positive, in (-180, 180]."""
+    """An observatory: on the ground (longitude east positive, in (-180, 180]), or in space
+    when `space` is set (then latitude, longitude and elevation are NaN)."""
 
     name: str
     latitude_deg: float
@@ -62,6 +98,18 @@ class Site:
     pressure_hpa: float | None = None
     temperature_c: float = 10.0
     defaults: dict = field(default_factory=dict)
+    space: SpaceSettings | None = None
+
+    @classmethod
+    def in_space(cls, name: str, space: SpaceSettings, timezone: str | None = None,
+                 defaults: dict | None = None) -> "Site":
+        """A site of kind space: no place on the Earth."""
+        return cls(name, math.nan, math.nan, math.nan, timezone=timezone, defaults=dict(defaults or {}), space=space)
+
+    @property
+    def kind(self) -> str:
+        """'ground' or 'space'."""
+        return "ground" if self.space is None else "space"
 
     @property
     def air_pressure_hpa(self) -> float:
@@ -417,6 +465,11 @@ def _site(path: Path, name: str, entry) -> Site:
     key = f"sites.{name}"
     if not isinstance(entry, dict):
         raise InputError(f"{path}: [{key}]: expected a table of site fields, got {entry!r}")
+    kind = entry.get("kind", "ground")
+    if kind == "space":
+        return _space_site(path, name, entry)
+    if kind != "ground":
+        raise InputError(f"{path}: [{key}] kind: expected \"ground\" or \"space\", got {kind!r}")
     latitude = _site_number(path, key, entry, "latitude_deg", -90.0, 90.0, "degrees")
     longitude = _site_number(path, key, entry, "longitude_deg", -180.0, 360.0, "degrees east")
     elevation = _site_number(path, key, entry, "elevation_m", -500.0, 9000.0, "metres")
@@ -438,10 +491,17 @@ def _east_longitude_deg(longitude: float) -> float:
     return 180.0 if longitude == -180.0 else longitude
 
 
+def _warn_unknown_keys(path: Path, key: str, entry: dict, known: set) -> None:
+    for unknown in sorted(set(entry) - known):
+        if unknown in SPACE_KEYS:
+            log.warning("%s: [%s] key %r ignored: it is read for sites of kind = \"space\" only", path, key, unknown)
+        else:
+            log.warning("%s: [%s] unknown key %r ignored", path, key, unknown)
+
+
 def _note_site(path: Path, key: str, entry: dict, longitude: float, elevation: float, defaults: dict) -> None:
     """Warn about unknown keys and odd values of a site that is otherwise valid."""
-    for unknown in sorted(set(entry) - SITE_KEYS):
-        log.warning("%s: [%s] unknown key %r ignored", path, key, unknown)
+    _warn_unknown_keys(path, key, entry, SITE_KEYS)
     if longitude > 180.0:
         log.info("%s: [%s] longitude_deg %.4f read as 0-360 degrees east, used as %.4f (east positive, -180 to 180)",
                  path, key, longitude, _east_longitude_deg(longitude))
@@ -452,6 +512,103 @@ def _note_site(path: Path, key: str, entry: dict, longitude: float, elevation: f
     if altitude is not None and altitude < LOW_ALTITUDE_LIMIT_DEG:
         log.warning("%s: [%s] min_altitude_deg %g is below %g degrees, where the air mass exceeds 5 "
                     "and extinction and refraction are large", path, key, altitude, LOW_ALTITUDE_LIMIT_DEG)
+
+
+def _space_site(path: Path, name: str, entry: dict) -> Site:
+    """A site of kind space: Sun-angle band, interruptions, blackouts; no place on the Earth."""
+    key = f"sites.{name}"
+    where = f"{path}: [{key}]"
+    ground = next((k for k in GROUND_KEYS if k in entry), None)
+    if ground is not None:
+        raise InputError(f"{where} {ground}: a site of kind = \"space\" has no place on the Earth; remove {ground}, "
+                         "or remove the kind line for a ground site")
+    low = _optional_site_number(path, key, entry, "sun_angle_min_deg", 0.0, 180.0, "degrees", DEFAULT_SUN_ANGLE_MIN_DEG)
+    high = _optional_site_number(path, key, entry, "sun_angle_max_deg", 0.0, 180.0, "degrees", DEFAULT_SUN_ANGLE_MAX_DEG)
+    if not low < high:
+        raise InputError(f"{where} sun_angle_max_deg: expected more than sun_angle_min_deg ({low:g} degrees), got {high:g}")
+    period, lost = _interruptions(path, key, entry)
+    start = (_utc_jd(f"{where} interruption_start_utc", entry["interruption_start_utc"])
+             if "interruption_start_utc" in entry else DEFAULT_INTERRUPTION_START_JD_UTC)
+    distance = _optional_site_number(path, key, entry, "distance_from_earth_km", 0.0, 1e10, "km", None)
+    timezone = entry.get("timezone")
+    if timezone is not None:
+        _check_timezone(path, key, timezone)
+    defaults = _checked_constraints(where, {k: entry[k] for k in CONSTRAINT_KEYS if k in entry})
+    space = SpaceSettings(sun_angle_min_deg=low, sun_angle_max_deg=high, interruption_period_h=period,
+                          interruption_h=lost, interruption_start_jd_utc=start,
+                          blackouts_jd_utc=_blackouts(where, entry.get("blackouts", [])), distance_from_earth_km=distance)
+    _note_space_site(path, key, entry, space)
+    return Site.in_space(name, space, timezone=timezone, defaults=defaults)
+
+
+def _optional_site_number(path: Path, key: str, entry: dict, field_name: str, low: float, high: float, unit: str,
+                          default):
+    return _site_number(path, key, entry, field_name, low, high, unit) if field_name in entry else default
+
+
+def _interruptions(path: Path, key: str, entry: dict) -> tuple[float | None, float]:
+    """(interruption_period_h or None, interruption_h): both given, or neither."""
+    where = f"{path}: [{key}]"
+    if "duty_cycle" in entry:
+        raise InputError(f"{where} duty_cycle: not read; describe the lost time as interruption_h hours every "
+                         "interruption_period_h hours instead")
+    pair = ("interruption_period_h", "interruption_h")
+    given = [k for k in pair if k in entry]
+    if not given:
+        return None, 0.0
+    if len(given) == 1:
+        missing = next(k for k in pair if k not in entry)
+        raise InputError(f"{where} {missing}: required with {given[0]} (interruptions last interruption_h hours "
+                         "every interruption_period_h hours)")
+    period = _site_number(path, key, entry, "interruption_period_h", MIN_INTERRUPTION_PERIOD_H, 1e5, "hours")
+    lost = _site_number(path, key, entry, "interruption_h", 0.0, period, "hours")
+    if lost == period:
+        raise InputError(f"{where} interruption_h: expected less than interruption_period_h ({period:g} hours), "
+                         f"got {lost:g}: the site would never observe")
+    return period, lost
+
+
+def _utc_jd(where: str, value) -> float:
+    """JD UTC of an ISO 8601 date or date-time read as UTC, or of a TOML date-time (an offset one
+    is converted to UTC, a local one read as UTC)."""
+    if isinstance(value, datetime.datetime) and value.tzinfo is not None:
+        value = value.astimezone(datetime.timezone.utc).replace(tzinfo=None)
+    if isinstance(value, datetime.date):
+        value = value.isoformat()
+    try:
+        if not isinstance(value, str):
+            raise ValueError(value)
+        return float(Time(value, scale="utc").jd)
+    except ValueError:
+        raise InputError(f"{where}: expected a UTC date or date-time such as \"2031-03-01T06:00\", got {value!r}") from None
+
+
+def _blackouts(where: str, value) -> tuple[tuple[float, float], ...]:
+    """The blackouts as (start, end) JD UTC pairs sorted by start, from [start, end] pairs."""
+    if not isinstance(value, list) or any(not isinstance(pair, list) or len(pair) != 2 for pair in value):
+        raise InputError(f"{where} blackouts: expected a list of [start, end] pairs of UTC date-times, got {value!r}")
+    pairs = []
+    for number, (start, end) in enumerate(value, start=1):
+        field_name = f"{where} blackouts (pair {number})"
+        lo, hi = _utc_jd(f"{field_name} start", start), _utc_jd(f"{field_name} end", end)
+        if not hi > lo:
+            raise InputError(f"{field_name}: expected the end after the start, got {start!r} to {end!r}")
+        pairs.append((lo, hi))
+    return tuple(sorted(pairs))
+
+
+def _note_space_site(path: Path, key: str, entry: dict, space: SpaceSettings) -> None:
+    """Warn about unknown keys and ignored constraints; note what the distance from the Earth costs."""
+    _warn_unknown_keys(path, key, entry, SPACE_SITE_KEYS)
+    for name in GROUND_ONLY_CONSTRAINTS:
+        if name in entry:
+            log.warning("%s: [%s] %s ignored: it constrains ground sites only", path, key, name)
+    distance = space.distance_from_earth_km
+    if distance is not None:
+        log.info("%s: [%s] times and the Sun are taken at the Earth's centre; %g km from it, the site sees each "
+                 "mid-time up to %.2f s earlier or later and the Sun up to %.2f deg elsewhere (less near the "
+                 "Sun-Earth line); windows are not widened for it", path, key, distance, distance / _LIGHT_KM_PER_S,
+                 math.degrees(math.asin(min(distance / _AU_KM, 1.0))))
 
 
 def _check_timezone(path: Path, key: str, name) -> None:
