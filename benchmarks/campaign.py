@@ -23,7 +23,7 @@ def main() -> None:
     t0 = time.perf_counter()
     windows = plan_windows(targets, sites, spec.constraints, spec.start, spec.end)
     t1 = time.perf_counter()
-    visits = campaign.visits_from_windows(windows, spec, {n: s.longitude_deg for n, s in sites.items()})
+    visits = campaign.visits_from_windows(windows, spec, sites)
     t2 = time.perf_counter()
     result = pipeline.run_campaign(spec, targets, sites)
     t3 = time.perf_counter()

@@ -169,7 +169,7 @@ def test_one_telescope_observes_one_target_at_a_time_and_priority_wins(priority_
                             {"name": "Ferrun-2 b", "ra_deg": 152.0, "period_d": 1.1, "t0_bjd_tdb": START_BJD_TDB + 0.35,
                              "magnitude": 8.5, "priority": priority_b})
     spec = campaign_spec(horizon_years=0.5)
-    candidates = campaign.visits_from_windows(windows_of(spec, targets), spec, {SOUTH.name: SOUTH.longitude_deg})
+    candidates = campaign.visits_from_windows(windows_of(spec, targets), spec, {SOUTH.name: SOUTH})
     clashes = _overlapping_pairs(candidates, "Brasa-4 b", "Ferrun-2 b")
     assert len(clashes) >= 5
     ledger = run(spec, targets).ledger

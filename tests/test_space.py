@@ -317,3 +317,22 @@ def test_annual_visibility_plot_writes_a_png(tmp_path):
     assert imread(path).shape[0] > 100
     with pytest.raises(InputError):
         annual_visibility_plot(targets, Site("hill", 1.0, 2.0, 3.0), [YEAR], tmp_path / "ground.png")
+
+
+def test_space_seasons_command_writes_ranges_and_chart(tmp_path):
+    # The command lists what annual_windows computes (checked above against geometry and astropy).
+    from typer.testing import CliRunner
+
+    from vigil.cli import app
+
+    sites = tmp_path / "space.toml"
+    sites.write_text('[sites.lagrange_eye]\nkind = "space"\nsun_angle_min_deg = 85\nsun_angle_max_deg = 135\n')
+    targets = tmp_path / "t.csv"
+    targets.write_text("name,ra_deg,dec_deg,t0_bjd_tdb,t0_err_d,period_d,period_err_d,duration_h\n"
+                       "Pole-1 b,270.0,66.56,2461000.5,0.001,3.3,0.00001,2.0\n")
+    result = CliRunner().invoke(app, ["space-seasons", str(targets), "--sites", str(sites), "--site", "lagrange_eye",
+                                      "--year", "2030", "--csv", str(tmp_path / "s.csv"), "--plot", str(tmp_path / "s.png")])
+    assert result.exit_code == 0, result.output
+    rows = (tmp_path / "s.csv").read_text().splitlines()
+    # near the north ecliptic pole (RA 18h, Dec +66.56) the Sun stays ~90 deg away all year
+    assert len(rows) == 2 and rows[1].endswith(",365.0") and (tmp_path / "s.png").stat().st_size > 0

@@ -22,7 +22,7 @@ from vigil.campaign_spec import CampaignSpec
 HOURS_PER_DAY = 24.0
 
 
-def visits_from_windows(windows: pd.DataFrame, spec: CampaignSpec, longitude_deg: dict) -> pd.DataFrame:
+def visits_from_windows(windows: pd.DataFrame, spec: CampaignSpec, sites: dict) -> pd.DataFrame:
     """Candidate visits: counted windows with in-transit and baseline hours, night and half-year.
 
     A visit spans the window's observable stretch; in-transit hours are its overlap with
@@ -33,7 +33,9 @@ def visits_from_windows(windows: pd.DataFrame, spec: CampaignSpec, longitude_deg
     start, end = w["observable_start_jd_utc"].to_numpy(), w["observable_end_jd_utc"].to_numpy()
     inside = np.clip(np.minimum(end, w["egress_jd_utc"]) - np.maximum(start, w["ingress_jd_utc"]), 0.0, None)
     months, years = _month_year(w["mid_jd_utc"].to_numpy())
-    local_day = np.floor(w["mid_jd_utc"].to_numpy() + w["site"].map(longitude_deg).to_numpy() / 360.0)
+    # the local noon-to-noon day (JD starts at noon UT); a space site keeps UTC days
+    east_deg = {name: 0.0 if site.kind == "space" else site.longitude_deg for name, site in sites.items()}
+    local_day = np.floor(w["mid_jd_utc"].to_numpy() + w["site"].map(east_deg).to_numpy() / 360.0)
     return pd.DataFrame({
         "target": w["target"], "site": w["site"], "epoch": w["epoch"], "coverage": w["coverage"],
         "mid_jd_utc": w["mid_jd_utc"], "start_jd_utc": start, "end_jd_utc": end,

@@ -291,6 +291,55 @@ def refit(
     out.print(f"wrote {out_path}, {oc_path}, {plot_path}")
 
 
+@app.command("space-seasons")
+def space_seasons(
+    targets_file: Path = typer.Argument(..., metavar="TARGETS.csv", help="Targets CSV (coordinates are what matter here)."),
+    sites_file: Path = typer.Option(..., "--sites", metavar="SITES.toml", help="Sites TOML holding the space site."),
+    site_name: str = typer.Option(..., "--site", metavar="NAME", help="A site of kind = \"space\"."),
+    year: int = typer.Option(..., "--year", metavar="YEAR", help="First calendar year (UTC)."),
+    years: int = typer.Option(1, "--years", metavar="N", min=1, max=50, help="Number of calendar years [default 1]."),
+    csv_path: Optional[Path] = typer.Option(None, "--csv", metavar="FILE", help="Write the date ranges here (CSV, UTC)."),
+    plot_path: Optional[Path] = typer.Option(None, "--plot", metavar="FILE", help="Write the chart here (PNG)."),
+    force: bool = typer.Option(False, "--force", help="Replace existing outputs (otherwise vigil refuses)."),
+):
+    """Date ranges in each year when a space observatory's Sun-angle band admits each target.
+
+    Only the field of regard counts here (interruptions and blackouts are applied by
+    `vigil windows`). Columns: target, site, window_start_utc, window_end_utc, length_d.
+    """
+    import pandas as pd
+
+    from vigil.export.space_plots import annual_visibility_plot
+    from vigil.space_path import annual_windows
+
+    setup_logging()
+    with user_errors():
+        refuse_overwrite((csv_path, plot_path), force)
+        targets = catalog.read_targets(targets_file)
+        site = _select_sites(catalog.read_sites(sites_file), [site_name], sites_file)[site_name]
+        if site.kind != "space":
+            raise InputError(f"{sites_file}: [sites.{site_name}] is a ground site; space-seasons needs kind = \"space\"")
+        rows = [{"target": t.name, "site": site_name, "start_jd": lo.utc.jd, "end_jd": hi.utc.jd}
+                for t in targets.itertuples(index=False) for y in range(year, year + years)
+                for lo, hi in annual_windows(t.ra_deg, t.dec_deg, site, y)]
+        table = pd.DataFrame(rows, columns=["target", "site", "start_jd", "end_jd"])
+        seasons = pd.DataFrame({"target": table["target"], "site": table["site"],
+                                "window_start_utc": iso_utc(table["start_jd"].to_numpy()),
+                                "window_end_utc": iso_utc(table["end_jd"].to_numpy()),
+                                "length_d": (table["end_jd"] - table["start_jd"]).round(2)})
+        if csv_path is not None:
+            write_csv(seasons, csv_path, text_columns=("target", "site"))
+        if plot_path is not None:
+            annual_visibility_plot(targets, site, list(range(year, year + years)), plot_path)
+    for target, group in seasons.groupby("target", sort=False):
+        spans = "; ".join(f"{a[:10]} to {b[:10]} ({d:.0f} d)" for a, b, d in
+                          zip(group["window_start_utc"], group["window_end_utc"], group["length_d"]))
+        out.print(f"{target}: {spans or 'never inside the field of regard'}", highlight=False)
+    for path in (csv_path, plot_path):
+        if path is not None:
+            out.print(f"wrote {path}")
+
+
 app.add_typer(journal_app, name="journal")
 
 

@@ -47,7 +47,7 @@ def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: s
                                                    spec.refresh_timing_err_d)]
     windows = pd.concat([p for p in pieces if len(p)] or pieces[:1], ignore_index=True)
     windows = windows.drop_duplicates(["target", "site", "epoch"])  # a transit on a segment edge
-    return campaign.visits_from_windows(windows, spec, {n: s.longitude_deg for n, s in sites.items()})
+    return campaign.visits_from_windows(windows, spec, sites)
 
 
 def _from_journal(spec: CampaignSpec, targets: pd.DataFrame) -> tuple[pd.DataFrame, dict]:

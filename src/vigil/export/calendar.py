@@ -43,13 +43,21 @@ def _utc(jd_utc: float) -> datetime:
     return datetime.fromisoformat(iso_utc([jd_utc])[0])
 
 
+def _conditions(w) -> str:
+    """Conditions at mid-transit; a space site has no altitude or airmass."""
+    moon = f"Moon {w.moon_sep_deg:.0f}° away" if w.moon_sep_deg == w.moon_sep_deg else "Moon not computed"
+    if w.alt_mid_deg != w.alt_mid_deg:  # NaN
+        return f"At mid: {moon}"
+    return f"At mid: altitude {w.alt_mid_deg:.1f}°, airmass {w.airmass_mid:.2f}, {moon}"
+
+
 def _describe(w, timezone_name: str | None = None) -> str:
     mid = Time(w.mid_jd_utc, format="jd", scale="utc", precision=0).isot
     lines = [
         f"Mid-transit {mid}Z ± {w.mid_sigma_d * 1440:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
         f"Ingress {Time(w.ingress_jd_utc, format='jd', precision=0).isot}Z, egress {Time(w.egress_jd_utc, format='jd', precision=0).isot}Z",
         f"Coverage {w.coverage}, {100 * w.observable_fraction:.0f}% of the transit observable",
-        f"At mid: altitude {w.alt_mid_deg:.1f}°, airmass {w.airmass_mid:.2f}, Moon {w.moon_sep_deg:.0f}° away",
+        _conditions(w),
         *([f"Times are UTC; the site's time zone is {timezone_name}"] if timezone_name else []),
         SAFETY_NOTE,
     ]
