@@ -396,3 +396,20 @@ def test_dark_intervals_reject_bad_input(kwargs):
     args.update(kwargs)
     with pytest.raises(InputError, match=next(iter(kwargs))):
         almanac.dark_intervals(**args)
+
+
+def test_azimuth_matches_astropy_altaz():
+    # astropy AltAz (pressure 0) is the reference; azimuth north 0, east 90.
+    import astropy.units as u
+    from astropy.coordinates import AltAz, EarthLocation, HADec, SkyCoord
+    from astropy.time import Time
+
+    rng = np.random.default_rng(11)
+    location = EarthLocation.from_geodetic(-70 * u.deg, -30 * u.deg, 2000 * u.m)
+    time = Time("2031-03-01T05:00:00", scale="utc")
+    ha, dec = rng.uniform(-180, 180, 200), rng.uniform(-80, 80, 200)
+    hadec = SkyCoord(ha=ha * u.deg, dec=dec * u.deg, frame=HADec(obstime=time, location=location))
+    altaz = hadec.transform_to(AltAz(obstime=time, location=location))
+    got = almanac.azimuth_deg(ha, dec, -30.0)
+    difference = (got - altaz.az.deg + 180.0) % 360.0 - 180.0
+    assert np.max(np.abs(difference)[altaz.alt.deg < 85]) < 0.02

@@ -575,6 +575,14 @@ def altitude_deg(ha_deg, dec_deg, lat_deg):
     return np.degrees(np.arcsin(np.clip(sin_alt, -1.0, 1.0)))
 
 
+def azimuth_deg(ha_deg, dec_deg, lat_deg):
+    """Azimuth in degrees [0, 360), north 0 and east 90, from hour angle, declination and latitude (deg)."""
+    ha, dec, lat = np.radians(ha_deg), np.radians(dec_deg), np.radians(lat_deg)
+    east = -np.cos(dec) * np.sin(ha)
+    north = np.sin(dec) * np.cos(lat) - np.cos(dec) * np.cos(ha) * np.sin(lat)
+    return np.degrees(np.arctan2(east, north)) % 360.0
+
+
 def hour_angle_at_altitude_deg(alt_deg, dec_deg, lat_deg):
     """Half-width in hour angle (deg, [0, 180]) of the arc where a target is above alt_deg.
 

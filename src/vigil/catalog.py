@@ -30,6 +30,7 @@ from astropy.time import Time
 
 from vigil import bodies
 from vigil.errors import InputError
+from vigil.facility import FACILITY_KEYS, Facility, read_facility
 from vigil.visibility import Constraints
 
 log = logging.getLogger("vigil")
@@ -51,7 +52,7 @@ CONSTRAINT_KEYS = ("min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moo
 GROUND_KEYS = ("latitude_deg", "longitude_deg", "elevation_m", "pressure_hpa", "temperature_c")
 SPACE_KEYS = ("sun_angle_min_deg", "sun_angle_max_deg", "interruption_period_h", "interruption_h",
               "interruption_start_utc", "blackouts", "distance_from_earth_km")
-SITE_KEYS = {"kind", *GROUND_KEYS, "timezone", *CONSTRAINT_KEYS}
+SITE_KEYS = {"kind", *GROUND_KEYS, "timezone", *CONSTRAINT_KEYS, *FACILITY_KEYS}
 SPACE_SITE_KEYS = {"kind", *SPACE_KEYS, "timezone", *CONSTRAINT_KEYS}
 # Constraints of the ground that mean nothing in space (the windows' padding still applies).
 GROUND_ONLY_CONSTRAINTS = ("min_altitude_deg", "twilight", "moon_sep_deg")
@@ -99,6 +100,7 @@ class Site:
     temperature_c: float = 10.0
     defaults: dict = field(default_factory=dict)
     space: SpaceSettings | None = None
+    facility: Facility = field(default_factory=Facility)
 
     @classmethod
     def in_space(cls, name: str, space: SpaceSettings, timezone: str | None = None,
@@ -481,7 +483,8 @@ def _site(path: Path, name: str, entry) -> Site:
     defaults = _checked_constraints(f"{path}: [{key}]", {k: entry[k] for k in CONSTRAINT_KEYS if k in entry})
     _note_site(path, key, entry, longitude, elevation, defaults)
     return Site(name=name, latitude_deg=latitude, longitude_deg=_east_longitude_deg(longitude), elevation_m=elevation,
-                timezone=timezone, pressure_hpa=pressure, temperature_c=temperature, defaults=defaults)
+                timezone=timezone, pressure_hpa=pressure, temperature_c=temperature, defaults=defaults,
+                facility=read_facility(f"{path}: [{key}]", entry))
 
 
 def _east_longitude_deg(longitude: float) -> float:

@@ -28,17 +28,21 @@ the same numbers bit for bit (vigil.sweep relies on this).
 
 from __future__ import annotations
 
+import logging
 from functools import lru_cache
 from typing import Callable, NamedTuple
 
 import erfa
 import numpy as np
 import pandas as pd
+from astropy.time import Time
 
 from vigil import almanac, intervals
 from vigil.catalog import Site
 from vigil.sky import airmass_kasten_young
 from vigil.visibility import Constraints
+
+log = logging.getLogger("vigil")
 
 SIDEREAL_DEG_PER_DAY = 360.98564736629  # Earth's rotation relative to the equinox, per UT day
 MOON_STEP_MIN = 20.0
@@ -46,6 +50,7 @@ MOON_STEP_MIN = 20.0
 # 6.5 deg/day from the diurnal parallax (1.02 deg swung at 6.3 rad/day): 23 deg/day, taken as
 # 26; the Moon-target angle changes no faster (triangle inequality).
 MOON_SEPARATION_RATE_DEG_PER_D = 26.0
+FACILITY_STEP_MIN = 5.0
 SKY_STEP_D = 1.0 / 8.0
 EARTH_STEP_D = 1.0
 MOON_STEP_D = 1.0 / 24.0
@@ -296,13 +301,18 @@ def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, poi
     """
     mid = windows["mid_jd_utc"].to_numpy(dtype=float)
     lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
+    facility = site.facility
     margin_mid = _moon_separation_deg(mid, pointing.target, site, pointing.lst_deg) - constraints.moon_sep_deg
     reach_deg = MOON_SEPARATION_RATE_DEG_PER_D * np.maximum(mid - lo, hi - mid)
+    if facility.moon_table:  # the limit follows the phase: every window is sampled
+        reach_deg = np.full(mid.shape, np.inf)
     near = np.flatnonzero(np.abs(margin_mid) <= reach_deg)
     clear = np.flatnonzero(margin_mid > reach_deg)
     sample_row, jd = intervals.sample_grid(lo[near], hi[near], MOON_STEP_MIN / 1440.0)
     separation = _moon_separation_deg(jd, pointing.target[:, near[sample_row]], site)
-    row, start, end = intervals.from_samples(sample_row, jd, separation - constraints.moon_sep_deg)
+    limit = facility.moon_limit_deg(almanac.moon_illuminated_fraction(almanac.jd_tt_from_utc(jd)),
+                                    constraints.moon_sep_deg)
+    row, start, end = intervals.from_samples(sample_row, jd, separation - limit)
     row = np.concatenate([near[row], clear])
     order = np.argsort(row, kind="stable")
     return row[order], np.concatenate([start, lo[clear]])[order], np.concatenate([end, hi[clear]])[order]
@@ -328,12 +338,38 @@ def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constra
     dark_start, dark_end = _dark_intervals(site.latitude_deg, site.longitude_deg, site.elevation_m,
                                            float(np.floor(lo.min()) - _DARK_MARGIN_D),
                                            float(np.ceil(hi.max()) + _DARK_MARGIN_D), constraints.sun_altitude_deg)
+    if dark_start.size == 0:
+        log.info("%s: the Sun's centre stays above %g deg from %s to %s: no %s darkness, so no transit there "
+                 "is observable", site.name, constraints.sun_altitude_deg, _date(lo.min()), _date(hi.max()),
+                 constraints.twilight)
     pointing = _pointing(windows, site)
     observable = intervals.intersect(intervals.clip_to_windows(dark_start, dark_end, lo, hi),
                                      _above_limit(windows, site, constraints, pointing), n)
-    if constraints.moon_sep_deg > 0:
+    if site.facility.limits_sky_position:
+        observable = intervals.intersect(observable, _facility_clear(windows, site, pointing), n)
+    if constraints.moon_sep_deg > 0 or site.facility.moon_table:
         observable = intervals.intersect(observable, _moon_clear(windows, site, constraints, pointing), n)
     return observable
+
+
+def _date(jd_utc: float) -> str:
+    return Time(jd_utc, format="jd", scale="utc").iso[:10]
+
+
+def _facility_clear(windows: pd.DataFrame, site: Site, pointing: _Pointing):
+    """Flat interval set inside the horizon mask and mount limits (facility.py), sampled every
+    FACILITY_STEP_MIN minutes with edges interpolated: the target's place of date is held at its
+    mid-transit value and the hour angle advances at the sidereal rate."""
+    lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
+    row, jd = intervals.sample_grid(lo, hi, FACILITY_STEP_MIN / 1440.0)
+    x, y, z = pointing.target[:, row]
+    mid = windows["mid_jd_utc"].to_numpy(dtype=float)[row]
+    ha = (pointing.lst_deg[row] + SIDEREAL_DEG_PER_DAY * (jd - mid) - np.degrees(np.arctan2(y, x)) + 180.0) % 360.0 - 180.0
+    dec = np.degrees(np.arcsin(np.clip(z, -1.0, 1.0)))
+    geometric = almanac.altitude_deg(ha, dec, site.latitude_deg)
+    apparent = geometric + almanac.refraction_deg(geometric, site.air_pressure_hpa, site.temperature_c)
+    azimuth = almanac.azimuth_deg(ha, dec, site.latitude_deg)
+    return intervals.from_samples(row, jd, site.facility.margin_deg(apparent, azimuth, ha, dec))
 
 
 def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
@@ -348,4 +384,5 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
         "airmass_mid": airmass_kasten_young(geometric),
         "sun_alt_mid_deg": np.degrees(np.arcsin(np.clip(sin_sun_alt, -1.0, 1.0))),
         "moon_sep_deg": _moon_separation_deg(mid, pointing.target, site, pointing.lst_deg),
+        "moon_illumination": almanac.moon_illuminated_fraction(almanac.jd_tt_from_utc(mid)),
     }, index=windows.index)

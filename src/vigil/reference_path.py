@@ -44,10 +44,15 @@ def constraint_margin_deg(windows: pd.DataFrame, row, jd_utc, site: Site, constr
     times = Time(jd_utc, format="jd", scale="utc")
     ra, dec = windows["ra_deg"].to_numpy()[row], windows["dec_deg"].to_numpy()[row]
     margin = constraints.sun_altitude_deg - sky.sun_altitude_deg(times, location)
-    alt, _ = sky.target_altaz_deg(ra, dec, times, location, site.air_pressure_hpa, site.temperature_c)
+    alt, az = sky.target_altaz_deg(ra, dec, times, location, site.air_pressure_hpa, site.temperature_c)
     margin = np.minimum(margin, alt - constraints.min_altitude_deg)
-    if constraints.moon_sep_deg > 0:
-        margin = np.minimum(margin, sky.moon_separation_deg(ra, dec, times, location) - constraints.moon_sep_deg)
+    facility = site.facility
+    if facility.limits_sky_position:
+        ha, dec_of_date = sky.target_hadec_deg(ra, dec, times, location)
+        margin = np.minimum(margin, facility.margin_deg(alt, az, ha, dec_of_date))
+    if constraints.moon_sep_deg > 0 or facility.moon_table:
+        limit = facility.moon_limit_deg(sky.moon_illumination(times), constraints.moon_sep_deg)
+        margin = np.minimum(margin, sky.moon_separation_deg(ra, dec, times, location) - limit)
     return margin
 
 
@@ -74,4 +79,5 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
         "airmass_mid": sky.airmass_kasten_young(geometric),
         "sun_alt_mid_deg": sky.sun_altitude_deg(times, location),
         "moon_sep_deg": sky.moon_separation_deg(ra, dec, times, location),
+        "moon_illumination": sky.moon_illumination(times),
     }, index=windows.index)

@@ -45,6 +45,7 @@ WINDOW_COLUMNS = {
     "airmass_mid": "airmass at mid-transit (Kasten & Young 1989)",
     "sun_alt_mid_deg": "altitude of the Sun's centre at mid-transit (geometric), degrees",
     "moon_sep_deg": "Moon-target separation at mid-transit, degrees",
+    "moon_illumination": "illuminated fraction of the Moon's disk at mid-transit (0 new, 1 full)",
 }
 
 COVERAGE_CLASSES = ("full", "ingress", "egress", "partial", "none")

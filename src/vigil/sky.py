@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import astropy.units as u
 import numpy as np
-from astropy.coordinates import AltAz, SkyCoord, get_body, get_sun
+from astropy.coordinates import AltAz, HADec, SkyCoord, get_body, get_sun
 from astropy.time import Time
 
 TWILIGHT_SUN_ALT_DEG = {"civil": -6.0, "nautical": -12.0, "astronomical": -18.0}
@@ -38,6 +38,20 @@ def moon_separation_deg(ra_deg, dec_deg, times: Time, location) -> np.ndarray:
     target = SkyCoord(ra=np.asarray(ra_deg) * u.deg, dec=np.asarray(dec_deg) * u.deg, frame="icrs")
     # Compare in the Moon's own (topocentric GCRS) frame: the ICRS -> GCRS step is not a pure rotation.
     return moon.separation(target.transform_to(moon.frame)).deg
+
+
+def target_hadec_deg(ra_deg, dec_deg, times: Time, location):
+    """(hour angle in -180..180, declination) of date of ICRS targets, degrees (astropy HADec, no refraction)."""
+    target = SkyCoord(ra=np.asarray(ra_deg) * u.deg, dec=np.asarray(dec_deg) * u.deg, frame="icrs")
+    hadec = target.transform_to(HADec(obstime=times, location=location))
+    return hadec.ha.wrap_at(180 * u.deg).deg, hadec.dec.deg
+
+
+def moon_illumination(times: Time) -> np.ndarray:
+    """Illuminated fraction of the Moon's disk (astroplan, from astropy's Sun and Moon)."""
+    from astroplan import moon_illumination as illumination
+
+    return np.asarray(illumination(times), dtype=float)
 
 
 def airmass_kasten_young(alt_deg):

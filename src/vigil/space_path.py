@@ -156,6 +156,7 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
         "sun_alt_mid_deg": nothing,
         "moon_sep_deg": _moon_separation_deg(windows["ra_deg"].to_numpy(dtype=float),
                                              windows["dec_deg"].to_numpy(dtype=float), mid, space),
+        "moon_illumination": almanac.moon_illuminated_fraction(almanac.jd_tt_from_utc(mid)),
     }, index=windows.index)
 
 

@@ -20,16 +20,16 @@ TIME_COLUMNS = {
 }
 COLUMNS = ["target", "site", "event", "epoch", "mid_bjd_tdb", "mid_utc", "mid_sigma_min", "ingress_utc", "egress_utc",
            "window_start_utc", "window_end_utc", "coverage", "observable_fraction", "observable_start_utc",
-           "observable_end_utc", "alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "stale"]
+           "observable_end_utc", "alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale"]
 DECIMALS = {"mid_bjd_tdb": 6, "mid_sigma_min": 2, "observable_fraction": 4, "alt_mid_deg": 2,
-            "airmass_mid": 3, "sun_alt_mid_deg": 2, "moon_sep_deg": 2}
+            "airmass_mid": 3, "sun_alt_mid_deg": 2, "moon_sep_deg": 2, "moon_illumination": 3}
 
 
 def windows_for_export(windows: pd.DataFrame) -> pd.DataFrame:
     """The export columns: ISO UTC times, sigma in minutes, rounded numbers."""
     out = pd.DataFrame({c: windows[c] for c in ("target", "site", "event", "epoch", "mid_bjd_tdb", "coverage",
                                                  "observable_fraction", "alt_mid_deg", "airmass_mid",
-                                                 "sun_alt_mid_deg", "moon_sep_deg", "stale")})
+                                                 "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale")})
     out["mid_sigma_min"] = windows["mid_sigma_d"] * MINUTES_PER_DAY
     for name, source in TIME_COLUMNS.items():
         out[name] = iso_utc(windows[source].to_numpy())
