@@ -51,6 +51,7 @@ MOON_STEP_MIN = 20.0
 # 26; the Moon-target angle changes no faster (triangle inequality).
 MOON_SEPARATION_RATE_DEG_PER_D = 26.0
 FACILITY_STEP_MIN = 5.0
+_NOTED_NO_NIGHT: set = set()
 SKY_STEP_D = 1.0 / 8.0
 EARTH_STEP_D = 1.0
 MOON_STEP_D = 1.0 / 24.0
@@ -338,7 +339,8 @@ def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constra
     dark_start, dark_end = _dark_intervals(site.latitude_deg, site.longitude_deg, site.elevation_m,
                                            float(np.floor(lo.min()) - _DARK_MARGIN_D),
                                            float(np.ceil(hi.max()) + _DARK_MARGIN_D), constraints.sun_altitude_deg)
-    if dark_start.size == 0:
+    if dark_start.size == 0 and (site.name, constraints.twilight) not in _NOTED_NO_NIGHT:
+        _NOTED_NO_NIGHT.add((site.name, constraints.twilight))  # once per site, not once per chunk
         log.info("%s: the Sun's centre stays above %g deg from %s to %s: no %s darkness, so no transit there "
                  "is observable", site.name, constraints.sun_altitude_deg, _date(lo.min()), _date(hi.max()),
                  constraints.twilight)
