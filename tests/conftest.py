@@ -3,6 +3,7 @@
 import socket
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 import pytest
 
@@ -48,3 +49,21 @@ def make_targets():
         return pd.DataFrame([{**defaults, **row} for row in rows])
 
     return build
+
+
+def random_targets(n: int, seed: int, name: str, periods_d, t0_base: float, t0_err_d, duration_h) -> pd.DataFrame:
+    """n invented targets spread uniformly over the sphere, log-uniform periods in `periods_d`,
+    t0 within one period after `t0_base`; `name` is formatted with the target's index."""
+    rng = np.random.default_rng(seed)
+    period = np.exp(rng.uniform(np.log(periods_d[0]), np.log(periods_d[1]), n))
+    return pd.DataFrame({
+        "name": [name.format(i) for i in range(n)],
+        "ra_deg": rng.uniform(0.0, 360.0, n),
+        "dec_deg": np.degrees(np.arcsin(rng.uniform(-1.0, 1.0, n))),  # uniform over the sphere
+        "t0_bjd_tdb": t0_base + rng.uniform(0.0, 1.0, n) * period,
+        "t0_err_d": rng.uniform(*t0_err_d, n),
+        "period_d": period,
+        "period_err_d": rng.uniform(1e-7, 1e-5, n),
+        "duration_h": rng.uniform(*duration_h, n),
+        "t0_period_cov_d2": 0.0,
+    })

@@ -25,6 +25,8 @@ from vigil import almanac, fast_path, reference_path, visibility, windows
 from vigil.catalog import Site
 from vigil.timescales import earth_location
 
+from conftest import random_targets
+
 SITES = {
     "austral_ridge": Site("austral_ridge", -29.26, -70.73, 2400.0,
                           defaults={"twilight": "astronomical", "min_altitude_deg": 30.0}),
@@ -55,19 +57,8 @@ CLASS_COLUMNS = ["coverage", "observable_fraction", "observable_start_jd_utc", "
 
 
 def _targets(n: int, seed: int) -> pd.DataFrame:
-    rng = np.random.default_rng(seed)
-    period = np.exp(rng.uniform(np.log(0.5), np.log(50.0), n))
-    return pd.DataFrame({
-        "name": [f"Wren-{i} b" for i in range(n)],
-        "ra_deg": rng.uniform(0.0, 360.0, n),
-        "dec_deg": np.degrees(np.arcsin(rng.uniform(-1.0, 1.0, n))),  # uniform over the sphere
-        "t0_bjd_tdb": 2461000.0 + rng.uniform(0.0, 1.0, n) * period,
-        "t0_err_d": rng.uniform(1e-4, 3e-3, n),
-        "period_d": period,
-        "period_err_d": rng.uniform(1e-7, 1e-5, n),
-        "duration_h": rng.uniform(1.0, 6.0, n),
-        "t0_period_cov_d2": 0.0,
-    })
+    return random_targets(n, seed, "Wren-{} b", periods_d=(0.5, 50.0), t0_base=2461000.0, t0_err_d=(1e-4, 3e-3),
+                          duration_h=(1.0, 6.0))
 
 
 def _constraints(site_name: str) -> visibility.Constraints:
@@ -357,9 +348,9 @@ def test_topocentric_moon_moves_slower_than_the_bound_used_to_skip_sampling():
 
 
 def test_reused_pointing_never_serves_other_windows(paired):
-    # conditions_at_mid reuses the pointing computed for the same windows just before; windows
-    # that differ (here by one mid-time) must get their own. Reference: the same call on a
-    # fresh copy after an unrelated call has replaced what is kept.
+    # Each call answers from its own windows, whatever was asked just before; windows that
+    # differ (here by one mid-time) get their own pointing. Reference: the same call on a
+    # fresh copy after an unrelated call.
     table, _ = paired
     site = SITES["mittelberg"]
     rows = table[table["site"] == "mittelberg"].reset_index(drop=True)

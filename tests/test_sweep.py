@@ -13,26 +13,16 @@ from astropy.time import Time
 from vigil import sweep, windows
 from vigil.errors import InputError
 
+from conftest import random_targets
+
 START, END = Time("2027-05-01", scale="utc"), Time("2027-06-15", scale="utc")
 
 
 @pytest.fixture(scope="module")
 def catalog():
     """Fourteen invented targets over the whole sky, periods 0.6-20 d."""
-    rng = np.random.default_rng(4)
-    n = 14
-    period = np.exp(rng.uniform(np.log(0.6), np.log(20.0), n))
-    return pd.DataFrame({
-        "name": [f"Orrin-{i} c" for i in range(n)],
-        "ra_deg": rng.uniform(0.0, 360.0, n),
-        "dec_deg": np.degrees(np.arcsin(rng.uniform(-1.0, 1.0, n))),
-        "t0_bjd_tdb": 2461100.0 + rng.uniform(0.0, 1.0, n) * period,
-        "t0_err_d": rng.uniform(1e-4, 2e-3, n),
-        "period_d": period,
-        "period_err_d": rng.uniform(1e-7, 1e-5, n),
-        "duration_h": rng.uniform(1.0, 5.0, n),
-        "t0_period_cov_d2": 0.0,
-    })
+    return random_targets(14, 4, "Orrin-{} c", periods_d=(0.6, 20.0), t0_base=2461100.0, t0_err_d=(1e-4, 2e-3),
+                          duration_h=(1.0, 5.0))
 
 
 @pytest.mark.parametrize("include_unobservable", [False, True])

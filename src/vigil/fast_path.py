@@ -154,8 +154,8 @@ def _dot(a: np.ndarray, b: np.ndarray) -> np.ndarray:
 
 class _Latest:
     """The result of the latest computation with copies of its inputs, handed back when the
-    next call's inputs are equal (windows.site_windows asks for some things twice, and
-    plan_windows for the mid-times once per site, which this engine computes alike)."""
+    next call's inputs are equal (plan_windows asks for the mid-times once per site, and this
+    engine computes them at the geocentre, alike for every site)."""
 
     def __init__(self):
         self._inputs = None
@@ -170,7 +170,7 @@ class _Latest:
         return self._result
 
 
-_latest_mid, _latest_pointing = _Latest(), _Latest()
+_latest_mid = _Latest()
 
 
 def site_mid_jd_utc(transits: pd.DataFrame, site: Site) -> np.ndarray:
@@ -205,13 +205,8 @@ class _Pointing(NamedTuple):
 
 
 def _pointing(windows: pd.DataFrame, site: Site) -> _Pointing:
-    """Each window's pointing at mid-transit (asked for by observable_intervals, then again by
-    conditions_at_mid); read-only arrays."""
-    columns = tuple(windows[c].to_numpy(dtype=float) for c in ("mid_jd_utc", "ra_deg", "dec_deg"))
-    return _latest_pointing.get(site, columns, lambda mid, ra, dec: _compute_pointing(mid, ra, dec, site))
-
-
-def _compute_pointing(mid, ra, dec, site: Site) -> _Pointing:
+    """Each window's pointing at mid-transit; read-only arrays."""
+    mid, ra, dec = (windows[c].to_numpy(dtype=float) for c in ("mid_jd_utc", "ra_deg", "dec_deg"))
     terms = np.ascontiguousarray(SKY_TABLE.nearest(mid, _POINTING).T)
     x0, y0, z0 = _unit_vectors(ra, dec).T
     v = np.empty((3, mid.size))
@@ -226,8 +221,6 @@ def _compute_pointing(mid, ra, dec, site: Site) -> _Pointing:
     lst = _local_sidereal_deg(mid, terms[12], site)
     lst_rad = np.radians(lst)
     pointing = _Pointing(v, lst, np.cos(lst_rad), np.sin(lst_rad))
-    for array in pointing:
-        array.setflags(write=False)  # handed to later calls too
     return pointing
 
 
@@ -329,7 +322,16 @@ def _dark_intervals(lat_deg, lon_deg, elev_m, jd_utc_start, jd_utc_end, sun_alt_
     return starts, ends
 
 
-def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constraints):
+def evaluate(windows: pd.DataFrame, site: Site, constraints: Constraints, timed: np.ndarray):
+    """Observable intervals of the `timed` rows (row numbers of `windows`) and conditions at mid
+    of all rows, from one pointing computation."""
+    pointing = _pointing(windows, site)
+    subset = _Pointing(*(a[..., timed] for a in pointing))
+    row, start, end = observable_intervals(windows[timed].reset_index(drop=True), site, constraints, subset)
+    return (np.flatnonzero(timed)[row], start, end), conditions_at_mid(windows, site, pointing)
+
+
+def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing | None = None):
     """Flat interval set (row, start, end), JD UTC, of observable time inside each window."""
     n = len(windows)
     if n == 0:
@@ -344,7 +346,7 @@ def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constra
         log.info("%s: the Sun's centre stays above %g deg from %s to %s: no %s darkness, so no transit there "
                  "is observable", site.name, constraints.sun_altitude_deg, _date(lo.min()), _date(hi.max()),
                  constraints.twilight)
-    pointing = _pointing(windows, site)
+    pointing = _pointing(windows, site) if pointing is None else pointing
     observable = intervals.intersect(intervals.clip_to_windows(dark_start, dark_end, lo, hi),
                                      _above_limit(windows, site, constraints, pointing), n)
     if site.facility.limits_sky_position:
@@ -374,10 +376,10 @@ def _facility_clear(windows: pd.DataFrame, site: Site, pointing: _Pointing):
     return intervals.from_samples(row, jd, site.facility.margin_deg(apparent, azimuth, ha, dec))
 
 
-def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
+def conditions_at_mid(windows: pd.DataFrame, site: Site, pointing: _Pointing | None = None) -> pd.DataFrame:
     """Target altitude (apparent) and airmass, Sun altitude and Moon separation at mid-transit."""
     mid = windows["mid_jd_utc"].to_numpy(dtype=float)
-    pointing = _pointing(windows, site)
+    pointing = _pointing(windows, site) if pointing is None else pointing
     geometric = np.degrees(np.arcsin(np.clip(_sin_altitude(*pointing.target, pointing, site), -1.0, 1.0)))
     sun = SKY_TABLE.at(mid, SKY_SUN).T
     sin_sun_alt = _sin_altitude(*sun, pointing, site) / np.sqrt(sun[0] ** 2 + sun[1] ** 2 + sun[2] ** 2)

@@ -36,10 +36,18 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: visibility.Con
     # Once K sigma exceeds half a period the transit's phase is lost: it cannot be planned
     # (coverage none), and its days-wide window is not handed to the engine.
     timed = (constraints.sigma_k * padded["mid_sigma_d"] < 0.5 * padded["period_d"]).to_numpy()
-    row, obs_start, obs_end = engine_module.observable_intervals(padded[timed].reset_index(drop=True), site, constraints)
-    observable = (np.flatnonzero(timed)[row], obs_start, obs_end)
-    classified = visibility.classify(padded, observable, constraints.sigma_k)
-    return pd.concat([classified, engine_module.conditions_at_mid(padded, site)], axis=1)
+    evaluate = getattr(engine_module, "evaluate", None) or _evaluate_with(engine_module)
+    observable, conditions = evaluate(padded, site, constraints, timed)
+    return pd.concat([visibility.classify(padded, observable, constraints.sigma_k), conditions], axis=1)
+
+
+def _evaluate_with(engine_module):
+    """An engine's evaluate() from its observable_intervals and conditions_at_mid (for engines
+    that share nothing between the two)."""
+    def evaluate(windows: pd.DataFrame, site: Site, constraints: visibility.Constraints, timed: np.ndarray):
+        row, start, end = engine_module.observable_intervals(windows[timed].reset_index(drop=True), site, constraints)
+        return (np.flatnonzero(timed)[row], start, end), engine_module.conditions_at_mid(windows, site)
+    return evaluate
 
 
 def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,
