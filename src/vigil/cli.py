@@ -46,12 +46,12 @@ def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dic
 
 
 def _print_summary(windows, title: str) -> None:
-    table = Table(title=title, title_justify="left")
-    for column in ("target", "site", "full", "ingress", "egress", "partial", "next full window (UTC)"):
-        table.add_column(column, justify="left" if column in ("target", "site") else "right")
     if windows.empty:
         out.print(f"{title}: no observable transits.")
         return
+    table = Table(title=title, title_justify="left")
+    for column in ("target", "site", "full", "ingress", "egress", "partial", "next full window (UTC)"):
+        table.add_column(column, justify="left" if column in ("target", "site") else "right")
     for (target, site), group in windows.groupby(["target", "site"], sort=True):
         counts = group["coverage"].value_counts()
         full = group[group["coverage"] == "full"]
