@@ -54,6 +54,7 @@ def _small_targets(tmp_path, *replace) -> Path:
 
 def test_windows_writes_csv_and_ics(tmp_path):
     csv_path, ics_path = tmp_path / "out" / "w.csv", tmp_path / "out" / "w.ics"
+    csv_path.parent.mkdir()
     result = _run(*_windows_args(_small_targets(tmp_path), "--csv", csv_path, "--ics", ics_path))
     assert result.exit_code == 0, result.output
     with open(csv_path, newline="", encoding="utf-8") as handle:

@@ -15,7 +15,7 @@ from astropy.time import Time
 import vigil  # noqa: F401  (configures astropy offline before anything else)
 from vigil import journal as journal_module
 from vigil.errors import InputError
-from vigil.journal import COLUMNS, SCHEMA_VERSION, open_journal
+from vigil.journal import COLUMNS, open_journal
 from vigil.refit import fit_linear_ephemeris, refit_targets
 
 # Invented targets, sites and ephemeris.
@@ -315,26 +315,6 @@ def test_planned_visits_from_a_campaign_visits_table(tmp_path):
     start = Time([s[:-1] for s in table["start_utc"]], format="isot", scale="utc").jd
     np.testing.assert_allclose((start - visits["start_jd_utc"].to_numpy()) * 86400.0, 0.0, atol=0.5)
     assert list(table["in_transit_h"]) == [2.2, 1.5] and table["outcome"].isna().all()
-
-
-def test_schema_version_and_foreign_files(tmp_path):
-    # Reference: PRAGMA user_version read through a separate sqlite3 connection.
-    path = tmp_path / "j.db"
-    open_journal(path).close()
-    with sqlite3.connect(path) as db:
-        assert db.execute("PRAGMA user_version").fetchone()[0] == SCHEMA_VERSION
-        db.execute(f"PRAGMA user_version = {SCHEMA_VERSION + 1}")
-    with pytest.raises(InputError, match=f"not a vigil journal of schema version {SCHEMA_VERSION}"):
-        open_journal(path)
-    other = tmp_path / "other.db"
-    with sqlite3.connect(other) as db:
-        db.execute("CREATE TABLE something (x)")
-    with pytest.raises(InputError, match="not a vigil journal"):
-        open_journal(other)
-    text = tmp_path / "notes.txt"
-    text.write_text("just some text, not a database\n" * 40)
-    with pytest.raises(InputError, match="cannot open the journal database"):
-        open_journal(text)
 
 
 def test_csv_header_problems_are_named(tmp_path):

@@ -13,10 +13,11 @@ from rich.table import Table
 
 from vigil import catalog, pipeline
 from vigil.campaign_spec import read_campaign
-from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
+from vigil.cli_support import LazyProgress, out, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
+from vigil.export.files import OutputTransaction
 from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv
@@ -137,9 +138,10 @@ def windows(
                  "sigma_k": sigma, "moon_sep_deg": moon_sep}
     with user_errors():
         _check_options(overrides)
-        refuse_overwrite((csv_path, ics_path), force)
-        result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
-                              _engine(exact), event, local_time, jobs)
+        outputs = OutputTransaction((csv_path, ics_path), (targets_file, sites_file), force)
+        with outputs.committing():
+            result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path,
+                                  ics_path, _engine(exact), event, local_time, jobs)
     _print_summary(result, f"Transit windows {start} to {end}")
     for path in (csv_path, ics_path):
         if path is not None:
@@ -157,12 +159,13 @@ def demo(
 ):
     """Run vigil on its embedded invented scenario: windows for 2027 at three sites, then a 30-year campaign."""
     setup_logging()
-    with user_errors():
-        out_dir.mkdir(parents=True, exist_ok=True)
+    files = [out_dir / "windows.csv", out_dir / "windows.ics", *(out_dir / name for name in CAMPAIGN_FILES)]
+    with user_errors(), OutputTransaction(files, force=True, create_folder=out_dir).committing():
         result = _run_windows(demo_file("targets.csv"), demo_file("sites.toml"), None, "2027-01-01", "2028-01-01", {},
                               False, out_dir / "windows.csv", out_dir / "windows.ics")
         _print_summary(result, "Demo: transit windows in 2027")
-        spec, campaign_result, paths = _run_campaign(demo_file("campaign.toml"), None, out_dir)
+        spec = read_campaign(demo_file("campaign.toml"))
+        campaign_result, paths = _run_campaign(spec, None, out_dir)
     _print_campaign(campaign_result, spec)
     names = ", ".join(p.name for p in [out_dir / "windows.csv", out_dir / "windows.ics", *paths])
     out.print(f"wrote into {out_dir}/: {names}")
@@ -203,8 +206,7 @@ def _verdict(row, spec) -> str:
     return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
 
 
-def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1):
-    spec = read_campaign(campaign_file)
+def _run_campaign(spec, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1):
     targets = catalog.read_targets(spec.targets_file)
     if target is not None:
         if target not in set(targets["name"]):
@@ -223,7 +225,7 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")
     hours_plot(result.yearly, out_dir / "hours.png")
-    return spec, result, [*paths, out_dir / "resolution.png", out_dir / "hours.png"]
+    return result, [*paths, out_dir / "resolution.png", out_dir / "hours.png"]
 
 
 @app.command("campaign")
@@ -243,8 +245,11 @@ def campaign_command(
     """
     setup_logging()
     with user_errors():
-        refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs)
+        spec = read_campaign(campaign_file)
+        inputs = (campaign_file, spec.targets_file, spec.sites_file, spec.journal_file)
+        outputs = OutputTransaction([out_dir / name for name in CAMPAIGN_FILES], inputs, force, create_folder=out_dir)
+        with outputs.committing():
+            result, paths = _run_campaign(spec, target, out_dir, _engine(exact), jobs)
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
     else:
@@ -272,16 +277,16 @@ def refit(
     setup_logging()
     oc_path = out_path.with_name(out_path.stem + "_o_minus_c.csv")
     plot_path = oc_path.with_suffix(".png")
-    with user_errors():
-        refuse_overwrite((out_path, oc_path, plot_path), force)
+    with user_errors(), OutputTransaction((out_path, oc_path, plot_path), (timings_file, targets_file),
+                                          force).committing():
         timings = catalog.read_timings(timings_file)
         targets = catalog.read_targets(targets_file) if targets_file is not None else None
         try:
             refitted, o_minus_c = refit_targets(timings, targets)
         except InputError as exc:
             raise InputError(f"{timings_file}: {exc}") from None
-        write_csv(refitted, out_path, text_columns=("name",))
-        write_csv(o_minus_c, oc_path, text_columns=("target",))
+        write_csv(refitted, out_path)
+        write_csv(o_minus_c, oc_path)
         plot_o_minus_c(o_minus_c, plot_path)
     fitted = refitted[refitted["n_timings"] > 0]
     for row in fitted.itertuples(index=False):
@@ -313,8 +318,7 @@ def space_seasons(
     from vigil.space_path import annual_windows
 
     setup_logging()
-    with user_errors():
-        refuse_overwrite((csv_path, plot_path), force)
+    with user_errors(), OutputTransaction((csv_path, plot_path), (targets_file, sites_file), force).committing():
         targets = catalog.read_targets(targets_file)
         site = _select_sites(catalog.read_sites(sites_file), [site_name], sites_file)[site_name]
         if site.kind != "space":
@@ -328,7 +332,7 @@ def space_seasons(
                                 "window_end_utc": iso_utc(table["end_jd"].to_numpy()),
                                 "length_d": (table["end_jd"] - table["start_jd"]).round(2)})
         if csv_path is not None:
-            write_csv(seasons, csv_path, text_columns=("target", "site"))
+            write_csv(seasons, csv_path)
         if plot_path is not None:
             annual_visibility_plot(targets, site, list(range(year, year + years)), plot_path)
     for target, group in seasons.groupby("target", sort=False):

@@ -1,4 +1,4 @@
-"""What every vigil command shares: consoles, notes on stderr, one-line errors, overwrite policy."""
+"""What every vigil command shares: consoles, notes on stderr, one-line errors."""
 
 from __future__ import annotations
 
@@ -42,19 +42,6 @@ def user_errors():
 def _error_line(message: str):
     err.print(f"vigil: error: {message}", highlight=False, soft_wrap=True, markup=False)
     raise typer.Exit(2) from None
-
-
-def refuse_overwrite(paths, force: bool) -> None:
-    """Refuse outputs that exist (unless forced), that are folders, or whose folder is a file."""
-    for path in paths:
-        if path is None:
-            continue
-        if path.is_dir():
-            raise InputError(f"{path} is a folder; expected a file name for the output")
-        if any(parent.exists() and not parent.is_dir() for parent in path.parents):
-            raise InputError(f"{path}: a part of this path is a file, not a folder")
-        if path.exists() and not force:
-            raise InputError(f"{path} exists; pass --force to replace it")
 
 
 class LazyProgress:

@@ -13,15 +13,15 @@ One row per visit:
   baseline_h        no longer than the visit)
   notes             free text (optional)
 A visit is planned at most once and executed at most once: (target, site, epoch, status) is
-unique. The schema version is kept in the file as PRAGMA user_version.
+unique. The file's schema version, checks and migrations: vigil.journal_file.
 
 Every write is one SQLite transaction: a rejected entry, or a crash part way through an
 import, leaves the journal exactly as it was.
 
-CSV form: the columns above in that order, one visit per line. Text cells that a spreadsheet
-would run as a formula get a leading apostrophe (see vigil.export.table); an apostrophe that
-already leads a text cell is doubled. Import drops one leading apostrophe from text cells, as
-spreadsheets treat it as a text marker, so export followed by import gives the same entries.
+CSV form: the columns above in that order, one visit per line. Text cells follow the
+spreadsheet-safety rule of vigil.export.table: export adds a leading apostrophe to text a
+spreadsheet would run as a formula or that starts with an apostrophe; import removes one
+leading apostrophe from text cells; so export followed by import gives the same entries.
 """
 
 from __future__ import annotations
@@ -30,7 +30,6 @@ import csv
 import io
 import math
 import sqlite3
-from contextlib import contextmanager
 from pathlib import Path
 from typing import Iterable, Mapping
 
@@ -39,10 +38,10 @@ import pandas as pd
 from astropy.time import Time
 
 from vigil.catalog import MIN_PLAUSIBLE_JD
+from vigil import journal_file
 from vigil.errors import InputError
-from vigil.export.table import iso_utc, write_csv
+from vigil.export.table import iso_utc, restore_cell, write_csv
 
-SCHEMA_VERSION = 1
 COLUMNS = ("target", "site", "epoch", "start_utc", "end_utc", "status", "outcome",
            "mid_bjd_tdb", "mid_err_d", "in_transit_h", "baseline_h", "notes")
 REQUIRED_COLUMNS = ("target", "site", "epoch", "start_utc", "end_utc", "status")
@@ -82,41 +81,22 @@ CREATE TABLE visit (
 """
 
 
-def open_journal(path: str | Path) -> "Journal":
-    """Open the journal at `path`, creating an empty one when the file does not exist."""
+def open_journal(path: str | Path, write: bool = True) -> "Journal":
+    """Open the journal at `path` for writing (created when missing) or only for reading.
+
+    The file is checked first (vigil.journal_file): schema version, damage, foreign files; a
+    read never creates or migrates it. Any SQLite error while it is open becomes one InputError
+    line naming the file.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> with open_journal(pathlib.Path(tempfile.mkdtemp()) / "j.db") as journal:
+    ...     len(journal.entries())
+    0
+    """
     path = Path(path)
-    try:
-        db = sqlite3.connect(path, isolation_level=None)  # transactions are begun explicitly
-    except sqlite3.Error as exc:
-        raise InputError(f"{path}: cannot open the journal database ({exc})") from None
-    try:
-        with _transaction(db):
-            version = db.execute("PRAGMA user_version").fetchone()[0]
-            tables = {row[0] for row in db.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
-            if version == 0 and not tables:
-                db.execute(_SCHEMA)
-                db.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
-            elif version != SCHEMA_VERSION or "visit" not in tables:
-                raise InputError(f"{path}: not a vigil journal of schema version {SCHEMA_VERSION} "
-                                 f"(found user_version {version})")
-    except sqlite3.Error as exc:
-        db.close()
-        raise InputError(f"{path}: cannot open the journal database ({exc})") from None
-    except InputError:
-        db.close()
-        raise
-    return Journal(db, path)
-
-
-@contextmanager
-def _transaction(db: sqlite3.Connection):
-    db.execute("BEGIN IMMEDIATE")
-    try:
-        yield
-    except BaseException:
-        db.execute("ROLLBACK")
-        raise
-    db.execute("COMMIT")
+    return Journal(journal_file.connect(path, _SCHEMA, COLUMNS, write), path)
 
 
 class Journal:
@@ -129,8 +109,10 @@ class Journal:
     def __enter__(self) -> "Journal":
         return self
 
-    def __exit__(self, *exc_info) -> None:
+    def __exit__(self, kind, error, trace) -> None:
         self.close()
+        if isinstance(error, sqlite3.Error):
+            raise InputError(journal_file.describe_error(self.path, error)) from None
 
     def close(self) -> None:
         self._db.close()
@@ -166,7 +148,7 @@ class Journal:
 
     def _add_all(self, entries: Iterable[tuple[str, Mapping]]) -> int:
         count = 0
-        with _transaction(self._db):
+        with journal_file.transaction(self._db):
             for where, entry in entries:
                 _insert(self._db, validated_entry(entry, where), where)
                 count += 1
@@ -197,11 +179,7 @@ class Journal:
 
     def export_csv(self, path: str | Path) -> Path:
         """Write every visit to a CSV file (atomically, spreadsheet-safe; module docstring)."""
-        table = self.entries()
-        for column in TEXT_COLUMNS:
-            text = table[column].fillna("").astype(str)
-            table[column] = text.where(~text.str.startswith("'"), "'" + text)
-        write_csv(table, path, text_columns=TEXT_COLUMNS)
+        write_csv(self.entries(), path)
         return Path(path)
 
     def executed_hours(self) -> pd.DataFrame:
@@ -279,7 +257,7 @@ def _check_header(path: Path, header: list[str]) -> None:
 
 
 def _unescaped(column: str, cell: str) -> str:
-    return cell[1:] if column in TEXT_COLUMNS and cell.startswith("'") else cell
+    return restore_cell(cell) if column in TEXT_COLUMNS else cell
 
 
 def validated_entry(entry: Mapping, where: str) -> dict:

@@ -7,7 +7,8 @@ from typing import Optional
 
 import typer
 
-from vigil.cli_support import refuse_overwrite, user_errors
+from vigil.cli_support import user_errors
+from vigil.export.files import OutputTransaction
 from vigil.journal import open_journal
 
 journal_app = typer.Typer(help="Keep a campaign journal (one SQLite file): planned and executed visits, their "
@@ -49,7 +50,7 @@ def list_entries(
     status: Optional[str] = typer.Option(None, "--status", metavar="KIND", help="Only planned or executed visits."),
 ):
     """Print the journal's visits (times UTC)."""
-    with user_errors(), open_journal(journal_file) as journal:
+    with user_errors(), open_journal(journal_file, write=False) as journal:
         table = journal.entries(target=target, status=status)
     typer.echo(table.to_string(index=False) if len(table) else "no visits recorded")
 
@@ -68,8 +69,7 @@ def export_csv(journal_file: Path = JOURNAL_ARG,
                csv_file: Path = typer.Argument(..., metavar="VISITS.csv", help="Where to write the CSV."),
                force: bool = typer.Option(False, "--force", help="Replace an existing CSV (otherwise vigil refuses).")):
     """Write the whole journal as CSV (spreadsheet-safe text)."""
-    with user_errors():
-        refuse_overwrite([csv_file], force)
-        with open_journal(journal_file) as journal:
+    with user_errors(), OutputTransaction([csv_file], [journal_file], force).committing():
+        with open_journal(journal_file, write=False) as journal:
             journal.export_csv(csv_file)
     typer.echo(f"wrote {csv_file}")

@@ -56,7 +56,7 @@ def _from_journal(spec: CampaignSpec, targets: pd.DataFrame) -> tuple[pd.DataFra
         return targets, {}
     if not spec.journal_file.exists():
         raise InputError(f"{spec.journal_file}: journal not found (named by [campaign] journal)")
-    with open_journal(spec.journal_file) as journal:
+    with open_journal(spec.journal_file, write=False) as journal:
         timings, hours = journal.timings(), journal.executed_hours()
     stacked = {row.target: (float(row.in_transit_h), float(row.baseline_h)) for row in hours.itertuples(index=False)}
     return upkeep.assimilate_timings(targets, timings), stacked

@@ -21,6 +21,7 @@ of a whole number of guessed periods. That rule cannot see a period twice too lo
 observed transits are consecutive; give a catalogue row whenever that may be the case.
 """
 
+import io
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -30,6 +31,7 @@ from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
 from vigil.errors import InputError
+from vigil.export.files import write_atomic
 
 OUTLIER_SIGMA = 5.0
 SAME_EVENT_SIGMA = 5.0
@@ -304,6 +306,6 @@ def plot_o_minus_c(oc_df: pd.DataFrame, path) -> Path:
         ax.set_ylabel("O - C (min)")
         ax.legend(loc="best", fontsize="small")
     axes[-1].set_xlabel("Epoch (cycles from refitted T0)")
-    out = Path(path)
-    fig.savefig(out, dpi=110)
-    return out
+    buffer = io.BytesIO()
+    fig.savefig(buffer, format="png", dpi=110, metadata={"Software": None})
+    return write_atomic(path, buffer.getvalue())

@@ -1,8 +1,13 @@
 """CSV output of vigil's tables: ISO 8601 UTC times, fixed precision, spreadsheet-safe text.
 
 Spreadsheet programs run a cell that starts with `=`, `+`, `-`, `@`, a tab or a carriage
-return as a formula. Text cells (names, notes) that start so get a leading apostrophe;
-numeric columns are written as numbers and left alone.
+return as a formula. The rule, applied to every text cell of every CSV vigil writes:
+- on export, a leading apostrophe is added to a text cell that starts with one of those
+  characters or that already starts with an apostrophe;
+- on import (every CSV vigil reads), one leading apostrophe is removed from a text cell.
+So import(export(text)) == text for every text, and text that needs neither is never altered.
+Spreadsheets themselves treat a leading apostrophe as a text marker and do not save it.
+Numeric columns are written as numbers and left alone.
 """
 
 from __future__ import annotations
@@ -14,6 +19,7 @@ from astropy.time import Time
 from vigil.export.files import write_atomic
 
 _FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+_TEXT_MARK = "'"
 
 
 def iso_utc(jd_utc) -> np.ndarray:
@@ -26,15 +32,34 @@ def iso_utc(jd_utc) -> np.ndarray:
     return out
 
 
-def neutralise_text(values: pd.Series) -> pd.Series:
-    """Prefix an apostrophe to text that a spreadsheet would read as a formula."""
-    text = values.astype(str)
-    return text.where(~text.str.startswith(_FORMULA_STARTS), "'" + text)
+def neutralise_cell(text: str) -> str:
+    """The text as exported: an apostrophe added where a spreadsheet would run it, or where one leads.
+
+    Examples
+    --------
+    >>> neutralise_cell("=cmd|' /C calc'!A0"), neutralise_cell("'"), neutralise_cell("b")
+    ("'=cmd|' /C calc'!A0", "''", 'b')
+    """
+    if text.startswith((_TEXT_MARK, *_FORMULA_STARTS)):
+        return _TEXT_MARK + text
+    return text
 
 
-def write_csv(table: pd.DataFrame, path, text_columns=()) -> None:
-    """Write `table` as CSV (atomic), neutralising the named text columns."""
+def restore_cell(text: str) -> str:
+    """The text as imported: one leading apostrophe removed (undoes `neutralise_cell`).
+
+    Examples
+    --------
+    >>> restore_cell("''"), restore_cell("'=1+1"), restore_cell("plain")
+    ("'", '=1+1', 'plain')
+    """
+    return text[1:] if text.startswith(_TEXT_MARK) else text
+
+
+def write_csv(table: pd.DataFrame, path) -> None:
+    """Write `table` as CSV (atomic), every text cell neutralised (module docstring)."""
     out = table.copy()
-    for column in text_columns:
-        out[column] = neutralise_text(out[column])
+    for column in out.columns:
+        if not pd.api.types.is_numeric_dtype(out[column]) and not pd.api.types.is_bool_dtype(out[column]):
+            out[column] = out[column].map(lambda v: neutralise_cell(v) if isinstance(v, str) else v)
     write_atomic(path, out.to_csv(index=False, lineterminator="\n").encode("utf-8"))

@@ -55,4 +55,4 @@ def write_windows_csv(windows: pd.DataFrame, path, timezones: dict | None = None
     table = windows_for_export(windows)
     if timezones is not None:
         table = pd.concat([table, local_times(windows, timezones)], axis=1)
-    write_csv(table, path, text_columns=("target", "site"))
+    write_csv(table, path)
