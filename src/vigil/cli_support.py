@@ -40,13 +40,14 @@ def user_errors():
 
 
 def _error_line(message: str):
-    err.print(f"vigil: error: {message}", highlight=False, soft_wrap=True, markup=False)
+    one_line = " ".join(message.splitlines())  # whatever a library put in its message
+    err.print(f"vigil: error: {one_line}", highlight=False, soft_wrap=True, markup=False)
     raise typer.Exit(2) from None
 
 
 class LazyProgress:
     """A rich progress bar on stderr that appears only once work is under way (never before an
-    input error) and disappears when done. Use as a context manager; call `advance(done, total)`."""
+    input error), only on a terminal, and disappears when done. Use as a context manager; call `advance(done, total)`."""
 
     def __init__(self, label: str):
         from rich.progress import Progress
@@ -56,6 +57,8 @@ class LazyProgress:
         self._task = None
 
     def advance(self, done: int, total: int) -> None:
+        if not err.is_terminal:  # in a pipe or a log a bar is noise (and leaves an empty line behind)
+            return
         if self._task is None:
             self._progress.start()
             self._task = self._progress.add_task(self._label, total=total)

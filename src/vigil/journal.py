@@ -11,7 +11,7 @@ One row per visit:
   mid_err_d         neither; only an executed clear or partial visit yields one
   in_transit_h,     hours collected inside the transit and out of it (optional, >= 0; together
   baseline_h        no longer than the visit)
-  notes             free text (optional)
+  notes             free text (optional; line breaks stored as LF)
 A visit is planned at most once and executed at most once: (target, site, epoch, status) is
 unique. The file's schema version, checks and migrations: vigil.journal_file.
 
@@ -279,7 +279,7 @@ def validated_entry(entry: Mapping, where: str) -> dict:
         "mid_err_d": _number(where, "mid_err_d", value["mid_err_d"], "a positive uncertainty in days", lambda x: x > 0),
         "in_transit_h": _number(where, "in_transit_h", value["in_transit_h"], "hours >= 0", lambda x: x >= 0),
         "baseline_h": _number(where, "baseline_h", value["baseline_h"], "hours >= 0", lambda x: x >= 0),
-        "notes": None if value["notes"] is None else str(value["notes"]),
+        "notes": None if value["notes"] is None else _line_breaks(str(value["notes"])),
     }
     _check_consistency(where, row)
     return row
@@ -312,6 +312,11 @@ def _blank_to_none(value):
     if isinstance(value, str) and not value.strip():
         return None
     return value
+
+
+def _line_breaks(text: str) -> str:
+    """Text with every line break as LF (CR LF and lone CR are what other systems write)."""
+    return text.replace("\r\n", "\n").replace("\r", "\n")
 
 
 def _problem(where: str, field: str, expected: str, value) -> InputError:

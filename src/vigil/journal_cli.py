@@ -7,7 +7,7 @@ from typing import Optional
 
 import typer
 
-from vigil.cli_support import user_errors
+from vigil.cli_support import setup_logging, user_errors
 from vigil.export.files import OutputTransaction
 from vigil.journal import open_journal
 
@@ -35,6 +35,7 @@ def add(
     notes: str = typer.Option("", "--notes", metavar="TEXT", help="Free text."),
 ):
     """Add one visit to the journal."""
+    setup_logging()
     entry = {"target": target, "site": site, "epoch": epoch, "start_utc": start, "end_utc": end, "status": status,
              "outcome": outcome, "mid_bjd_tdb": mid_bjd_tdb, "mid_err_d": mid_err_d, "in_transit_h": in_transit_h,
              "baseline_h": baseline_h, "notes": notes}
@@ -50,6 +51,7 @@ def list_entries(
     status: Optional[str] = typer.Option(None, "--status", metavar="KIND", help="Only planned or executed visits."),
 ):
     """Print the journal's visits (times UTC)."""
+    setup_logging()
     with user_errors(), open_journal(journal_file, write=False) as journal:
         table = journal.entries(target=target, status=status)
     typer.echo(table.to_string(index=False) if len(table) else "no visits recorded")
@@ -59,6 +61,7 @@ def list_entries(
 def import_csv(journal_file: Path = JOURNAL_ARG,
                csv_file: Path = typer.Argument(..., metavar="VISITS.csv", help="CSV with the journal's columns.")):
     """Add every row of a CSV, all or none: a bad row leaves the journal as it was."""
+    setup_logging()
     with user_errors(), open_journal(journal_file) as journal:
         count = journal.import_csv(csv_file)
     typer.echo(f"imported {count} visits")
@@ -69,6 +72,7 @@ def export_csv(journal_file: Path = JOURNAL_ARG,
                csv_file: Path = typer.Argument(..., metavar="VISITS.csv", help="Where to write the CSV."),
                force: bool = typer.Option(False, "--force", help="Replace an existing CSV (otherwise vigil refuses).")):
     """Write the whole journal as CSV (spreadsheet-safe text)."""
+    setup_logging()
     with user_errors(), OutputTransaction([csv_file], [journal_file], force).committing():
         with open_journal(journal_file, write=False) as journal:
             journal.export_csv(csv_file)

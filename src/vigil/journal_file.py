@@ -89,9 +89,9 @@ def _remove_if_new(path: Path, created: bool) -> None:
 
 
 def _check_integrity(db: sqlite3.Connection, path: Path) -> None:
-    problems = [row[0] for row in db.execute("PRAGMA quick_check(3)")]
+    problems = [row[0] for row in db.execute("PRAGMA quick_check(1)")]
     if problems != ["ok"]:
-        raise InputError(_damaged(path, "; ".join(problems)))
+        raise InputError(_damaged(path, " ".join(" ".join(problems).split())))
 
 
 def _prepare(db: sqlite3.Connection, path: Path, schema_sql: str, columns: list[str], write: bool) -> None:
