@@ -37,8 +37,8 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil.catalog import MIN_PLAUSIBLE_JD
 from vigil import journal_file
+from vigil.timescales import MIN_PLAUSIBLE_JD
 from vigil.errors import InputError
 from vigil.export.table import iso_utc, restore_cell, write_csv
 
