@@ -247,9 +247,10 @@ def campaign_command(
     """
     setup_logging()
     with user_errors():
+        outputs = OutputTransaction([out_dir / name for name in CAMPAIGN_FILES], [campaign_file], force,
+                                    create_folder=out_dir)
         spec = read_campaign(campaign_file)
-        inputs = (campaign_file, spec.targets_file, spec.sites_file, spec.journal_file)
-        outputs = OutputTransaction([out_dir / name for name in CAMPAIGN_FILES], inputs, force, create_folder=out_dir)
+        outputs.check_inputs((spec.targets_file, spec.sites_file, spec.journal_file))
         with outputs.committing():
             result, paths = _run_campaign(spec, target, out_dir, _engine(exact), jobs)
     if target is not None:

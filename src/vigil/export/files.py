@@ -65,7 +65,16 @@ class OutputTransaction:
         self._folder = Path(create_folder) if create_folder is not None else None
         self._staged: dict[Path, tuple[Path, Path]] = {}  # output -> (temporary, destination)
         self._created_folder = False
-        _check_outputs(self.outputs, [Path(p) for p in inputs if p is not None], force, self._folder)
+        _check_outputs(self.outputs, force, self._folder)
+        self.check_inputs(inputs)
+
+    def check_inputs(self, inputs) -> None:
+        """Refuse an output that is one of `inputs` (paths or None), for inputs known only later."""
+        for path in self.outputs:
+            source = next((Path(p) for p in inputs if p is not None and _same_file(path, Path(p))), None)
+            if source is not None:
+                raise InputError(f"{path}: this output is also an input of the run ({source}); choose another "
+                                 "output file (--force never replaces an input)")
 
     @contextmanager
     def committing(self):
@@ -123,7 +132,8 @@ def write_atomic(path: str | Path, data: bytes) -> Path:
     """Write `data` to `path` as part of the running `OutputTransaction`, or alone, atomically.
 
     A reader sees the old file or the new one, never a torn one. Outside a transaction the
-    write is a transaction of its own (the rules of the module docstring, with --force).
+    write is a transaction of its own (the rules of the module docstring, with --force, and
+    the folder created when missing, as a library caller expects).
 
     Examples
     --------
@@ -135,7 +145,7 @@ def write_atomic(path: str | Path, data: bytes) -> Path:
     path = Path(path)
     transaction = _active.get()
     if transaction is None:
-        with OutputTransaction([path], force=True).committing() as alone:
+        with OutputTransaction([path], force=True, create_folder=path.parent).committing() as alone:
             alone.stage(path, data)
     else:
         transaction.stage(path, data)
@@ -149,16 +159,12 @@ def _same_file(a: Path, b: Path) -> bool:
         return os.path.realpath(a) == os.path.realpath(b)
 
 
-def _check_outputs(outputs: list[Path], inputs: list[Path], force: bool, created_folder: Path | None) -> None:
-    """Refuse duplicate outputs, outputs that are inputs, existing outputs without force, missing folders."""
+def _check_outputs(outputs: list[Path], force: bool, created_folder: Path | None) -> None:
+    """Refuse duplicate outputs, existing outputs without force, missing folders."""
     for i, path in enumerate(outputs):
         twin = next((other for other in outputs[:i] if _same_file(path, other)), None)
         if twin is not None:
             raise InputError(f"{path}: given for two outputs (also as {twin}); expected a different file for each")
-        source = next((p for p in inputs if _same_file(path, p)), None)
-        if source is not None:
-            raise InputError(f"{path}: this output is also an input of the run ({source}); choose another output "
-                             "file (--force never replaces an input)")
         if path.is_dir():
             raise InputError(f"{path} is a folder; expected a file name for the output")
         folder = path.parent
