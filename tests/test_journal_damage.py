@@ -23,6 +23,7 @@ from vigil.journal import COLUMNS, open_journal
 from vigil.journal_file import JOURNAL_APPLICATION_ID, SCHEMA_VERSION
 
 from test_cli import _restore_vigil_logger  # noqa: F401  (autouse: leave the 'vigil' logger as found)
+from test_corpus import _assert_one_error_line
 
 GOOD = Path(__file__).resolve().parent / "corpus" / "good"
 VISIT = ("--site", "alto_verde", "--start", "2027-03-04T22:15:00Z", "--end", "2027-03-05T02:15:00Z",
@@ -34,11 +35,7 @@ def _run(*args):
 
 
 def _one_error_line(result) -> str:
-    assert result.exit_code == 2, result.output
-    assert "Traceback" not in result.output
-    lines = result.output.splitlines()
-    assert len(lines) == 1 and lines[0].startswith("vigil: error: "), result.output
-    return lines[0]
+    return _assert_one_error_line(result, None, ())
 
 
 def _journal(path: Path, visits: int = 300) -> Path:

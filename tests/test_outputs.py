@@ -24,6 +24,7 @@ from vigil.cli import app
 from vigil.export import files
 
 from test_cli import _restore_vigil_logger  # noqa: F401  (autouse: leave the 'vigil' logger as found)
+from test_corpus import _assert_one_error_line
 
 GOOD = Path(__file__).resolve().parent / "corpus" / "good"
 DATES = ("--start", "2027-03-01", "--end", "2027-03-08")
@@ -40,11 +41,7 @@ def _snapshot(folder: Path) -> dict:
 
 
 def _one_error_line(result) -> str:
-    assert result.exit_code == 2, result.output
-    assert "Traceback" not in result.output
-    lines = result.output.splitlines()
-    assert len(lines) == 1 and lines[0].startswith("vigil: error: "), result.output
-    return lines[0]
+    return _assert_one_error_line(result, None, ())
 
 
 def _commands(out: Path) -> dict:
