@@ -8,7 +8,8 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from vigil import bodies, campaign, forecast, upkeep
+from vigil import bodies, campaign, forecast
+from vigil.ephemeris import upkeep
 from vigil.campaign_spec import CampaignSpec
 from vigil.catalog import Site
 from vigil.errors import InputError

@@ -10,8 +10,9 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil import ephemeris, fast_path, reference_path, schema, space_path, visibility
+from vigil import fast_path, reference_path, schema, space_path, visibility
 from vigil.catalog import Site
+from vigil.ephemeris.projection import project_transits
 from vigil.errors import InputError
 
 # Light from a target reaches the Earth up to 8.3 min before or after the barycentre;
@@ -56,7 +57,7 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
     [start, end], sorted by time then target."""
     if not end > start:
         raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
-    transits = ephemeris.project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
+    transits = project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
                                           end.tdb.jd + _LIGHT_TIME_MARGIN_D, event)
     tables = [site_windows(transits, site, visibility.resolve_constraints(site.defaults, overrides), start, end, engine)
               for site in sites.values() if not transits.empty]
