@@ -117,7 +117,7 @@ def fit_polynomial(epochs, times_bjd_tdb, errors_d, degree: int = 1, prior: Poly
     >>> round(float(fit.ephemeris.period_d), 9)
     2.5
     """
-    n, t, sigma = _validated(epochs, times_bjd_tdb, errors_d, target)
+    n, t, sigma = validated(epochs, times_bjd_tdb, errors_d, target)
     w = 1.0 / sigma**2
     reference = int(np.floor(np.sum(w * n) / np.sum(w) + 0.5))
     k = n - reference
@@ -162,7 +162,8 @@ def _solve(matrix: np.ndarray, rhs: np.ndarray) -> tuple[np.ndarray, np.ndarray]
     return theta, covariance
 
 
-def _validated(epochs, times_bjd_tdb, errors_d, target):
+def validated(epochs, times_bjd_tdb, errors_d, target: str):
+    """(epochs, times, errors) as float arrays; InputError naming the target for bad input."""
     n = np.asarray(epochs, dtype=float).ravel()
     t = np.asarray(times_bjd_tdb, dtype=float).ravel()
     sigma = np.asarray(errors_d, dtype=float).ravel()
@@ -198,7 +199,7 @@ def robust_fit(epochs, times_bjd_tdb, errors_d, degree: int, prior: PolynomialEp
     >>> removed.tolist()
     [False, False, False, True, False]
     """
-    n, t, sigma = _validated(epochs, times_bjd_tdb, errors_d, target)
+    n, t, sigma = validated(epochs, times_bjd_tdb, errors_d, target)
     removed = np.zeros(n.size, dtype=bool)
     while True:
         kept = np.flatnonzero(~removed)
