@@ -5,7 +5,7 @@ targets; each (segment, chunk) task is planned on its own, and a segment's chunk
 merged into the order that `plan_windows` gives: by mid-time, then target, then site.
 Segments come out in time order as soon as their tasks are done (`iter_windows`), so a
 caller that consumes them one by one holds one segment, not the catalog times the horizon.
-Every row is computed from its own transit alone (see vigil.fast_path), so the numbers are
+Every row is computed from its own transit alone (see vigil.engines.fast), so the numbers are
 the same bit for bit however the work is cut.
 
 Tasks run in this process (jobs=1), in `jobs` worker processes started with "spawn" (so this
@@ -30,7 +30,7 @@ import pandas as pd
 from astropy.time import Time
 
 from vigil import windows
-from vigil.catalog import Site
+from vigil.sites import Site
 from vigil.errors import InputError
 
 # With chunk_targets=None, consecutive targets are grouped until their expected transits
