@@ -28,6 +28,7 @@ import os
 import tempfile
 from contextlib import contextmanager
 from pathlib import Path
+from typing import BinaryIO, Iterator
 
 from vigil.errors import InputError
 
@@ -89,13 +90,15 @@ class OutputTransaction:
         finally:
             _active.reset(token)
 
-    def stage(self, path: Path, data: bytes) -> None:
-        """Write `data` to a temporary for output `path` (one of this transaction's outputs)."""
+    @contextmanager
+    def stream(self, path: Path) -> Iterator[BinaryIO]:
+        """A stream to a temporary for output `path` (one of this transaction's outputs)."""
         if path not in self.outputs:
             raise ValueError(f"{path} is not one of this run's declared outputs")
         self._make_folder()
         destination = _destination(path)
-        temporary = _write_temporary(path, destination, data)
+        with _temporary_stream(path, destination) as (stream, temporary):
+            yield stream
         previous = self._staged.get(path)
         self._staged[path] = (temporary, destination)
         if previous is not None:
@@ -142,14 +145,34 @@ def write_atomic(path: str | Path, data: bytes) -> Path:
     >>> write_atomic(target, b"hello\\n").read_bytes()
     b'hello\\n'
     """
+    with atomic_stream(path) as stream:
+        stream.write(data)
+    return Path(path)
+
+
+@contextmanager
+def atomic_stream(path: str | Path) -> Iterator[BinaryIO]:
+    """A binary stream for output `path`, staged in the running `OutputTransaction` (or alone,
+    as `write_atomic`); the file appears only when the transaction commits.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> target = pathlib.Path(tempfile.mkdtemp()) / "out.csv"
+    >>> with atomic_stream(target) as stream:
+    ...     _ = stream.write(b"a,b\\n")
+    >>> target.read_bytes()
+    b'a,b\\n'
+    """
     path = Path(path)
     transaction = _active.get()
     if transaction is None:
         with OutputTransaction([path], force=True, create_folder=path.parent).committing() as alone:
-            alone.stage(path, data)
+            with alone.stream(path) as stream:
+                yield stream
     else:
-        transaction.stage(path, data)
-    return path
+        with transaction.stream(path) as stream:
+            yield stream
 
 
 def _same_file(a: Path, b: Path) -> bool:
@@ -186,8 +209,9 @@ def _destination(path: Path) -> Path:
     return Path(os.path.realpath(path)) if path.is_symlink() else path
 
 
-def _write_temporary(path: Path, destination: Path, data: bytes) -> Path:
-    """A complete, synced temporary for `destination` in its folder; errors name `path`."""
+@contextmanager
+def _temporary_stream(path: Path, destination: Path) -> Iterator[tuple[BinaryIO, Path]]:
+    """(stream, temporary) for `destination` in its folder, synced at the end; errors name `path`."""
     _remove_abandoned(destination)
     try:
         handle, name = tempfile.mkstemp(prefix=f".{destination.name}.{os.getpid()}.", suffix=_TEMP_MARK,
@@ -199,7 +223,7 @@ def _write_temporary(path: Path, destination: Path, data: bytes) -> Path:
         with os.fdopen(handle, "wb") as stream:
             # mkstemp makes the file private (0600); keep the replaced file's mode, or a plain open()'s.
             os.fchmod(stream.fileno(), _mode_for(destination))
-            stream.write(data)
+            yield stream, temporary
             stream.flush()
             os.fsync(stream.fileno())
     except BaseException as exc:
@@ -207,7 +231,6 @@ def _write_temporary(path: Path, destination: Path, data: bytes) -> Path:
         if isinstance(exc, OSError):
             raise _write_error(path, exc) from None
         raise
-    return temporary
 
 
 def _mode_for(destination: Path) -> int:

@@ -58,8 +58,14 @@ def restore_cell(text: str) -> str:
 
 def write_csv(table: pd.DataFrame, path) -> None:
     """Write `table` as CSV (atomic), every text cell neutralised (module docstring)."""
+    write_atomic(path, csv_bytes(table))
+
+
+def csv_bytes(table: pd.DataFrame, header: bool = True) -> bytes:
+    """`table` as UTF-8 CSV text, every text cell neutralised; with header=False the rows only
+    (to continue a file)."""
     out = table.copy()
     for column in out.columns:
         if not pd.api.types.is_numeric_dtype(out[column]) and not pd.api.types.is_bool_dtype(out[column]):
             out[column] = out[column].map(lambda v: neutralise_cell(v) if isinstance(v, str) else v)
-    write_atomic(path, out.to_csv(index=False, lineterminator="\n").encode("utf-8"))
+    return out.to_csv(index=False, header=header, lineterminator="\n").encode("utf-8")
