@@ -1,0 +1,47 @@
+"""Planets of one star: host grouping (column or 2 arcsec), overlapping windows shared."""
+
+import logging
+
+import pandas as pd
+import pytest
+
+from vigil.hosts import HOST_RADIUS_ARCSEC, host_of, overlap_groups, shared_with
+
+ARCSEC_DEG = 1.0 / 3600.0  # 1 arcsec = 1/3600 degree (definition)
+
+
+def _targets(dec_offsets_arcsec, **extra):
+    n = len(dec_offsets_arcsec)
+    return pd.DataFrame({"name": [f"Orla-{i} b" for i in range(n)], "ra_deg": [120.0] * n,
+                         "dec_deg": [-30.0 + d * ARCSEC_DEG for d in dec_offsets_arcsec], **extra})
+
+
+def test_targets_within_two_arcsec_share_a_host_and_a_note_says_so(caplog):
+    # Offsets along a meridian: the separation is the declination difference (exact on a great circle).
+    with caplog.at_level(logging.INFO, logger="vigil"):
+        hosts = host_of(_targets([0.0, 1.5, 40.0, 41.5 + HOST_RADIUS_ARCSEC + 0.1]))
+    assert hosts["Orla-0 b"] == hosts["Orla-1 b"]
+    assert len({hosts["Orla-0 b"], hosts["Orla-2 b"], hosts["Orla-3 b"]}) == 3
+    assert "Orla-0 b, Orla-1 b" in caplog.text and "2 arcsec" in caplog.text
+
+
+def test_host_column_decides_over_positions():
+    hosts = host_of(_targets([0.0, 1.0, 500.0], host=["Orla", "", "Orla"]))
+    assert hosts == {"Orla-0 b": "Orla", "Orla-1 b": "Orla-1 b", "Orla-2 b": "Orla"}
+
+
+def test_overlap_groups_chain_and_respect_keys():
+    # By hand: [0,1] and [0.5,1.5] overlap; [1.5,2] only touches the second (no overlap); key t is apart.
+    groups = overlap_groups(["s", "s", "s", "t"], [0.5, 0.0, 1.5, 0.6], [1.5, 1.0, 2.0, 0.7])
+    assert groups[0] == groups[1] and len({groups[0], groups[2], groups[3]}) == 3
+
+
+def test_shared_with_names_the_other_planets_of_the_host_at_the_same_site():
+    windows = pd.DataFrame({
+        "target": ["Orla b", "Orla c", "Orla b", "Orla c", "Vey b"],
+        "site": ["north", "north", "south", "north", "north"],
+        "window_start_jd_utc": [10.00, 10.10, 10.05, 12.0, 10.05],
+        "window_end_jd_utc": [10.20, 10.30, 10.25, 12.2, 10.25],
+    })
+    got = shared_with(windows, {"Orla b": "Orla", "Orla c": "Orla", "Vey b": "Vey"}).tolist()
+    assert got == ["Orla c", "Orla b", "", "", ""]
