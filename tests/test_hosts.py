@@ -1,9 +1,11 @@
 """Planets of one star: host grouping (column or 2 arcsec), overlapping windows shared."""
 
 import logging
+from datetime import timezone
 
 import pandas as pd
 import pytest
+from astropy.time import Time
 
 from vigil.hosts import HOST_RADIUS_ARCSEC, host_of, overlap_groups, shared_with
 
@@ -45,3 +47,35 @@ def test_shared_with_names_the_other_planets_of_the_host_at_the_same_site():
     })
     got = shared_with(windows, {"Orla b": "Orla", "Orla c": "Orla", "Vey b": "Vey"}).tolist()
     assert got == ["Orla c", "Orla b", "", "", ""]
+
+
+def _window(target, epoch, start, end, shared=""):
+    return {"target": target, "site": "north", "event": "transit", "epoch": epoch, "mid_bjd_tdb": 2461000.0,
+            "mid_jd_utc": (start + end) / 2, "mid_sigma_d": 0.001, "ingress_jd_utc": start + 0.04,
+            "egress_jd_utc": end - 0.04, "window_start_jd_utc": start, "window_end_jd_utc": end,
+            "coverage": "full", "observable_fraction": 1.0, "alt_mid_deg": 50.0, "airmass_mid": 1.3,
+            "moon_sep_deg": 80.0, "shared_with": shared}
+
+
+def test_calendar_shows_a_shared_pointing_as_one_event_naming_both_planets():
+    from vigil.export.calendar import windows_calendar
+
+    windows = pd.DataFrame([_window("Orla b", 12, 2461000.60, 2461000.75, "Orla c"),
+                            _window("Orla c", 7, 2461000.70, 2461000.85, "Orla b"),
+                            _window("Orla b", 13, 2461003.60, 2461003.75)])
+    calendar = icalendar_events(windows_calendar(windows).to_ical())
+    assert len(calendar) == 2
+    shared = calendar[0]
+    assert "Orla b" in str(shared["SUMMARY"]) and "Orla c" in str(shared["SUMMARY"])
+    # RFC 5545 DTSTART/DTEND: the event spans both windows (first start to last end).
+    first_start = Time(2461000.60, format="jd", scale="utc").to_datetime(timezone=timezone.utc)
+    assert abs((shared.decoded("DTSTART") - first_start).total_seconds()) <= 0.5
+    span_h = (shared.decoded("DTEND") - shared.decoded("DTSTART")).total_seconds() / 3600
+    assert span_h == pytest.approx((0.85 - 0.60) * 24, abs=1 / 3600)
+    assert str(calendar[1]["SUMMARY"]).startswith("Orla b transit,")
+
+
+def icalendar_events(raw: bytes):
+    import icalendar
+
+    return list(icalendar.Calendar.from_ical(raw).walk("VEVENT"))

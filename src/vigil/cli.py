@@ -20,6 +20,7 @@ from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv
+from vigil.hosts import host_of, shared_with
 from vigil.journal_cli import journal_app
 from vigil.visibility import Constraints
 from vigil.sweep import plan_windows_chunked
@@ -94,6 +95,7 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
                                        _parse_date(end, "--end"), jobs=jobs, engine=engine,
                                        include_unobservable=include_all, event=event,
                                        on_chunk=lambda _, done, total: progress.advance(done, total))
+    windows["shared_with"] = shared_with(windows, host_of(targets))
     if csv_path is not None:
         write_windows_csv(windows, csv_path, {n: s.timezone for n, s in sites.items()} if local_time else None)
     if ics_path is not None:
