@@ -28,7 +28,8 @@ import pandas as pd
 
 from vigil.errors import InputError
 from vigil.field_units import conversion_factor, field_unit
-from vigil.table_formats import SourceTable, row_name, unit_of
+from vigil.table_formats import SourceTable, unit_of
+from vigil.textfile import line_of
 
 COMBINE = ("larger", "mean")
 _KEYS = {"column", "plus", "minus", "combine", "unit", "value", "offset"}
@@ -174,7 +175,7 @@ def _field_cells(path: Path, spec: FieldSource, source: SourceTable) -> list[str
         return list(source.cells[spec.column])
     rows = []
     for label, row in source.cells.iterrows():
-        value = _combined(spec, row, f"{source.path}: {row_name(label)}")
+        value = _combined(spec, row, line_of(source.path, label))
         rows.append("" if value is None else _text(value * factor + spec.offset))
     return rows
 

@@ -55,6 +55,8 @@ def conversion_factor(unit: u.UnitBase, field: str, where: str) -> float:
     target = field_unit(field)
     if target is None:
         return 1.0
+    if isinstance(unit, u.UnrecognizedUnit):
+        raise InputError(f"{where}: unit {unit.name!r} is not a unit vigil knows; expected {_examples(target)}")
     if target == u.deg and unit.is_equivalent(u.hour):
         unit = u.hourangle * unit.to(u.hour)
     try:

@@ -31,24 +31,13 @@ class SourceTable:
 
     `cells` holds stripped text (empty for a missing value) indexed by row label: the line
     number (int) for CSV files, "row N" for the typed formats. `units` maps a column to the
-    astropy unit its file states; `header` says where the column names are, for errors.
+    astropy unit its file states; `header` is the header's line number, or "header".
     """
 
     path: Path
     cells: pd.DataFrame
     units: dict = field(default_factory=dict)
-    header: str = "line 1"
-
-
-def row_name(label) -> str:
-    """How errors name a row: "line N" for a CSV line number, the label itself otherwise.
-
-    Examples
-    --------
-    >>> row_name(4), row_name("row 2")
-    ('line 4', 'row 2')
-    """
-    return f"line {label}" if str(label).isdigit() else str(label)
+    header: int | str = 1
 
 
 def table_format(path: Path, given: str | None = None) -> str:
