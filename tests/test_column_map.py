@@ -11,8 +11,8 @@ from vigil.errors import InputError
 from vigil.field_units import in_field_units
 from vigil.table_formats import SourceTable
 
-from authorities.catalogue_units import (DAY_S, DEG_PER_HOUR_OF_RA, EARTH_RADIUS_M, HOUR_S, JUPITER_RADIUS_M,
-                                         MINUTE_S)
+from authorities.catalogue_units import DAY_S, DEG_PER_HOUR_OF_RA, HOUR_S, JUPITER_RADIUS_M, MINUTE_S
+from authorities.spectrum_refs import EARTH_RADIUS_M
 
 FIELDS = ["name", "ra_deg", "dec_deg", "ra", "dec", "t0_bjd_tdb", "t0_err_d", "period_d", "period_err_d",
           "duration_h", "planet_radius_earth", "host"]

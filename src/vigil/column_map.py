@@ -29,7 +29,7 @@ import pandas as pd
 from vigil.errors import InputError
 from vigil.field_units import conversion_factor, field_unit
 from vigil.table_formats import SourceTable, unit_of
-from vigil.textfile import line_of
+from vigil.textfile import csv_number
 
 COMBINE = ("larger", "mean")
 _KEYS = {"column", "plus", "minus", "combine", "unit", "value", "offset"}
@@ -175,7 +175,7 @@ def _field_cells(path: Path, spec: FieldSource, source: SourceTable) -> list[str
         return list(source.cells[spec.column])
     rows = []
     for label, row in source.cells.iterrows():
-        value = _combined(spec, row, line_of(source.path, label))
+        value = _combined(spec, row, source.path, label)
         rows.append("" if value is None else _text(value * factor + spec.offset))
     return rows
 
@@ -190,27 +190,18 @@ def _unit(spec: FieldSource, source: SourceTable, where: str) -> u.UnitBase | No
     return next(iter(stated), None)
 
 
-def _combined(spec: FieldSource, row, where: str) -> float | None:
+def _combined(spec: FieldSource, row, path: Path, label) -> float | None:
     """The field's number in the row (None when missing): the column, or the +/- pair combined."""
+    def number(column: str) -> float | None:
+        text = row[column]
+        return csv_number(path, label, column, text, f"a number (read as {spec.field})") if text else None
+
     if spec.column is not None:
-        return _number(row[spec.column], spec.column, spec.field, where)
-    values = [abs(v) for c in (spec.plus, spec.minus)
-              if (v := _number(row[c], c, spec.field, where)) is not None]
+        return number(spec.column)
+    values = [abs(v) for c in (spec.plus, spec.minus) if (v := number(c)) is not None]
     if not values:
         return None
     return max(values) if spec.combine == "larger" else sum(values) / len(values)
-
-
-def _number(text: str, column: str, field: str, where: str) -> float | None:
-    if text == "":
-        return None
-    try:
-        value = float(text)
-    except ValueError:
-        value = math.nan
-    if not math.isfinite(value):
-        raise InputError(f"{where}, column {column!r} (read as {field}): expected a number, got {text!r}")
-    return value
 
 
 def _text(value: float) -> str:

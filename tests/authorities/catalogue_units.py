@@ -12,8 +12,8 @@ DAY_S = 86400.0
 # Right ascension: 24 h of hour angle make 360 degrees, so 1 h = 15 deg (definition; common practice, no source).
 DEG_PER_HOUR_OF_RA = 15.0
 
-# IAU 2015 Resolution B3 nominal equatorial radii: Earth 6.3781e6 m, Jupiter 7.1492e7 m (from memory).
-EARTH_RADIUS_M = 6.3781e6
+# IAU 2015 Resolution B3 nominal equatorial radius of Jupiter, 7.1492e7 m (from memory; the Earth's
+# is in spectrum_refs).
 JUPITER_RADIUS_M = 7.1492e7
 
 # ECSV: the first line of a file is "# %ECSV <version>" (astropy APE 6, "Enhanced Character Separated
