@@ -112,3 +112,36 @@ def shared_with(windows: pd.DataFrame, hosts: dict[str, str]) -> pd.Series:
     members = pd.Series(targets).groupby(group).agg(lambda t: sorted(set(t)))
     return pd.Series(["; ".join(m for m in members[g] if m != t) for t, g in zip(targets, group)],
                      index=windows.index, dtype=str)
+
+
+def mark_shared(pieces, hosts: dict[str, str]):
+    """The windows table's consecutive pieces (time order) with their `shared_with` column.
+
+    Each piece is marked together with its neighbours, so windows that overlap across a cut
+    between pieces are found; three pieces are held at a time.
+
+    Examples
+    --------
+    >>> w = pd.DataFrame({"target": ["A b", "A c"], "site": ["s", "s"],
+    ...                   "window_start_jd_utc": [0.0, 0.1], "window_end_jd_utc": [0.2, 0.3]})
+    >>> [p["shared_with"].tolist() for p in mark_shared([w.iloc[:1], w.iloc[1:]], {"A b": "A", "A c": "A"})]
+    [['A c'], ['A b']]
+    """
+    before = current = None
+    for piece in pieces:
+        if current is not None:
+            yield _marked(before, current, piece, hosts)
+        before, current = current, piece
+    if current is not None:
+        yield _marked(before, current, None, hosts)
+
+
+def _marked(before, current: pd.DataFrame, after, hosts: dict[str, str]) -> pd.DataFrame:
+    """`current` with shared_with, its windows compared with those of its neighbours too."""
+    if current.empty:
+        return current.assign(shared_with=pd.Series([], dtype=str, index=current.index))
+    earlier = before if before is not None and len(before) else None
+    parts = [p for p in (earlier, current, after) if p is not None and len(p)]
+    offset = 0 if earlier is None else len(earlier)
+    marks = shared_with(pd.concat(parts, ignore_index=True), hosts).to_numpy()
+    return current.assign(shared_with=marks[offset:offset + len(current)])
