@@ -79,3 +79,18 @@ def icalendar_events(raw: bytes):
     import icalendar
 
     return list(icalendar.Calendar.from_ical(raw).walk("VEVENT"))
+
+
+def test_marks_on_streamed_pieces_equal_marks_on_the_whole_table():
+    from vigil.hosts import mark_shared
+
+    starts = [10.0, 10.1, 11.0, 11.05, 11.5, 12.0]
+    windows = pd.DataFrame({"target": ["Orla b", "Orla c", "Orla b", "Orla c", "Vey b", "Orla c"],
+                            "site": ["north"] * 6, "window_start_jd_utc": starts,
+                            "window_end_jd_utc": [s + 0.2 for s in starts]})
+    hosts = {"Orla b": "Orla", "Orla c": "Orla", "Vey b": "Vey"}
+    whole = shared_with(windows, hosts).tolist()
+    for cut in range(1, 6):  # every cut, including one between two overlapping windows
+        pieces = [windows.iloc[:cut], windows.iloc[cut:cut + 1], windows.iloc[cut + 1:]]
+        streamed = [m for p in mark_shared(pieces, hosts) for m in p["shared_with"]]
+        assert streamed == whole, cut
