@@ -13,6 +13,7 @@ import pandas as pd
 import typer
 from astropy.time import Time
 from rich.table import Table
+from rich.text import Text
 
 from vigil import catalog
 from vigil.campaign.result import CampaignResult
@@ -20,7 +21,7 @@ from vigil.campaign.run import run_campaign
 from vigil.campaign.spec import read_campaign
 from vigil.cli_support import LazyProgress, did_you_mean, out, setup_logging, user_errors
 from vigil.errors import InputError
-from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
+from vigil.export.calendar import SAFETY_NOTE, run_stamp, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.files import OutputTransaction
 from vigil.export.plots import hours_plot, resolution_plot
@@ -69,7 +70,7 @@ def _print_summary(tally, title: str) -> None:
         table.add_row(row.target, row.site, *(str(getattr(row, c)) for c in ("full", "ingress", "egress", "partial")),
                       first)
     out.print(table)
-    out.print(f"[dim]{SAFETY_NOTE}[/dim]")
+    out.print(Text(SAFETY_NOTE, style="dim"))
 
 
 JOBS_HELP = ("Worker processes for the windows computation (the targets and the span are split into chunks); "
@@ -182,6 +183,8 @@ def windows(
                  "sigma_k": sigma, "moon_sep_deg": moon_sep}
     with user_errors():
         _check_options(overrides)
+        if ics_path is not None:
+            run_stamp()  # a malformed SOURCE_DATE_EPOCH is refused before any work
         outputs = OutputTransaction((csv_path, ics_path), (targets_file, sites_file, columns), force)
         with outputs.committing():
             result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path,
@@ -230,7 +233,8 @@ def _print_campaign(result: CampaignResult, spec) -> None:
     for column in ("target", "transits/yr", "in-transit h/yr", "years to goal (p10 / p50 / p90)", "verdict"):
         table.add_column(column, justify="left" if column in ("target", "verdict") else "right")
     for row in result.summary.itertuples(index=False):
-        verdict = "[green]reachable[/green]" if row.reachable else f"[red]not reached[/red]: {row.limited_by}"
+        verdict = (Text("reachable", style="green") if row.reachable else
+                   Text.assemble(("not reached", "red"), f": {row.limited_by}"))
         table.add_row(row.target, f"{row.transits_per_year:.1f}", f"{row.in_transit_hours_per_year:.1f}",
                       " / ".join(_years(v) for v in (row.years_to_goal_p10, row.years_to_goal_p50, row.years_to_goal_p90)),
                       verdict)
@@ -397,7 +401,7 @@ def space_seasons(
     for target, group in seasons.groupby("target", sort=False):
         spans = "; ".join(f"{a[:10]} to {b[:10]} ({d:.0f} d)" for a, b, d in
                           zip(group["window_start_utc"], group["window_end_utc"], group["length_d"]))
-        out.print(f"{target}: {spans or 'never inside the field of regard'}", highlight=False)
+        out.print(f"{target}: {spans or 'never inside the field of regard'}")
     for path in (csv_path, plot_path):
         if path is not None:
             out.print(f"wrote {path}")

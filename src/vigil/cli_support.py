@@ -11,15 +11,17 @@ from rich.console import Console
 
 from vigil.errors import InputError
 
-err = Console(stderr=True)
-out = Console()
+# Names and every other user string are printed literally: no console markup, emoji codes or
+# highlighting is read from text (a target "Tamsin-7 [b]" keeps its brackets); styles are Text objects.
+err = Console(stderr=True, markup=False, emoji=False, highlight=False)
+out = Console(markup=False, emoji=False, highlight=False)
 log = logging.getLogger("vigil")
 
 
 class _Notes(logging.Handler):
     def emit(self, record):
         level = "warning" if record.levelno >= logging.WARNING else "note"
-        err.print(f"vigil: {level}: {record.getMessage()}", highlight=False, soft_wrap=True, markup=False)
+        err.print(f"vigil: {level}: {record.getMessage()}", soft_wrap=True)
 
 
 def setup_logging() -> None:
@@ -42,7 +44,7 @@ def user_errors():
 
 def _error_line(message: str):
     one_line = " ".join(message.splitlines())  # whatever a library put in its message
-    err.print(f"vigil: error: {one_line}", highlight=False, soft_wrap=True, markup=False)
+    err.print(f"vigil: error: {one_line}", soft_wrap=True)
     raise typer.Exit(2) from None
 
 

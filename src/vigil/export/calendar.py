@@ -18,6 +18,7 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
+from vigil.errors import InputError
 from vigil.export.files import write_atomic
 from vigil.export.table import iso_utc
 from vigil.hosts import overlap_groups
@@ -29,17 +30,50 @@ SAFETY_NOTE = ("Plan only within the observatory's own rules for night work and 
 
 def event_uid(target: str, site: str, epoch, kind: str = "transit") -> str:
     """Stable identifier of one transit (or occultation) at one site; for a shared pointing,
-    target is "b + c" and epoch "12+7" (each planet's epoch)."""
-    key = f"{target}|{site}|{epoch if isinstance(epoch, str) else int(epoch)}" + ("" if kind == "transit" else f"|{kind}")
+    target is "b + c" and epoch "12+7" (each planet's epoch).
+
+    Derived from the exact names (no case, space or Unicode folding); a `|` or backslash in a
+    name is escaped, so two different (target, site) pairs never share a key.
+
+    Examples
+    --------
+    >>> event_uid("a|b", "c", 1) != event_uid("a", "b|c", 1)
+    True
+    """
+    key = (f"{_uid_field(target)}|{_uid_field(site)}|{epoch if isinstance(epoch, str) else int(epoch)}"
+           + ("" if kind == "transit" else f"|{kind}"))
     return f"{uuid.uuid5(_UID_NAMESPACE, key)}@vigil"
 
 
+_LAST_EPOCH_S = 253402300799  # 9999-12-31T23:59:59Z, the last instant a calendar date-time can hold
+
+
+def _uid_field(name: str) -> str:
+    return name.replace("\\", "\\\\").replace("|", "\\|")
+
+
 def run_stamp() -> datetime:
-    """DTSTAMP for this run: SOURCE_DATE_EPOCH when set, else now (UTC)."""
+    """DTSTAMP for this run: SOURCE_DATE_EPOCH when set, else now (UTC).
+
+    The variable must hold whole seconds since 1970-01-01 UTC in ASCII digits, as `date +%s`
+    prints them (reproducible-builds.org specification); anything else is an InputError
+    rather than silently "now".
+
+    Examples
+    --------
+    >>> os.environ["SOURCE_DATE_EPOCH"] = "1800000000"
+    >>> run_stamp().isoformat()
+    '2027-01-15T08:00:00+00:00'
+    >>> del os.environ["SOURCE_DATE_EPOCH"]
+    """
     fixed = os.environ.get("SOURCE_DATE_EPOCH")
-    if fixed and fixed.strip().isdigit():
-        return datetime.fromtimestamp(int(fixed), tz=timezone.utc)
-    return datetime.now(timezone.utc).replace(microsecond=0)
+    if fixed is None or fixed == "":
+        return datetime.now(timezone.utc).replace(microsecond=0)
+    if not (fixed.isascii() and fixed.isdigit()) or int(fixed) > _LAST_EPOCH_S:
+        raise InputError(f"environment variable SOURCE_DATE_EPOCH: expected whole seconds since 1970-01-01 UTC in "
+                         f"digits 0-9 (e.g. 1800000000, at most {_LAST_EPOCH_S}), got {fixed!r}; unset it to stamp "
+                         "the calendar with the time of the run")
+    return datetime.fromtimestamp(int(fixed), tz=timezone.utc)
 
 
 def _utc(jd_utc: float) -> datetime:
