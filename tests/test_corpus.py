@@ -62,6 +62,14 @@ TARGET_ERRORS = {
     "nul_byte.csv": ("line 2", "control character U+0000", "plain text"),
     "unclosed_quote.csv": ("line 3", "quotes"),
     "very_long_line.csv": ("line 3", "characters long", "at most 10000"),
+    "magnitude_minus_800.csv": ("line 3", "field magnitude", "'Orla-12 b'", "from -5 to 30", "-800"),
+    "star_radius_denormal.csv": ("line 3", "field star_radius_sun", "'Orla-12 b'", "solar radii", "5e-324"),
+    "planet_mass_1e300.csv": ("line 3", "field planet_mass_earth", "'Orla-12 b'", "Earth masses", "1e300"),
+    "teq_below_absolute_zero.csv": ("line 3", "field teq_k", "from 10 to 6000 K", "-20"),
+    "name_bidi_mark.csv": ("line 3", "field name", "U+200F", "RIGHT-TO-LEFT MARK", "visible characters"),
+    "name_only_override.csv": ("line 3", "field name", "U+202E", "RIGHT-TO-LEFT OVERRIDE"),
+    "name_zero_width_space.csv": ("line 3", "field name", "U+200B", "ZERO WIDTH SPACE"),
+    "names_same_after_nfc.csv": ("line 3", "field name", "'Orla-\u00e9 b'", "appears twice", "line 2"),
     "no_complete_row.csv": ("no row has every required value", "line 2 (t0_err_d)"),
     "ra_bare_number.csv": ("line 2", "field ra", "bare number", "hours or degrees", "ra_deg"),
     "wrong_unit.ecsv": ("column 'period_d'", "unit 'm'", "cannot be read as d"),
@@ -115,6 +123,7 @@ CAMPAIGN_ERRORS = {
     "wavelengths_reversed.toml": ("[instrument] wavelength_max_um", "wavelength_min_um", "0.5"),
     "goal_snr_negative.toml": ("[goal] snr", "from 0.1 to 10000", "-3"),
     "latin1_comment.toml": ("line 1", "not UTF-8"),
+    "ends_after_2300.toml": ("[campaign] horizon_years", "100 years", "2300-12-31", "2350-01-02"),
 }
 # campaign files whose fault sits in a companion file: (companion it names, words).
 CAMPAIGN_COMPANION_ERRORS = {
@@ -141,6 +150,9 @@ OPTION_ERRORS = {
     "unknown_site": ((*WINDOW_DATES, "--site", "cima_lejana"), (str(GOOD / "sites.toml"), "'cima_lejana'")),
     "bad_twilight_option": ((*WINDOW_DATES, "--twilight", "dusk"), ("twilight", "civil, nautical or astronomical")),
     "min_altitude_option": ((*WINDOW_DATES, "--min-altitude", "95"), ("--min-altitude", "from -5 to 89")),
+    "start_year_999": (("--start", "0999-03-01", "--end", "0999-03-08"), ("--start", "1950-01-01", "year 999")),
+    "start_year_1899": (("--start", "1899-03-01", "--end", "1899-03-08"), ("--start", "2300-12-31", "1899-03-01")),
+    "end_year_2301": (("--start", "2300-12-25", "--end", "2301-01-02"), ("--end", "2300-12-31", "2301-01-02")),
 }
 
 

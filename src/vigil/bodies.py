@@ -20,6 +20,23 @@ OPTIONAL = ("planet_mass_earth", "surface_gravity_m_s2", "teq_k", "a_over_rstar"
             "magnitude", "distance_pc")
 #: Every numeric physical column; catalog.read_targets checks them where they are filled in.
 NUMBER_COLUMNS = (*REQUIRED, *OPTIONAL, "priority")
+#: Accepted range of each column (low, high, unit): wide bounds around what planets and their
+#: host stars can be (common practice, no source), so unit slips and absurd values are refused
+#: before any arithmetic can overflow or divide by zero.
+RANGES = {
+    "planet_radius_earth": (0.05, 50.0, "Earth radii"),
+    "planet_mass_earth": (1e-4, 3e4, "Earth masses"),
+    "surface_gravity_m_s2": (0.01, 1e4, "m/s^2"),
+    "teq_k": (10.0, 6000.0, "K"),
+    "a_over_rstar": (1.0, 1e5, "(semi-major axis over stellar radius)"),
+    "mu": (1.0, 100.0, "(mean molecular weight, atomic mass units)"),
+    "n_scale_heights": (0.1, 20.0, "(scale heights)"),
+    "star_radius_sun": (0.005, 1000.0, "solar radii"),
+    "star_teff_k": (500.0, 60000.0, "K"),
+    "magnitude": (-5.0, 30.0, "(magnitudes)"),
+    "distance_pc": (1.0, 1e5, "pc"),
+    "priority": (-1e6, 1e6, "(higher first)"),
+}
 # The column behind each field name that spectrum.Planet and spectrum.Star report.
 _COLUMN_OF_FIELD = {
     "planet radius_earth": "planet_radius_earth", "planet mass_earth": "planet_mass_earth",

@@ -24,6 +24,7 @@ from astropy.time import Time
 from vigil import bodies
 from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
 from vigil.errors import InputError
+from vigil.names import clean_name
 from vigil.facility import FACILITY_KEYS, read_facility
 from vigil.sites import (DEFAULT_INTERRUPTION_START_JD_UTC, DEFAULT_SUN_ANGLE_MAX_DEG, DEFAULT_SUN_ANGLE_MIN_DEG,
                          DEFAULT_TEMPERATURE_C, Site, SpaceSettings)
@@ -147,9 +148,9 @@ TARGET_EXPECTATIONS = {
 
 
 def _target_row(path: Path, line: int, row: pd.Series, coordinates: tuple[str, str]) -> dict:
-    name = row["name"]
-    if not name:
+    if not row["name"]:
         raise InputError(f"{line_of(path, line)}, field name: expected a target name, got an empty cell")
+    name = clean_name(row["name"], f"{line_of(path, line)}, field name")
     ra, dec = _coordinates(path, line, row, *coordinates)
     values = {"name": name, "ra_deg": ra, "dec_deg": dec}
     for column, expected in TARGET_EXPECTATIONS.items():
@@ -184,11 +185,15 @@ def _check_target_values(path: Path, line: int, v: dict) -> None:
 
 
 def _check_body_columns(path: Path, line: int, row: pd.Series) -> None:
-    """The optional physical columns (bodies.py) hold numbers where they are filled in."""
+    """The optional physical columns (bodies.py) hold numbers in their ranges where they are filled in."""
     for column in bodies.NUMBER_COLUMNS:
         text = row.get(column, "")
         if text and text.lower() != "nan":
-            csv_number(path, line, column, text, "a number (units as in the column name) or an empty cell")
+            value = csv_number(path, line, column, text, "a number (units as in the column name) or an empty cell")
+            low, high, unit = bodies.RANGES[column]
+            if not low <= value <= high:
+                raise InputError(f"{line_of(path, line)}, field {column}: target {row['name']!r}: expected a number "
+                                 f"from {low:g} to {high:g} {unit}, got {text}")
 
 
 def _odd_target_notes(path: Path, line: int, v: dict) -> list[str]:
@@ -240,9 +245,9 @@ def read_targets(path: str | Path, options: CatalogueOptions | None = None) -> p
 
 
 def _timing_row(path: Path, line: int, row: pd.Series) -> dict:
-    target = row["target"]
-    if not target:
+    if not row["target"]:
         raise InputError(f"{line_of(path, line)}, field target: expected a target name, got an empty cell")
+    target = clean_name(row["target"], f"{line_of(path, line)}, field target")
     mid = csv_number(path, line, "mid_bjd_tdb", row["mid_bjd_tdb"], "a mid-transit time as a full Julian date (BJD_TDB)")
     _full_jd(path, line, "mid_bjd_tdb", mid)
     err = csv_number(path, line, "mid_err_d", row["mid_err_d"], "a positive uncertainty in days")
@@ -440,4 +445,8 @@ def read_sites(path: str | Path) -> dict[str, Site]:
     if not isinstance(sites, dict) or not sites:
         found = f" (found: {', '.join(document)})" if document else ""
         raise InputError(f"{path}: [sites]: expected one or more [sites.NAME] tables{found}")
-    return {name: _site(path, name, entry) for name, entry in sites.items()}
+    named = {clean_name(name, f"{path}: [sites.{name}]"): entry for name, entry in sites.items()}
+    if len(named) < len(sites):
+        raise InputError(f"{path}: [sites]: two site names are the same once normalised (Unicode NFC, surrounding "
+                         f"spaces): {', '.join(map(repr, sites))}")
+    return {name: _site(path, name, entry) for name, entry in named.items()}

@@ -30,6 +30,8 @@ from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.hosts import host_of, mark_shared
 from vigil.target_source import CatalogueOptions
 from vigil.journal_cli import journal_app
+from vigil.names import clean_name
+from vigil.timescales import FIRST_PLAN_YEAR, LAST_PLAN_YEAR, check_plan_date
 from vigil.constraints import Constraints
 from vigil.cluster import workers_for
 from vigil.sweep import iter_windows
@@ -42,14 +44,16 @@ app = typer.Typer(help="Plan transit observations: which transits you can observ
                   no_args_is_help=True, add_completion=False, rich_markup_mode=None)
 def _parse_date(text: str, option: str) -> Time:
     try:
-        return Time(text, scale="utc")
+        time = Time(text, scale="utc")
     except ValueError:
         raise InputError(f"{option}: expected a UTC date such as 2027-01-01 or 2027-01-01T18:00, got {text!r}") from None
+    return check_plan_date(time, option)
 
 
 def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dict:
     if not names:
         return sites
+    names = [clean_name(n, "--site") for n in names]
     unknown = [n for n in names if n not in sites]
     if unknown:
         raise InputError(f"{sites_file}: no site named {unknown[0]!r}{did_you_mean(unknown[0], sites)} "
@@ -259,6 +263,7 @@ def _run_campaign(spec, target: str | None, out_dir: Path, engine: str = "fast",
                   scheduler: str | None = None, chunk_dir: Path | None = None, strict: bool = False):
     targets = catalog.read_targets(spec.targets_file, replace(spec.targets_options, strict=strict))
     if target is not None:
+        target = clean_name(target, "--target")
         if target not in set(targets["name"]):
             raise InputError(f"{spec.targets_file}: no target named {target!r}{did_you_mean(target, targets['name'])}")
         targets = targets[targets["name"] == target].reset_index(drop=True)
@@ -360,7 +365,8 @@ def space_seasons(
     targets_file: Path = typer.Argument(..., metavar="TARGETS.csv", help="Targets CSV (coordinates are what matter here)."),
     sites_file: Path = typer.Option(..., "--sites", metavar="SITES.toml", help="Sites TOML holding the space site."),
     site_name: str = typer.Option(..., "--site", metavar="NAME", help="A site of kind = \"space\"."),
-    year: int = typer.Option(..., "--year", metavar="YEAR", help="First calendar year (UTC)."),
+    year: int = typer.Option(..., "--year", metavar="YEAR", min=FIRST_PLAN_YEAR, max=LAST_PLAN_YEAR,
+                             help="First calendar year (UTC)."),
     years: int = typer.Option(1, "--years", metavar="N", min=1, max=50, help="Number of calendar years [default 1]."),
     csv_path: Optional[Path] = typer.Option(None, "--csv", metavar="FILE", help="Write the date ranges here (CSV, UTC)."),
     plot_path: Optional[Path] = typer.Option(None, "--plot", metavar="FILE", help="Write the chart here (PNG)."),
@@ -384,6 +390,8 @@ def space_seasons(
                                           force).committing():
         targets = catalog.read_targets(targets_file, CatalogueOptions(fmt, columns, strict))
         site = _select_sites(catalog.read_sites(sites_file), [site_name], sites_file)[site_name]
+        if year + years - 1 > LAST_PLAN_YEAR:
+            raise InputError(f"--years: {years} years from {year} end after {LAST_PLAN_YEAR}, the last year vigil plans for")
         if site.kind != "space":
             raise InputError(f"{sites_file}: [sites.{site_name}] is a ground site; space-seasons needs kind = \"space\"")
         rows = [{"target": t.name, "site": site_name, "start_jd": lo.utc.jd, "end_jd": hi.utc.jd}

@@ -38,8 +38,9 @@ import pandas as pd
 from astropy.time import Time
 
 from vigil import journal_file
-from vigil.timescales import MIN_PLAUSIBLE_JD
+from vigil.timescales import MIN_PLAUSIBLE_JD, check_plan_date
 from vigil.errors import InputError
+from vigil.names import clean_name
 from vigil.export.table import iso_utc, restore_cell, write_csv
 
 COLUMNS = ("target", "site", "epoch", "start_utc", "end_utc", "status", "outcome",
@@ -327,7 +328,7 @@ def _problem(where: str, field: str, expected: str, value) -> InputError:
 def _name(where: str, field: str, value) -> str:
     if not isinstance(value, str):
         raise _problem(where, field, "a name", value)
-    return value.strip()
+    return clean_name(value, f"{where}, field {field}")
 
 
 def _as_float(value) -> float:
@@ -356,6 +357,7 @@ def _utc(where: str, field: str, value) -> str:
         time = Time(value.strip()[:-1], format="isot", scale="utc", precision=0)
     except ValueError:
         raise _problem(where, field, expected, value) from None
+    check_plan_date(time, f"{where}, field {field}")
     return time.isot + "Z"
 
 

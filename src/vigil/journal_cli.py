@@ -10,6 +10,7 @@ import typer
 from vigil.cli_support import setup_logging, user_errors
 from vigil.export.files import OutputTransaction
 from vigil.journal import open_journal
+from vigil.names import clean_name
 
 journal_app = typer.Typer(help="Keep a campaign journal (one SQLite file): planned and executed visits, their "
                                "outcome, measured mid-times (BJD_TDB, days) and hours collected.",
@@ -53,7 +54,7 @@ def list_entries(
     """Print the journal's visits (times UTC)."""
     setup_logging()
     with user_errors(), open_journal(journal_file, write=False) as journal:
-        table = journal.entries(target=target, status=status)
+        table = journal.entries(target=None if target is None else clean_name(target, "--target"), status=status)
     typer.echo(table.to_string(index=False) if len(table) else "no visits recorded")
 
 

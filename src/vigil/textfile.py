@@ -21,6 +21,7 @@ from pathlib import Path
 import pandas as pd
 
 from vigil.errors import InputError
+from vigil.export.table import restore_cell
 
 MAX_LINE_CHARS = 10_000
 
@@ -83,7 +84,8 @@ def _check_plain_lines(path: Path, text: str, rows_are: str) -> None:
 
 
 def _records(path: Path, text: str) -> list[tuple[int, list[str]]]:
-    """(first line, stripped fields) of every record that is not blank or a comment."""
+    """(first line, stripped fields) of every record that is not blank or a comment; one leading
+    apostrophe, the spreadsheet text mark vigil's CSV output adds (vigil.export.table), is removed."""
     # Comment lines become blank lines, so line numbers stay those of the file.
     text = _COMMENT_LINE.sub("", text)
     reader = csv.reader(io.StringIO(text, newline=""), strict=True)
@@ -91,7 +93,7 @@ def _records(path: Path, text: str) -> list[tuple[int, list[str]]]:
     try:
         for fields in reader:
             if any(f.strip() for f in fields):
-                records.append((line, [f.strip() for f in fields]))
+                records.append((line, [restore_cell(f.strip()) for f in fields]))
             line = reader.line_num + 1
     except csv.Error as exc:
         raise InputError(f"{path}: line {line}: not valid comma-separated values ({exc}); check the quotes") from None

@@ -25,6 +25,7 @@ from astropy.coordinates import EarthLocation, SkyCoord
 from astropy.time import Time
 from astropy.utils import iers
 
+from vigil.errors import InputError
 from vigil.tabulated import BLOCKS_KEPT, Table, block_nodes
 from vigil.vectors import row_dot, unit_vectors
 
@@ -33,6 +34,11 @@ log = logging.getLogger("vigil")
 # truncated JDs, larger ones a unit or offset mistake.
 MIN_PLAUSIBLE_JD = 2_400_000.0
 MAX_PLAUSIBLE_JD = 2_600_000.0
+# The span of dates every command plans for (start and end of windows, campaigns, journal
+# visits, space seasons): inside it the leap-second table, the IERS extrapolation and the
+# low-precision Sun and Moon are all usable; outside it ERFA itself calls the years dubious.
+FIRST_PLAN_YEAR, LAST_PLAN_YEAR = 1950, 2300
+_PLAN_SPAN_JD_UTC = (2433282.5, 2561482.5)  # 1950-01-01 0h and 2301-01-01 0h UTC (astropy Time)
 _ITERATIONS = 2
 _TT_MINUS_TAI_S = 32.184  # TT - TAI, IAU definition
 _FIRST_UTC_YEAR = 1960  # erfa's leap-second table starts here
@@ -40,6 +46,24 @@ _INTEGRAL_LEAP_SECONDS_JD = 2441317.5  # 1972-01-01 0h UTC: whole leap seconds f
 SECONDS_PER_DAY = 86400.0
 EARTH_STEP_D = 1.0
 _AU_LIGHT_D = 499.004783836 / SECONDS_PER_DAY  # light time for one astronomical unit, days
+
+
+def check_plan_date(time: Time, what: str) -> Time:
+    """`time` if it lies in the years FIRST_PLAN_YEAR to LAST_PLAN_YEAR (UTC); else an InputError
+    starting with `what` (the option, or file and field).
+
+    Examples
+    --------
+    >>> check_plan_date(Time("2027-01-01", scale="utc"), "--start").utc.iso[:10]
+    '2027-01-01'
+    """
+    jd = float(time.utc.jd)
+    if not _PLAN_SPAN_JD_UTC[0] <= jd < _PLAN_SPAN_JD_UTC[1]:
+        year = float(time.utc.jyear)
+        shown = time.utc.iso[:10] if 1000 <= year < 9999 else f"year {year:.0f}"
+        raise InputError(f"{what}: expected a date from {FIRST_PLAN_YEAR}-01-01 to {LAST_PLAN_YEAR}-12-31 (UTC; the "
+                         f"span vigil plans for), got {shown}")
+    return time
 
 
 def earth_location(latitude_deg: float, longitude_deg: float, elevation_m: float) -> EarthLocation:
@@ -128,8 +152,21 @@ def jd_tt_from_utc(jd_utc):
 def _earth_block(block: int) -> np.ndarray:
     """The Earth's barycentric position (au, ICRS axes; erfa.epv00) at nodes of JD TDB."""
     jd_tdb = block_nodes(block, EARTH_STEP_D)
-    _, barycentric = erfa.epv00(jd_tdb, np.zeros_like(jd_tdb))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", erfa.ErfaWarning)  # said once, in vigil's words
+        _, barycentric = erfa.epv00(jd_tdb, np.zeros_like(jd_tdb))
+    if not (_EPV00_SPAN_JD[0] <= jd_tdb).all() or not (jd_tdb <= _EPV00_SPAN_JD[1]).all():
+        _note_epv00_span()
     return np.ascontiguousarray(barycentric["p"])
+
+
+_EPV00_SPAN_JD = (2415020.5, 2488069.5)  # 1900-01-01 to 2100-01-01: the span the epv00 series was fitted to
+
+
+@lru_cache(maxsize=1)
+def _note_epv00_span() -> None:
+    log.info("dates outside 1900-2100: the Earth's position there comes from a series fitted to 1900-2100 "
+             "(ERFA epv00), so BJD_TDB to UTC conversions are less precise than within it")
 
 
 # The Earth's barycentric position every day (< 4e-5 au interpolated, 20 ms of light).

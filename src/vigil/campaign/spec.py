@@ -13,6 +13,7 @@ from pathlib import Path
 
 from astropy.time import Time
 
+from vigil.timescales import FIRST_PLAN_YEAR, LAST_PLAN_YEAR, check_plan_date
 from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
 from vigil.textfile import load_toml, spelling_hint
 from vigil.errors import InputError
@@ -23,7 +24,7 @@ from vigil.spectrum import Instrument
 
 log = logging.getLogger("vigil")
 MONTHS = 12
-FIRST_START_YEAR, LAST_START_YEAR = 1950, 2300
+FIRST_START_YEAR, LAST_START_YEAR = FIRST_PLAN_YEAR, LAST_PLAN_YEAR
 KNOWN = {
     "campaign": {"start", "horizon_years", "targets", "sites_file", "sites", "trials", "seed", "coverage",
                  "min_fraction", "min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg", "journal",
@@ -250,5 +251,7 @@ def read_campaign(path: str | Path) -> CampaignSpec:
         targets_options=_targets_options(path, c),
         **_refresh(path, _table(path, document, "refresh", required=False)),
     )
+    check_plan_date(spec.end, f"{path}: [campaign] horizon_years: the campaign's end ({spec.horizon_years:g} years "
+                              "after the start)")
     _warn_unknown(path, document, sites)
     return spec
