@@ -18,6 +18,7 @@ from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.journal import open_journal
 from vigil.sweep import plan_windows_chunked
+from vigil.hosts import host_of
 from vigil.textfile import line_of
 
 TRIAL_CHUNK = 50
@@ -86,7 +87,7 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
     candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs, executor, chunk_dir)
     gain = {name: forecast.snr2_per_hour(body, spec) for name, body in found.items()}
     scheduled = schedule.schedule(candidates, gain, priority, spec.per_target_per_semester,
-                                  spec.per_site_per_semester)
+                                  spec.per_site_per_semester, host_of(targets))
     clear = _trials(scheduled, spec, on_progress)
     rows, yearly, years = [], [], {}
     for name, body in found.items():
@@ -116,7 +117,7 @@ def _limit(row, body, spec, scheduled, candidates, targets, sites, engine, prior
 
 def _ledger(scheduled: pd.DataFrame, clear: np.ndarray) -> pd.DataFrame:
     columns = ["target", "site", "epoch", "coverage", "mid_jd_utc", "start_jd_utc", "end_jd_utc",
-               "in_transit_h", "baseline_h", "telescope_h"]
+               "in_transit_h", "baseline_h", "telescope_h", "shared_with"]
     ledger = scheduled[columns].copy()
     ledger["weather"] = np.where(clear[0], "clear", "lost") if clear.size else []
     ledger["clear_share"] = clear.mean(axis=0) if clear.size else []
