@@ -23,6 +23,7 @@ from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv
 from vigil.journal_cli import journal_app
+from vigil.refit_cli import refit
 from vigil.constraints import Constraints
 from vigil.sweep import plan_windows_chunked
 
@@ -254,43 +255,7 @@ def campaign_command(
     out.print(f"wrote {', '.join(str(p) for p in paths)}")
 
 
-@app.command()
-def refit(
-    timings_file: Path = typer.Argument(..., metavar="TIMINGS.csv", help="Measured mid-times: target, mid_bjd_tdb, "
-                                        "mid_err_d (days), optional note."),
-    out_path: Path = typer.Option(..., "--out", metavar="FILE", help="Refitted targets CSV (readable by every vigil command)."),
-    targets_file: Optional[Path] = typer.Option(None, "--targets", metavar="TARGETS.csv",
-                                                help="Catalog whose coordinates, durations and ephemerides (to number "
-                                                     "the epochs) carry over."),
-    force: bool = typer.Option(False, "--force", help="Replace existing outputs (otherwise vigil refuses)."),
-):
-    """Refit each target's linear ephemeris from measured transit times (weighted least squares).
-
-    Also writes the O-C table (FILE stem + _o_minus_c.csv, minutes) and its plot (.png).
-    Timings more than 5 sigma off the fit are flagged and left out of it.
-    """
-    from vigil.ephemeris.refit import plot_o_minus_c, refit_targets
-
-    setup_logging()
-    oc_path = out_path.with_name(out_path.stem + "_o_minus_c.csv")
-    plot_path = oc_path.with_suffix(".png")
-    with user_errors():
-        refuse_overwrite((out_path, oc_path, plot_path), force)
-        timings = catalog.read_timings(timings_file)
-        targets = catalog.read_targets(targets_file) if targets_file is not None else None
-        try:
-            refitted, o_minus_c = refit_targets(timings, targets)
-        except InputError as exc:
-            raise InputError(f"{timings_file}: {exc}") from None
-        write_csv(refitted, out_path, text_columns=("name",))
-        write_csv(o_minus_c, oc_path, text_columns=("target",))
-        plot_o_minus_c(o_minus_c, plot_path)
-    fitted = refitted[refitted["n_timings"] > 0]
-    for row in fitted.itertuples(index=False):
-        out.print(f"{row.name}: P = {row.period_d:.8f} ± {row.period_err_d:.8f} d, T0 = {row.t0_bjd_tdb:.6f} ± "
-                  f"{row.t0_err_d * 1440:.2f} min (BJD_TDB), reduced chi2 {row.reduced_chi2:.2f}, "
-                  f"{row.n_timings} timings, {row.n_outliers} flagged")
-    out.print(f"wrote {out_path}, {oc_path}, {plot_path}")
+app.command("refit")(refit)
 
 
 @app.command("space-seasons")
