@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+import collections
 import sys
 from importlib import resources
 from pathlib import Path
 from typing import Optional
 
+import pandas as pd
 import typer
 from astropy.time import Time
 from rich.table import Table
@@ -21,11 +23,13 @@ from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
-from vigil.export.windows_csv import write_windows_csv
+from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.journal_cli import journal_app
 from vigil.refit_cli import refit
 from vigil.constraints import Constraints
-from vigil.sweep import plan_windows_chunked
+from vigil.cluster import workers_for
+from vigil.sweep import iter_windows
+from vigil.tally import add_tallies, coverage_tally
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
                        "how uncertain their times are, what a multi-year campaign collects and when the stacked "
@@ -48,23 +52,28 @@ def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dic
     return {n: sites[n] for n in names}
 
 
-def _print_summary(windows, title: str) -> None:
-    if windows.empty:
+def _print_summary(tally, title: str) -> None:
+    """Print a coverage tally (vigil.tally) as a table."""
+    if tally.empty:
         out.print(f"{title}: no observable transits.")
         return
     table = Table(title=title, title_justify="left")
     for column in ("target", "site", "full", "ingress", "egress", "partial", "next full window (UTC)"):
         table.add_column(column, justify="left" if column in ("target", "site") else "right")
-    for (target, site), group in windows.groupby(["target", "site"], sort=True):
-        counts = group["coverage"].value_counts()
-        full = group[group["coverage"] == "full"]
-        first = iso_utc(full["window_start_jd_utc"].to_numpy()[:1])[0][:16].replace("T", " ") if len(full) else "-"
-        table.add_row(target, site, *(str(counts.get(c, 0)) for c in ("full", "ingress", "egress", "partial")), first)
+    for row in tally.itertuples(index=False):
+        first = iso_utc([row.first_full_jd_utc])[0][:16].replace("T", " ") or "-"
+        table.add_row(row.target, row.site, *(str(getattr(row, c)) for c in ("full", "ingress", "egress", "partial")),
+                      first)
     out.print(table)
     out.print(f"[dim]{SAFETY_NOTE}[/dim]")
 
 
-JOBS_HELP = "Worker processes for the windows computation (targets are split into chunks) [default 1]."
+JOBS_HELP = ("Worker processes for the windows computation (the targets and the span are split into chunks); "
+             "with --scheduler local, the cluster's workers [default 1].")
+SCHEDULER_HELP = ("Run the windows computation on a dask cluster (optional extra vigil[dask]): 'local' starts "
+                  "one on this machine, tcp://HOST:PORT joins a running scheduler and its workers.")
+CHUNK_DIR_HELP = ("With --scheduler: folder where workers leave their results as Parquet files; workers on "
+                  "other machines must see it too [default: a temporary folder here].")
 EXACT_HELP = ("Use the exact astropy engine (samples every 5 min; about 100x slower) instead of the fast "
               "analytic one (edges within about a minute of it).")
 
@@ -89,19 +98,34 @@ def _engine(exact: bool) -> str:
 
 def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
                  include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast",
-                 event: str = "transit", local_time: bool = False, jobs: int = 1):
+                 event: str = "transit", local_time: bool = False, jobs: int = 1, scheduler: str | None = None,
+                 chunk_dir: Path | None = None):
+    """Plan, write the CSV piece by piece and the calendar; return the coverage tally."""
     targets = catalog.read_targets(targets_file)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
-    with LazyProgress("windows (targets)") as progress:
-        windows = plan_windows_chunked(targets, sites, overrides, _parse_date(start, "--start"),
-                                       _parse_date(end, "--end"), jobs=jobs, engine=engine,
-                                       include_unobservable=include_all, event=event,
-                                       on_chunk=lambda _, done, total: progress.advance(done, total))
-    if csv_path is not None:
-        write_windows_csv(windows, csv_path, {n: s.timezone for n, s in sites.items()} if local_time else None)
+    start_time, end_time = _parse_date(start, "--start"), _parse_date(end, "--end")
+    tallies, kept = [], []
+
+    def tallied(pieces):
+        for piece in pieces:
+            tallies.append(coverage_tally(piece))
+            if ics_path is not None:
+                kept.append(piece)
+            yield piece
+
+    with LazyProgress("windows (chunks)") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
+        pieces = tallied(iter_windows(targets, sites, overrides, start_time, end_time, jobs=workers.count,
+                                      engine=engine, include_unobservable=include_all, event=event,
+                                      on_chunk=lambda _, done, total: progress.advance(done, total),
+                                      executor=workers.executor, chunk_dir=workers.chunk_dir))
+        if csv_path is not None:
+            write_windows_csv_pieces(pieces, csv_path,
+                                     {n: s.timezone for n, s in sites.items()} if local_time else None)
+        else:
+            collections.deque(pieces, maxlen=0)
     if ics_path is not None:
-        write_windows_ics(windows, ics_path, {n: s.timezone for n, s in sites.items()})
-    return windows
+        write_windows_ics(pd.concat(kept, ignore_index=True), ics_path, {n: s.timezone for n, s in sites.items()})
+    return add_tallies(tallies)
 
 
 @app.command()
@@ -129,6 +153,8 @@ def windows(
     local_time: bool = typer.Option(False, "--local-time", help="Add local civil times (each site's IANA timezone, "
                                     "with UTC offset) to the CSV."),
     jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
+    chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -142,7 +168,7 @@ def windows(
         _check_options(overrides)
         refuse_overwrite((csv_path, ics_path), force)
         result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
-                              _engine(exact), event, local_time, jobs)
+                              _engine(exact), event, local_time, jobs, scheduler, chunk_dir)
     _print_summary(result, f"Transit windows {start} to {end}")
     for path in (csv_path, ics_path):
         if path is not None:
@@ -206,7 +232,8 @@ def _verdict(row, spec) -> str:
     return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
 
 
-def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1):
+def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1,
+                  scheduler: str | None = None, chunk_dir: Path | None = None):
     spec = read_campaign(campaign_file)
     targets = catalog.read_targets(spec.targets_file)
     if target is not None:
@@ -220,8 +247,9 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
         done[0] += count
         progress.advance(done[0], spec.trials)
 
-    with LazyProgress("weather trials") as progress:
-        result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=jobs)
+    with LazyProgress("weather trials") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
+        result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=workers.count,
+                              executor=workers.executor, chunk_dir=workers.chunk_dir)
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")
@@ -238,6 +266,8 @@ def campaign_command(
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
     jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
+    chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
@@ -247,7 +277,7 @@ def campaign_command(
     setup_logging()
     with user_errors():
         refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs)
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs, scheduler, chunk_dir)
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
     else:
