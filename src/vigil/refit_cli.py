@@ -7,7 +7,6 @@ from pathlib import Path
 from typing import Optional
 
 import numpy as np
-import typer
 
 from vigil import catalog
 from vigil.cli_support import out, refuse_overwrite, setup_logging, user_errors
@@ -17,6 +16,7 @@ from vigil.ephemeris.staleness import DURATION_FRACTION, stale_date
 from vigil.errors import InputError
 from vigil.export.o_minus_c_plot import plot_o_minus_c
 from vigil.export.table import write_csv
+from vigil.target_source import CatalogueOptions
 
 HOURS_PER_DAY = 24.0
 DAYS_PER_YEAR = 365.25
@@ -24,34 +24,18 @@ DAYS_PER_YEAR = 365.25
 COMPARE_AFTER_YEARS = 2.0
 
 
-def refit(
-    timings_file: Path = typer.Argument(..., metavar="TIMINGS.csv", help="Measured mid-times: target, mid_bjd_tdb, "
-                                        "mid_err_d (days), optional note."),
-    out_path: Path = typer.Option(..., "--out", metavar="FILE", help="Refitted targets CSV (readable by every vigil command)."),
-    targets_file: Optional[Path] = typer.Option(None, "--targets", metavar="TARGETS.csv",
-                                                help="Catalogue: its ephemerides number the epochs and are the prior "
-                                                     "of the fit; coordinates and durations carry over."),
-    no_prior: bool = typer.Option(False, "--no-prior", help="Fit the timings alone (the catalogue only numbers epochs)."),
-    sigma_k: float = typer.Option(1.0, "--sigma", metavar="K", min=0.1, max=10.0,
-                                  help="Timing padding K for the stale threshold [default 1]."),
-    force: bool = typer.Option(False, "--force", help="Replace existing outputs (otherwise vigil refuses)."),
-):
-    """Update each target's ephemeris with measured transit times (weighted least squares).
-
-    The catalogue ephemeris is the prior unless --no-prior; outliers are removed one at a time
-    when more than 5 sigma from the prediction of all the other timings; linear and quadratic
-    models are compared by BIC. Epochs keep the catalogue's numbering. Also writes the O-C table
-    (FILE stem + _o_minus_c.csv, minutes) and its picture (.png).
-    """
+def run_refit(timings_file: Path, out_path: Path, targets_file: Optional[Path], catalogue: CatalogueOptions,
+              use_prior: bool, sigma_k: float, force: bool) -> None:
+    """`vigil refit` (options in vigil.cli): refit, write the targets CSV, O-C table and picture, report."""
     setup_logging()
     oc_path = out_path.with_name(out_path.stem + "_o_minus_c.csv")
     plot_path = oc_path.with_suffix(".png")
     with user_errors():
         refuse_overwrite((out_path, oc_path, plot_path), force)
         timings = catalog.read_timings(timings_file)
-        targets = catalog.read_targets(targets_file) if targets_file is not None else None
+        targets = catalog.read_targets(targets_file, catalogue) if targets_file is not None else None
         try:
-            result = refit_targets(timings, targets, use_prior=not no_prior)
+            result = refit_targets(timings, targets, use_prior=use_prior)
         except InputError as exc:
             hint = "" if targets_file is not None or "--targets" in str(exc) else " (pass --targets TARGETS.csv)"
             raise InputError(f"{timings_file}: {exc}{hint}") from None
