@@ -70,12 +70,17 @@ def schedule(visits: pd.DataFrame, gain_per_hour: dict, priority: dict, per_targ
     each planet's. Columns added: gain, pointing (number), shared_with (the other planets).
     """
     if visits.empty:
-        return visits.assign(gain=pd.Series(dtype=float), pointing=pd.Series(dtype=np.int64),
-                             shared_with=pd.Series(dtype=str))
+        return _none_chosen(visits)
     keys = [f"{(hosts or {}).get(t, t)}|{s}" for t, s in zip(visits["target"], visits["site"])]
     group = overlap_groups(keys, visits["start_jd_utc"], visits["end_jd_utc"])
     chosen = _greedy(visits, group, gain_per_hour, priority, per_target_per_semester, per_site_per_semester)
-    return _pointing_rows(visits, chosen, gain_per_hour)
+    return _pointing_rows(visits, chosen, gain_per_hour) if chosen else _none_chosen(visits)
+
+
+def _none_chosen(visits: pd.DataFrame) -> pd.DataFrame:
+    """The schedule's table with no visits in it."""
+    return visits.iloc[:0].assign(gain=pd.Series(dtype=float), pointing=pd.Series(dtype=np.int64),
+                                  shared_with=pd.Series(dtype=str))
 
 
 def _telescope_h(visits: pd.DataFrame, rows) -> float:
