@@ -5,8 +5,6 @@ AlwaysUpError), and astropy's bundled Earth-orientation table (its last date) fo
 second note must start. The site is invented.
 """
 
-import logging
-
 import ephem
 import pytest
 from astropy.time import Time
@@ -19,19 +17,11 @@ from vigil.cli import app
 from vigil.timescales import beyond_earth_orientation_note
 
 from conftest import DEMO_DIR
+from test_cli import _restore_vigil_logger  # noqa: F401  (autouse: the CLI's logger is put back)
 
 START, END = "2028-05-20", "2028-07-15"
 NO_DARKNESS = "no astronomical darkness"
 EARTH_ORIENTATION = "Earth-orientation predictions"
-
-
-@pytest.fixture(autouse=True)
-def _restore_vigil_logger():
-    """The CLI attaches its own handler to the 'vigil' logger; leave the logger as found."""
-    logger = logging.getLogger("vigil")
-    saved = (list(logger.handlers), logger.level, logger.propagate)
-    yield
-    logger.handlers[:], logger.level, logger.propagate = saved
 
 
 @pytest.fixture
