@@ -60,7 +60,7 @@ def test_refit_prints_and_writes_markup_names_literally(tmp_path):
     result = _run("refit", timings, "--targets", targets, "--out", tmp_path / "refit.csv", env={"COLUMNS": "200"})
     assert result.exit_code == 0, result.output
     for name in names:
-        assert f"{name}: P = " in result.output
+        assert f"\n{name}: " in "\n" + result.output
 
 
 def test_calendar_uids_differ_for_names_differing_by_case_punctuation_or_normalisation():

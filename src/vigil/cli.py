@@ -15,11 +15,11 @@ from astropy.time import Time
 from rich.table import Table
 from rich.text import Text
 
-from vigil import catalog
+from vigil import catalog, notes
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.run import run_campaign
 from vigil.campaign.spec import read_campaign
-from vigil.cli_support import LazyProgress, did_you_mean, out, setup_logging, user_errors
+from vigil.cli_support import LazyProgress, out, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, run_stamp, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
@@ -29,8 +29,10 @@ from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.hosts import host_of, mark_shared
 from vigil.target_source import CatalogueOptions
+from vigil.textfile import did_you_mean
 from vigil.journal_cli import journal_app
 from vigil.names import clean_name
+from vigil.refit_cli import run_refit
 from vigil.timescales import FIRST_PLAN_YEAR, LAST_PLAN_YEAR, check_plan_date
 from vigil.constraints import Constraints
 from vigil.cluster import workers_for
@@ -121,7 +123,12 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
     targets = catalog.read_targets(targets_file, catalogue)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
     start_time, end_time = _parse_date(start, "--start"), _parse_date(end, "--end")
-    tallies, kept = [], []
+    tallies, kept, found = [], [], []
+
+    def noted(pieces):
+        for piece in pieces:
+            found.append(notes.of(piece))
+            yield piece
 
     def tallied(pieces):
         for piece in pieces:
@@ -131,16 +138,18 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
             yield piece
 
     with LazyProgress("windows (chunks)") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
-        pieces = tallied(mark_shared(iter_windows(targets, sites, overrides, start_time, end_time, jobs=workers.count,
-                                                  engine=engine, include_unobservable=include_all, event=event,
-                                                  on_chunk=lambda _, done, total: progress.advance(done, total),
-                                                  executor=workers.executor, chunk_dir=workers.chunk_dir),
+        pieces = tallied(mark_shared(noted(iter_windows(targets, sites, overrides, start_time, end_time,
+                                                        jobs=workers.count, engine=engine,
+                                                        include_unobservable=include_all, event=event,
+                                                        on_chunk=lambda _, done, total: progress.advance(done, total),
+                                                        executor=workers.executor, chunk_dir=workers.chunk_dir)),
                                      host_of(targets)))
         if csv_path is not None:
             write_windows_csv_pieces(pieces, csv_path,
                                      {n: s.timezone for n, s in sites.items()} if local_time else None)
         else:
             collections.deque(pieces, maxlen=0)
+    notes.report(notes.merged(*found))
     if ics_path is not None:
         write_windows_ics(pd.concat(kept, ignore_index=True), ics_path, {n: s.timezone for n, s in sites.items()})
     return add_tallies(tallies)
@@ -277,6 +286,7 @@ def _run_campaign(spec, target: str | None, out_dir: Path, engine: str = "fast",
     with LazyProgress("weather trials") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
         result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=workers.count,
                               executor=workers.executor, chunk_dir=workers.chunk_dir)
+    notes.report(result.notes)
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")
@@ -323,41 +333,25 @@ def refit(
                                         "mid_err_d (days), optional note."),
     out_path: Path = typer.Option(..., "--out", metavar="FILE", help="Refitted targets CSV (readable by every vigil command)."),
     targets_file: Optional[Path] = typer.Option(None, "--targets", metavar="TARGETS.csv",
-                                                help="Catalog whose coordinates, durations and ephemerides (to number "
-                                                     "the epochs) carry over."),
+                                                help="Catalogue: its ephemerides number the epochs and are the prior "
+                                                     "of the fit; coordinates and durations carry over."),
+    no_prior: bool = typer.Option(False, "--no-prior", help="Fit the timings alone (the catalogue only numbers epochs)."),
+    sigma_k: float = typer.Option(1.0, "--sigma", metavar="K", min=0.1, max=10.0,
+                                  help="Timing padding K for the stale threshold [default 1]."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs (otherwise vigil refuses)."),
     fmt: Optional[str] = FORMAT_OPTION,
     columns: Optional[Path] = COLUMNS_OPTION,
     strict: bool = STRICT_OPTION,
 ):
-    """Refit each target's linear ephemeris from measured transit times (weighted least squares).
+    """Update each target's ephemeris with measured transit times (weighted least squares).
 
-    Also writes the O-C table (FILE stem + _o_minus_c.csv, minutes) and its plot (.png).
-    Timings more than 5 sigma off the fit are flagged and left out of it.
+    The catalogue ephemeris is the prior unless --no-prior; outliers are removed one at a time
+    when more than 5 sigma from the prediction of all the other timings; linear and quadratic
+    models are compared by BIC. Epochs keep the catalogue's numbering. Also writes the O-C table
+    (FILE stem + _o_minus_c.csv, minutes) and its picture (.png).
     """
-    from vigil.ephemeris.refit import plot_o_minus_c, refit_targets
-
-    setup_logging()
-    oc_path = out_path.with_name(out_path.stem + "_o_minus_c.csv")
-    plot_path = oc_path.with_suffix(".png")
-    with user_errors(), OutputTransaction((out_path, oc_path, plot_path), (timings_file, targets_file, columns),
-                                          force).committing():
-        timings = catalog.read_timings(timings_file)
-        targets = (catalog.read_targets(targets_file, CatalogueOptions(fmt, columns, strict))
-                   if targets_file is not None else None)
-        try:
-            refitted, o_minus_c = refit_targets(timings, targets)
-        except InputError as exc:
-            raise InputError(f"{timings_file}: {exc}") from None
-        write_csv(refitted, out_path)
-        write_csv(o_minus_c, oc_path)
-        plot_o_minus_c(o_minus_c, plot_path)
-    fitted = refitted[refitted["n_timings"] > 0]
-    for row in fitted.itertuples(index=False):
-        out.print(f"{row.name}: P = {row.period_d:.8f} ± {row.period_err_d:.8f} d, T0 = {row.t0_bjd_tdb:.6f} ± "
-                  f"{row.t0_err_d * 1440:.2f} min (BJD_TDB), reduced chi2 {row.reduced_chi2:.2f}, "
-                  f"{row.n_timings} timings, {row.n_outliers} flagged")
-    out.print(f"wrote {out_path}, {oc_path}, {plot_path}")
+    run_refit(timings_file, out_path, targets_file, CatalogueOptions(fmt, columns, strict), not no_prior, sigma_k,
+              force)
 
 
 @app.command("space-seasons")
