@@ -317,7 +317,9 @@ WARNED = [
     (("sites", "unknown_key.toml"), ("[sites.alto_verde]", "unknown key 'humidity'")),
     (("sites", "low_altitude_limit.toml"), ("[sites.alto_verde] min_altitude_deg 5", "below 10 degrees")),
     (("sites", "high_elevation.toml"), ("[sites.alto_verde] elevation_m 5600", "above 5000 m")),
-    (("campaign", "unknown_key.toml"), ("[campaign]", "unknown key 'horizon_yeras'")),
+    (("campaign", "unknown_key.toml"), ("[campaign]", "unknown key 'horizon_yeras'", "did you mean 'horizon_years'")),
+    (("sites", "misspelt_min_altitude.toml"), ("[sites.alto_verde]", "unknown key 'min_altitude'", "default is used",
+                                               "did you mean 'min_altitude_deg'")),
     (("campaign", "unknown_table.toml"), ("unknown table [wether]", "'weather'")),
 ]
 

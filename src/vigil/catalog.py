@@ -29,7 +29,7 @@ from vigil.facility import FACILITY_KEYS, read_facility
 from vigil.sites import (DEFAULT_INTERRUPTION_START_JD_UTC, DEFAULT_SUN_ANGLE_MAX_DEG, DEFAULT_SUN_ANGLE_MIN_DEG,
                          DEFAULT_TEMPERATURE_C, Site, SpaceSettings)
 from vigil.target_source import CatalogueOptions, drop_incomplete, target_cells
-from vigil.textfile import csv_number, line_of, load_toml, number_in_range, read_csv, row_label, spelling_hint
+from vigil.textfile import did_you_mean, csv_number, line_of, load_toml, number_in_range, read_csv, row_label, spelling_hint
 from vigil.timescales import MAX_PLAUSIBLE_JD, MIN_PLAUSIBLE_JD
 
 log = logging.getLogger("vigil")
@@ -311,7 +311,8 @@ def _warn_unknown_keys(path: Path, key: str, entry: dict, known: set) -> None:
         if unknown in SPACE_KEYS:
             log.warning("%s: [%s] key %r ignored: it is read for sites of kind = \"space\" only", path, key, unknown)
         else:
-            log.warning("%s: [%s] unknown key %r ignored", path, key, unknown)
+            log.warning("%s: [%s] unknown key %r ignored, the default is used%s", path, key, unknown,
+                        did_you_mean(unknown, known))
 
 
 def _note_site(path: Path, key: str, entry: dict, longitude: float, elevation: float, defaults: dict) -> None:

@@ -19,7 +19,7 @@ from vigil import catalog, notes
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.run import run_campaign
 from vigil.campaign.spec import read_campaign
-from vigil.cli_support import LazyProgress, out, setup_logging, user_errors
+from vigil.cli_support import LazyProgress, log, out, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, run_stamp, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
@@ -111,6 +111,15 @@ def _check_options(overrides: dict) -> None:
                 raise InputError(f"{OPTION_OF[key]}: {str(exc).split(': ', 1)[1]}") from None
 
 
+def _warn_ground_only_options(sites: dict, overrides: dict) -> None:
+    """Say which constraint options a space site ignores (the same keys in the TOML warn too)."""
+    space = [name for name, site in sites.items() if site.kind == "space"]
+    for key in catalog.GROUND_ONLY_CONSTRAINTS:
+        if space and overrides.get(key) is not None:
+            log.warning("%s ignored at space site(s) %s: it constrains ground sites only", OPTION_OF[key],
+                        ", ".join(space))
+
+
 def _engine(exact: bool) -> str:
     return "reference" if exact else "fast"
 
@@ -122,6 +131,7 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
     """Plan, write the CSV piece by piece and the calendar; return the coverage tally."""
     targets = catalog.read_targets(targets_file, catalogue)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
+    _warn_ground_only_options(sites, overrides)
     start_time, end_time = _parse_date(start, "--start"), _parse_date(end, "--end")
     tallies, kept, found = [], [], []
 
@@ -354,6 +364,17 @@ def refit(
               force)
 
 
+def _joined(spans_jd: list[tuple[float, float]]) -> list[tuple[float, float]]:
+    """Time-ordered (start, end) spans with those that touch at a year boundary made one."""
+    joined: list[tuple[float, float]] = []
+    for start, end in sorted(spans_jd):
+        if joined and start <= joined[-1][1] + 1e-6:
+            joined[-1] = (joined[-1][0], max(joined[-1][1], end))
+        else:
+            joined.append((start, end))
+    return joined
+
+
 @app.command("space-seasons")
 def space_seasons(
     targets_file: Path = typer.Argument(..., metavar="TARGETS.csv", help="Targets CSV (coordinates are what matter here)."),
@@ -388,9 +409,10 @@ def space_seasons(
             raise InputError(f"--years: {years} years from {year} end after {LAST_PLAN_YEAR}, the last year vigil plans for")
         if site.kind != "space":
             raise InputError(f"{sites_file}: [sites.{site_name}] is a ground site; space-seasons needs kind = \"space\"")
-        rows = [{"target": t.name, "site": site_name, "start_jd": lo.utc.jd, "end_jd": hi.utc.jd}
-                for t in targets.itertuples(index=False) for y in range(year, year + years)
-                for lo, hi in annual_windows(t.ra_deg, t.dec_deg, site, y)]
+        rows = [{"target": t.name, "site": site_name, "start_jd": lo, "end_jd": hi}
+                for t in targets.itertuples(index=False)
+                for lo, hi in _joined([(lo.utc.jd, hi.utc.jd) for y in range(year, year + years)
+                                       for lo, hi in annual_windows(t.ra_deg, t.dec_deg, site, y)])]
         table = pd.DataFrame(rows, columns=["target", "site", "start_jd", "end_jd"])
         seasons = pd.DataFrame({"target": table["target"], "site": table["site"],
                                 "window_start_utc": iso_utc(table["start_jd"].to_numpy()),

@@ -42,7 +42,20 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints,
     timed = (constraints.sigma_k * padded["mid_sigma_d"] < 0.5 * padded["period_d"]).to_numpy()
     observable, conditions, found = engine_module.evaluate(padded, site, constraints, timed)
     table = pd.concat([visibility.classify(padded, observable, constraints.sigma_k), conditions], axis=1)
-    return notes.attach(table, found)
+    return notes.attach(table, notes.merged(found, _lost_phase_notes(padded[~timed], constraints.sigma_k)))
+
+
+def _lost_phase_notes(untimed: pd.DataFrame, sigma_k: float) -> list[notes.Note]:
+    """One note per target whose K-sigma timing uncertainty exceeds half its period: its phase is lost."""
+    found = []
+    for target, rows in untimed.groupby("target", sort=False):
+        name = str(target).replace("{", "{{").replace("}", "}}")  # the template is formatted with the dates
+        found.append(notes.Note(
+            ("lost phase", target),
+            f"{name!r}: from {{start}} to {{end}} {sigma_k:g} sigma of its predicted mid-time exceeds half its "
+            "period, so its phase is lost and those transits are listed as none; refresh its ephemeris (vigil refit)",
+            float(rows["mid_jd_utc"].min()), float(rows["mid_jd_utc"].max())))
+    return found
 
 
 def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,

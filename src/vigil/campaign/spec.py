@@ -110,7 +110,8 @@ def _warn_unknown(path: Path, document: dict, sites: tuple[str, ...]) -> None:
             log.warning("%s: unknown table [%s] ignored%s", path, section, spelling_hint([*KNOWN], [section]))
         elif KNOWN[section] is not None and isinstance(value, dict):
             for key in sorted(set(value) - KNOWN[section]):
-                log.warning("%s: [%s] unknown key %r ignored", path, section, key)
+                log.warning("%s: [%s] unknown key %r ignored, the default is used%s", path, section, key,
+                            did_you_mean(key, KNOWN[section]))
     for site in document.get("weather", {}):
         if site not in sites:
             log.warning("%s: [weather.%s] ignored: %r is not in [campaign] sites", path, site, site)
