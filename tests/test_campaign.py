@@ -84,7 +84,7 @@ def test_clear_sky_ledger_is_every_counted_window_all_clear():
     windows = windows_of(spec, targets)
     counted = windows[windows["coverage"].isin(spec.coverage) & (windows["observable_fraction"] >= 0.3)]
     assert len(ledger) > 50
-    assert (ledger["weather"] == "clear").all() and (ledger["clear_share"] == 1.0).all()
+    assert (ledger["sky"] == "clear").all() and (ledger["clear_share"] == 1.0).all()
     assert ledger["epoch"].tolist() == counted["epoch"].tolist()
     assert ledger["start_jd_utc"].to_numpy() == pytest.approx(counted["observable_start_jd_utc"].to_numpy(), abs=1e-9)
     assert ledger["end_jd_utc"].to_numpy() == pytest.approx(counted["observable_end_jd_utc"].to_numpy(), abs=1e-9)
@@ -97,7 +97,7 @@ def test_overcast_sky_loses_every_visit_and_stacks_nothing():
     # A Bernoulli draw with p = 0 never succeeds (common practice, no source).
     result = run(campaign_spec(clear=0.0), targets_table({}))
     assert len(result.ledger) > 50
-    assert (result.ledger["weather"] == "lost").all() and (result.ledger["clear_share"] == 0.0).all()
+    assert (result.ledger["sky"] == "cloudy").all() and (result.ledger["clear_share"] == 0.0).all()
     assert result.summary["in_transit_hours_per_year"].iloc[0] == 0.0
     assert (result.yearly["in_transit_hours_p90"] == 0.0).all()
     assert not result.summary["reachable"].iloc[0] and np.isinf(result.years_to_goal["Brasa-4 b"]).all()

@@ -59,3 +59,38 @@ def test_space_seasons_run_on_across_new_year(tmp_path):
     rows = csv_path.read_text().splitlines()
     assert len(rows) == 2 and rows[1].endswith(",730.0"), rows
     assert "2030-01-01 to 2032-01-01 (730 d)" in result.output
+
+
+def _campaign_with_journal(tmp_path: Path) -> Path:
+    journal = tmp_path / "j.db"
+    added = _run("journal", "add", journal, "--target", "Brisa-4 b", "--site", "alto_verde", "--epoch", 3,
+                 "--start", "2026-12-29T02:00:00Z", "--end", "2026-12-29T06:00:00Z", "--outcome", "clear",
+                 "--mid-bjd-tdb", "2461028.9518", "--mid-err-d", "0.0005", "--in-transit-h", "2.1",
+                 "--baseline-h", "1.5")
+    assert added.exit_code == 0, added.output
+    campaign = tmp_path / "campaign.toml"
+    text = (GOOD / "campaign.toml").read_text().replace('"targets.csv"', f'"{GOOD / "targets.csv"}"')
+    campaign.write_text(text.replace('sites_file = "sites.toml"', f'sites_file = "{GOOD / "sites.toml"}"\n'
+                                                                  f'journal = "{journal}"'))
+    return campaign
+
+
+def test_campaign_target_answers_from_the_whole_campaign_and_writes_nothing_unasked(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    campaign = _campaign_with_journal(tmp_path)
+    before = sorted(p.name for p in tmp_path.iterdir())
+    full = _run("campaign", campaign, "--out", tmp_path / "all")
+    assert full.exit_code == 0, full.output
+    summary = (tmp_path / "all" / "summary.csv").read_text().splitlines()
+    row = next(line for line in summary if line.startswith("Orla-12 b,"))
+    hours = float(row.split(",")[4])  # in_transit_hours_per_year, as in the full table
+    # the journal holds another target's timing: the one-target question still runs
+    one = _run("campaign", campaign, "--target", "Orla-12 b")
+    assert one.exit_code == 0, one.output
+    assert one.output.startswith("Orla-12 b: ")
+    assert "ran with all 2 targets, so clashes with the other 1 count" in one.output
+    assert "no files written" in one.output
+    assert f"{hours:.1f} in-transit h/yr" in one.output or "not within" in one.output
+    assert sorted(p.name for p in tmp_path.iterdir()) == sorted([*before, "all"])
+    again = _run("campaign", campaign, "--target", "Brisa-4 b")  # a second question is not refused
+    assert again.exit_code == 0, again.output

@@ -278,14 +278,13 @@ def _verdict(row, spec) -> str:
     return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
 
 
-def _run_campaign(spec, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1,
+def _run_campaign(spec, target: str | None, out_dir: Path | None, engine: str = "fast", jobs: int = 1,
                   scheduler: str | None = None, chunk_dir: Path | None = None, strict: bool = False):
+    """Run the whole campaign (a --target is answered from it, clashes included); write into `out_dir`
+    unless it is None. Return the result and the files written."""
     targets = catalog.read_targets(spec.targets_file, replace(spec.targets_options, strict=strict))
-    if target is not None:
-        target = clean_name(target, "--target")
-        if target not in set(targets["name"]):
-            raise InputError(f"{spec.targets_file}: no target named {target!r}{did_you_mean(target, targets['name'])}")
-        targets = targets[targets["name"] == target].reset_index(drop=True)
+    if target is not None and target not in set(targets["name"]):
+        raise InputError(f"{spec.targets_file}: no target named {target!r}{did_you_mean(target, targets['name'])}")
     sites = catalog.read_sites(spec.sites_file)
     done = [0]
 
@@ -297,6 +296,8 @@ def _run_campaign(spec, target: str | None, out_dir: Path, engine: str = "fast",
         result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=workers.count,
                               executor=workers.executor, chunk_dir=workers.chunk_dir)
     notes.report(result.notes)
+    if out_dir is None:
+        return result, []
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")
@@ -308,8 +309,12 @@ def _run_campaign(spec, target: str | None, out_dir: Path, engine: str = "fast",
 def campaign_command(
     campaign_file: Path = typer.Argument(..., metavar="CAMPAIGN.toml", help="Campaign TOML: start, horizon (years), targets and sites files, "
                                          "weather, allocation, instrument, spectral goal, trials, seed."),
-    target: Optional[str] = typer.Option(None, "--target", metavar="NAME", help="Answer for this one target only."),
-    out_dir: Path = typer.Option(Path("vigil-campaign"), "--out", metavar="DIR", help="Output folder for CSVs and PNG plots."),
+    target: Optional[str] = typer.Option(None, "--target", metavar="NAME",
+                                         help="Answer for this one target (the campaign runs with all its targets, "
+                                              "so clashes count); files are written only with --out."),
+    out_dir: Optional[Path] = typer.Option(None, "--out", metavar="DIR",
+                                           help="Output folder for CSVs and PNG plots [default vigil-campaign, "
+                                                "none with --target]."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
     jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
@@ -323,18 +328,27 @@ def campaign_command(
     simulated campaign with their weather), resolution.png and hours.png.
     """
     setup_logging()
+    if out_dir is None and target is None:
+        out_dir = Path("vigil-campaign")
     with user_errors():
-        outputs = OutputTransaction([out_dir / name for name in CAMPAIGN_FILES], [campaign_file], force,
-                                    create_folder=out_dir)
+        if target is not None:
+            target = clean_name(target, "--target")
+        files = [] if out_dir is None else [out_dir / name for name in CAMPAIGN_FILES]
+        outputs = OutputTransaction(files, [campaign_file], force, create_folder=out_dir)
         spec = read_campaign(campaign_file)
         outputs.check_inputs((spec.targets_file, spec.sites_file, spec.journal_file))
         with outputs.committing():
             result, paths = _run_campaign(spec, target, out_dir, _engine(exact), jobs, scheduler, chunk_dir, strict)
     if target is not None:
-        out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
+        row = next(r for r in result.summary.itertuples(index=False) if r.target == target)
+        out.print(_verdict(row, spec))
+        others = len(result.summary) - 1
+        out.print(f"(the campaign ran with all {others + 1} targets, so clashes with the other {others} count, as "
+                  "in the full table)" if others else "(the campaign has no other target to clash with)")
     else:
         _print_campaign(result, spec)
-    out.print(f"wrote {', '.join(str(p) for p in paths)}")
+    out.print(f"wrote {', '.join(str(p) for p in paths)}" if paths else "no files written (give --out DIR to write "
+              "the campaign's files)")
 
 
 @app.command()

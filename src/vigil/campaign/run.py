@@ -125,6 +125,6 @@ def _ledger(scheduled: pd.DataFrame, clear: np.ndarray) -> pd.DataFrame:
     columns = ["target", "site", "epoch", "coverage", "mid_jd_utc", "start_jd_utc", "end_jd_utc",
                "in_transit_h", "baseline_h", "telescope_h", "shared_with"]
     ledger = scheduled[columns].copy()
-    ledger["weather"] = np.where(clear[0], "clear", "lost") if clear.size else []
+    ledger["sky"] = np.where(clear[0], "clear", "cloudy") if clear.size else []
     ledger["clear_share"] = clear.mean(axis=0) if clear.size else []
     return ledger
