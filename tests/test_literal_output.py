@@ -116,3 +116,27 @@ def test_refit_output_text_columns_are_neutralised(tmp_path):
         for row in csv.reader(io.StringIO(path.read_text())):
             formula = [cell for cell in row if cell[:1] in ("=", "+", "@", "\t", "\r")]
             assert not formula, (path.name, formula)
+
+
+@pytest.mark.parametrize("option, value, words", [
+    ("--target", "Tamsin-7 b\u200f", ("field target", "U+200F", "RIGHT-TO-LEFT MARK")),
+    ("--site", "\u202e", ("field site", "U+202E")),
+    ("--target", "   ", ("field target", "expected a name", "nothing")),
+    ("--start", "1899-12-31T22:00:00Z", ("field start_utc", "1950-01-01", "2300-12-31", "1899-12-31")),
+])
+def test_journal_refuses_invisible_names_and_dates_outside_the_span(tmp_path, option, value, words):
+    visit = {"--target": "Tamsin-7 b", "--site": "alto_verde", "--epoch": "4", "--start": "2027-03-04T22:15:00Z",
+             "--end": "2027-03-05T02:15:00Z", "--outcome": "clear", option: value}
+    journal = tmp_path / "j.db"
+    result = _run("journal", "add", journal, *(x for pair in visit.items() for x in pair))
+    _assert_one_error_line(result, None, words)
+    assert not journal.exists()
+
+
+def test_names_are_one_form_whatever_the_unicode_spelling(tmp_path):
+    composed, decomposed = (unicodedata.normalize(form, "Orla-\u00e9 b") for form in ("NFC", "NFD"))
+    targets = _targets_named(tmp_path, [decomposed])
+    ics = tmp_path / "w.ics"
+    assert _run("windows", targets, "--sites", GOOD / "sites.toml", *DATES, "--ics", ics).exit_code == 0
+    summaries = [str(e["SUMMARY"]) for e in icalendar.Calendar.from_ical(ics.read_bytes()).walk("VEVENT")]
+    assert summaries and all(s.startswith(composed + " ") for s in summaries)

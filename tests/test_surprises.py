@@ -94,3 +94,26 @@ def test_campaign_target_answers_from_the_whole_campaign_and_writes_nothing_unas
     assert sorted(p.name for p in tmp_path.iterdir()) == sorted([*before, "all"])
     again = _run("campaign", campaign, "--target", "Brisa-4 b")  # a second question is not refused
     assert again.exit_code == 0, again.output
+
+
+def test_a_library_warning_reaches_the_user_as_one_vigil_line(tmp_path, monkeypatch):
+    import warnings
+
+    import numpy as np
+
+    from vigil import cli
+
+    shown = cli._print_summary
+
+    def summary_with_a_warning(*args):
+        np.log(np.zeros(1))  # numpy: "divide by zero encountered in log"
+        warnings.warn("ERFA function \"epv00\" yielded 3 of \"warning: date outside\nthe range\"", UserWarning)
+        shown(*args)
+
+    monkeypatch.setattr(cli, "_print_summary", summary_with_a_warning)
+    result = _run("windows", GOOD / "targets.csv", "--sites", GOOD / "sites.toml", "--start", "2027-03-01",
+                  "--end", "2027-03-08")
+    assert result.exit_code == 0, result.output
+    assert "vigil: note: divide by zero encountered in log (RuntimeWarning" in result.output
+    assert "vigil: note: ERFA function \"epv00\" yielded 3 of \"warning: date outside the range\"" in result.output
+    assert "RuntimeWarning:" not in result.output and "warn(" not in result.output

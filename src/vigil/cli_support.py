@@ -3,7 +3,9 @@
 from __future__ import annotations
 
 import logging
+import warnings
 from contextlib import contextmanager
+from pathlib import Path
 
 import typer
 from rich.console import Console
@@ -24,10 +26,20 @@ class _Notes(logging.Handler):
 
 
 def setup_logging() -> None:
+    """Notes and warnings on stderr as one `vigil: ...` line each; library warnings included."""
     if not any(isinstance(h, _Notes) for h in log.handlers):
         log.addHandler(_Notes())
     log.setLevel(logging.INFO)
     log.propagate = False
+    warnings.showwarning = _library_warning
+
+
+def _library_warning(message, category, filename, lineno, file=None, line=None) -> None:
+    """A warning of a library (numpy, ERFA, matplotlib, astropy) as one vigil note, never its raw
+    two-line form with a source path; vigil's own checks should make these rare."""
+    text = " ".join(str(message).split())
+    source = Path(filename or "?").parent.name or Path(filename or "?").name
+    log.info("%s (%s, from %s)", text, category.__name__, source)
 
 
 @contextmanager

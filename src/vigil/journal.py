@@ -97,21 +97,25 @@ def open_journal(path: str | Path, write: bool = True) -> "Journal":
     0
     """
     path = Path(path)
-    return Journal(journal_file.connect(path, _SCHEMA, COLUMNS, write), path)
+    created = not path.exists()
+    return Journal(journal_file.connect(path, _SCHEMA, COLUMNS, write), path, created)
 
 
 class Journal:
     """An open campaign journal (see the module docstring); get one from `open_journal`."""
 
-    def __init__(self, db: sqlite3.Connection, path: Path):
+    def __init__(self, db: sqlite3.Connection, path: Path, created: bool = False):
         self._db = db
         self.path = path
+        self._created = created  # a journal this open created is removed if its first use fails
 
     def __enter__(self) -> "Journal":
         return self
 
     def __exit__(self, kind, error, trace) -> None:
         self.close()
+        if error is not None and self._created:
+            journal_file.remove_new(self.path)
         if isinstance(error, sqlite3.Error):
             raise InputError(journal_file.describe_error(self.path, error)) from None
 

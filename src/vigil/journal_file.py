@@ -82,10 +82,19 @@ def _open(path: Path, write: bool) -> sqlite3.Connection:
 
 
 def _remove_if_new(path: Path, created: bool) -> None:
-    """A journal this call created and could not complete is removed: nothing half-made stays."""
     if created:
-        for leftover in (path, path.with_name(path.name + "-journal")):
-            leftover.unlink(missing_ok=True)
+        remove_new(path)
+
+
+def remove_new(path: Path) -> None:
+    """Remove a journal (and SQLite's rollback file) that was created by a command that then failed.
+
+    Examples
+    --------
+    >>> remove_new(Path("no-such-journal.db"))
+    """
+    for leftover in (path, path.with_name(path.name + "-journal")):
+        leftover.unlink(missing_ok=True)
 
 
 def _check_integrity(db: sqlite3.Connection, path: Path) -> None:
