@@ -25,6 +25,7 @@ from vigil.export import files
 
 from test_cli import _restore_vigil_logger  # noqa: F401  (autouse: leave the 'vigil' logger as found)
 from test_corpus import _assert_one_error_line
+from test_journal_damage import mounted  # noqa: F401  (fixture: a small tmpfs, root only)
 
 GOOD = Path(__file__).resolve().parent / "corpus" / "good"
 DATES = ("--start", "2027-03-01", "--end", "2027-03-08")
@@ -217,3 +218,18 @@ def test_kill_9_at_random_moments_leaves_old_or_new_outputs_never_a_mix(tmp_path
     subprocess.run(args, check=True, capture_output=True)  # the next run removes what a killed one left
     assert not [p.name for p in out.iterdir() if p.name.startswith(".")]
     print("kill -9 outcomes:", outcomes)
+
+
+def test_a_really_full_disk_leaves_the_earlier_outputs(mounted):
+    """On a small real file system: the new outputs do not fit; the earlier ones stay as they were."""
+    w_csv, w_ics = mounted / "w.csv", mounted / "w.ics"
+    w_csv.write_bytes(OLD)
+    w_ics.write_bytes(OLD)
+    filler = mounted / "filler"
+    filler.write_bytes(b"\0" * (256 * 1024 - 3 * 4096))
+    result = _run("windows", GOOD / "targets.csv", "--sites", GOOD / "sites.toml", "--start", "2027-01-01",
+                  "--end", "2027-07-01", "--csv", w_csv, "--ics", w_ics, "--force")
+    line = _one_error_line(result)
+    assert "disk is full" in line and (f"cannot write {w_csv}:" in line or f"cannot write {w_ics}:" in line)
+    assert w_csv.read_bytes() == OLD and w_ics.read_bytes() == OLD
+    assert sorted(p.name for p in mounted.iterdir()) == ["filler", "w.csv", "w.ics"]
