@@ -150,3 +150,19 @@ def test_prior_never_increases_sigma_for_consistent_timings(t0_err_d, period_err
     assert not choice.removed.any()
     probe = np.concatenate([np.arange(-3000, 30000, 997), epochs])
     assert np.all(choice.chosen.ephemeris.mid_sigma_d(probe) <= catalogue.mid_sigma_d(probe) * (1 + 1e-9))
+
+
+def test_ephemeris_package_examples_run_and_it_imports_no_visibility():
+    # The numpydoc examples of the ephemeris package are executed as doctests (Python's doctest
+    # module), and the package sits upstream of visibility: nothing in it imports that stage.
+    import doctest
+    import importlib
+    import pkgutil
+
+    import vigil.ephemeris as package
+
+    for info in pkgutil.iter_modules(package.__path__):
+        module = importlib.import_module(f"vigil.ephemeris.{info.name}")
+        assert doctest.testmod(module).failed == 0, info.name
+        source = open(module.__file__, encoding="utf-8").read()
+        assert "vigil.visibility" not in source and "from vigil import visibility" not in source, info.name
