@@ -18,7 +18,7 @@ from vigil import catalog, notes
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.run import run_campaign
 from vigil.campaign.spec import read_campaign
-from vigil.cli_support import LazyProgress, did_you_mean, out, refuse_overwrite, setup_logging, user_errors
+from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
@@ -27,6 +27,7 @@ from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.hosts import host_of, mark_shared
 from vigil.target_source import CatalogueOptions
+from vigil.textfile import did_you_mean
 from vigil.journal_cli import journal_app
 from vigil.refit_cli import run_refit
 from vigil.constraints import Constraints

@@ -126,6 +126,7 @@ _TARGET_NAME = _col(TARGET, "", "text", "planet name")
 _SITE_NAME = _col(SITE, "", "text", "site name")
 _EPOCH = _col(EPOCH, "", "int", "transit number counted from t0")
 _COVERAGE = _col(COVERAGE, "", COVERAGE_CLASSES, "full, ingress, egress, partial or none")
+_SHARED_WITH = _col("shared_with", "", "text", "other planets of the same star whose windows overlap this one")
 
 TARGETS = Table("targets", (
     _col("name", "", "text", "planet name"),
@@ -169,7 +170,7 @@ WINDOWS = Table("windows", (
     _col("sun_alt_mid_deg", "deg", "float", "altitude of the Sun's centre at mid-transit (geometric)"),
     _col("moon_sep_deg", "deg", "float", "Moon-target separation at mid-transit"),
     _col("moon_illumination", "", "float", "illuminated fraction of the Moon's disk at mid-transit (0 new, 1 full)"),
-), optional=(_col("shared_with", "", "text", "other planets of the same star whose windows overlap this one"),))
+), optional=(_SHARED_WITH,))
 
 _VISIT_COLUMNS = (
     _TARGET_NAME, _SITE_NAME, _EPOCH, _COVERAGE,
@@ -185,10 +186,13 @@ VISITS = Table("visits", (
     _col("night", "", "int", "local noon-to-noon day (JD number; UTC days in space)"),
     _col("month", "", "int", "calendar month of the mid-time, 1-12"),
     _col("half_year", "", "int", "2 x year + 1 for July-December: the allocation period"),
-), optional=(_col("gain", "", "float", "spectral gain per telescope hour (scheduled visits)"),))
+), optional=(_col("gain", "", "float", "spectral gain per telescope hour (scheduled visits)"),
+              _col("pointing", "", "int", "number of the pointing: visits of planets of one star observed together"),
+              _SHARED_WITH))
 
 LEDGER = Table("ledger", (
     *_VISIT_COLUMNS,
+    _SHARED_WITH,
     _col("weather", "", ("clear", "lost"), "outcome in trial 0"),
     _col("clear_share", "", "float", "share of trials in which the visit was clear"),
 ))

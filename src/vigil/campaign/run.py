@@ -18,6 +18,7 @@ from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.journal import open_journal
 from vigil.sweep import plan_windows_chunked
+from vigil.hosts import host_of
 from vigil.textfile import line_of
 
 TRIAL_CHUNK = 50
@@ -88,7 +89,7 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
     candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs, executor, chunk_dir)
     gain = {name: forecast.snr2_per_hour(body, spec) for name, body in found.items()}
     scheduled = schedule.schedule(candidates, gain, priority, spec.per_target_per_semester,
-                                  spec.per_site_per_semester)
+                                  spec.per_site_per_semester, host_of(targets))
     clear = _trials(scheduled, spec, on_progress)
     rows, yearly, years, found_notes = [], [], {}, [notes.of(candidates)]
     for name, body in found.items():

@@ -32,5 +32,5 @@ def write_campaign_csvs(result: CampaignResult, folder: Path) -> list[Path]:
     paths = [folder / "summary.csv", folder / "forecast.csv", folder / "ledger.csv"]
     write_csv(_summary(schema.SUMMARY.check(result.summary)), paths[0], text_columns=("target", "limited_by"))
     write_csv(schema.FORECAST.check(result.yearly).round(3), paths[1], text_columns=("target",))
-    write_csv(_ledger(schema.LEDGER.check(result.ledger)), paths[2], text_columns=("target", "site"))
+    write_csv(_ledger(schema.LEDGER.check(result.ledger)), paths[2], text_columns=("target", "site", "shared_with"))
     return paths
