@@ -56,7 +56,7 @@ def test_years_to_goal_matches_an_independent_count_over_the_ledger():
     spec = replace(spec, goal_resolution=_goal_resolution_for(15.0, spec))  # 7.5 visits' worth
     result = run(spec, targets_table({}))
     ledger = result.ledger.sort_values("end_jd_utc")
-    got = ledger[ledger["weather"] == "clear"]
+    got = ledger[ledger["sky"] == "clear"]
     cum_in, cum_out = got["in_transit_h"].cumsum().to_numpy(), got["baseline_h"].cumsum().to_numpy()
     planet, star = _giant_bodies()
     need = np.array([float(spectrum.hours_in_transit_needed(planet, star, spec.instrument, spec.goal_resolution,

@@ -64,7 +64,7 @@ def test_space_seasons_run_on_across_new_year(tmp_path):
 def _campaign_with_journal(tmp_path: Path) -> Path:
     journal = tmp_path / "j.db"
     added = _run("journal", "add", journal, "--target", "Brisa-4 b", "--site", "alto_verde", "--epoch", 3,
-                 "--start", "2026-12-29T02:00:00Z", "--end", "2026-12-29T06:00:00Z", "--outcome", "clear",
+                 "--start", "2025-12-19T09:00:00Z", "--end", "2025-12-19T13:00:00Z", "--outcome", "clear",
                  "--mid-bjd-tdb", "2461028.9518", "--mid-err-d", "0.0005", "--in-transit-h", "2.1",
                  "--baseline-h", "1.5")
     assert added.exit_code == 0, added.output
