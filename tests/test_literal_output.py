@@ -140,3 +140,14 @@ def test_names_are_one_form_whatever_the_unicode_spelling(tmp_path):
     assert _run("windows", targets, "--sites", GOOD / "sites.toml", *DATES, "--ics", ics).exit_code == 0
     summaries = [str(e["SUMMARY"]) for e in icalendar.Calendar.from_ical(ics.read_bytes()).walk("VEVENT")]
     assert summaries and all(s.startswith(composed + " ") for s in summaries)
+
+
+def test_an_apostrophe_typed_by_the_user_is_kept(tmp_path):
+    # Only the apostrophe vigil's export adds (before = + - @ tab CR or another apostrophe) is removed.
+    targets = _targets_named(tmp_path, ["'Oumuamua b", "'=odd"])
+    out = tmp_path / "refit_in.csv"
+    result = _run("windows", targets, "--sites", GOOD / "sites.toml", *DATES, "--csv", out, env={"COLUMNS": "200"})
+    assert result.exit_code == 0, result.output
+    assert "'Oumuamua b" in result.output and "\n=odd" not in result.output
+    names = {row[0] for row in csv.reader(io.StringIO(out.read_text()))}
+    assert "''Oumuamua b" in names and "'=odd" in names  # the exported forms, which read back as given

@@ -20,8 +20,8 @@ import, leaves the journal exactly as it was.
 
 CSV form: the columns above in that order, one visit per line. Text cells follow the
 spreadsheet-safety rule of vigil.export.table: export adds a leading apostrophe to text a
-spreadsheet would run as a formula or that starts with an apostrophe; import removes one
-leading apostrophe from text cells; so export followed by import gives the same entries.
+spreadsheet would run as a formula or that starts with an apostrophe; import removes exactly
+that apostrophe; so export followed by import gives the same entries.
 """
 
 from __future__ import annotations

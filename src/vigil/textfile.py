@@ -100,8 +100,8 @@ def _check_plain_lines(path: Path, text: str, rows_are: str) -> None:
 
 
 def _records(path: Path, text: str) -> list[tuple[int, list[str]]]:
-    """(first line, stripped fields) of every record that is not blank or a comment; one leading
-    apostrophe, the spreadsheet text mark vigil's CSV output adds (vigil.export.table), is removed."""
+    """(first line, stripped fields) of every record that is not blank or a comment; the
+    spreadsheet text mark vigil's CSV output adds (vigil.export.table) is removed."""
     # Comment lines become blank lines, so line numbers stay those of the file.
     text = _COMMENT_LINE.sub("", text)
     reader = csv.reader(io.StringIO(text, newline=""), strict=True)

@@ -4,8 +4,10 @@ Spreadsheet programs run a cell that starts with `=`, `+`, `-`, `@`, a tab or a 
 return as a formula. The rule, applied to every text cell of every CSV vigil writes:
 - on export, a leading apostrophe is added to a text cell that starts with one of those
   characters or that already starts with an apostrophe;
-- on import (every CSV vigil reads), one leading apostrophe is removed from a text cell.
-So import(export(text)) == text for every text, and text that needs neither is never altered.
+- on import (every CSV vigil reads), a leading apostrophe followed by one of those characters
+  or by another apostrophe (exactly what export adds) is removed.
+So import(export(text)) == text for every text, and text that needs neither is never altered
+(a name such as 'Oumuamua keeps its apostrophe).
 Spreadsheets themselves treat a leading apostrophe as a text marker and do not save it.
 Numeric columns are written as numbers and left alone.
 """
@@ -46,14 +48,14 @@ def neutralise_cell(text: str) -> str:
 
 
 def restore_cell(text: str) -> str:
-    """The text as imported: one leading apostrophe removed (undoes `neutralise_cell`).
+    """The text as imported: the apostrophe `neutralise_cell` adds removed, other text as it is.
 
     Examples
     --------
-    >>> restore_cell("''"), restore_cell("'=1+1"), restore_cell("plain")
-    ("'", '=1+1', 'plain')
+    >>> restore_cell("''"), restore_cell("'=1+1"), restore_cell("'Oumuamua"), restore_cell("plain")
+    ("'", '=1+1', "'Oumuamua", 'plain')
     """
-    return text[1:] if text.startswith(_TEXT_MARK) else text
+    return text[1:] if text.startswith(_TEXT_MARK) and text[1:].startswith((_TEXT_MARK, *_FORMULA_STARTS)) else text
 
 
 def write_csv(table: pd.DataFrame, path) -> None:
