@@ -15,9 +15,7 @@ from vigil.constraints import Constraints
 from vigil.ephemeris.staleness import stale_flags
 from vigil.errors import InputError
 from vigil.schema import COVERAGE_CLASSES
-
-HOURS_PER_DAY = 24.0
-
+from vigil.time_units import HOURS_PER_DAY
 
 def pad_windows(transits: pd.DataFrame, constraints: Constraints) -> pd.DataFrame:
     """Add ingress, egress and the padded window (JD UTC) around each site-time mid-transit."""

@@ -20,9 +20,7 @@ from astropy.time import Time
 
 from vigil import schema
 from vigil.hosts import overlap_groups
-
-
-HOURS_PER_DAY = 24.0
+from vigil.time_units import HOURS_PER_DAY
 
 
 def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str, ...], min_fraction: float,

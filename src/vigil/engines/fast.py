@@ -42,7 +42,8 @@ from vigil.sites import Site
 from vigil.sky import airmass_kasten_young
 from vigil.tabulated import BLOCKS_KEPT, Table, block_nodes
 from vigil.timescales import geocentre_mid_jd_utc, jd_tt_from_utc
-from vigil.vectors import unit_vectors
+from vigil.vectors import angle_deg, unit_vectors
+from vigil.time_units import MINUTES_PER_DAY
 
 SIDEREAL_DEG_PER_DAY = 360.98564736629  # Earth's rotation relative to the equinox, per UT day
 MOON_STEP_MIN = 20.0
@@ -189,7 +190,7 @@ def _moon_separation_deg(jd_utc, target: np.ndarray, site: Site, lst_deg=None) -
 
     The Moon seen from the site is the tabulated geocentric Moon minus the site's position
     (WGS84) turned by the local apparent sidereal time (computed unless given); the angle is
-    atan2(|a x b|, a . b), accurate at all angles.
+    `vectors.angle_deg`.
     """
     if lst_deg is None:
         lst_deg = _local_sidereal_deg(jd_utc, SKY_TABLE.nearest(jd_utc, SKY_EQUATION_OF_EQUINOXES)[:, 0], site)
@@ -199,9 +200,7 @@ def _moon_separation_deg(jd_utc, target: np.ndarray, site: Site, lst_deg=None) -
     mx = mx - rho_cos * np.cos(lst_rad)
     my = my - rho_cos * np.sin(lst_rad)
     mz = mz - rho_sin
-    x, y, z = target
-    cross_sq = (y * mz - z * my) ** 2 + (z * mx - x * mz) ** 2 + (x * my - y * mx) ** 2
-    return np.degrees(np.arctan2(np.sqrt(cross_sq), x * mx + y * my + z * mz))
+    return angle_deg(target, (mx, my, mz))
 
 
 def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing):
@@ -220,7 +219,7 @@ def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, poi
         reach_deg = np.full(mid.shape, np.inf)
     near = np.flatnonzero(np.abs(margin_mid) <= reach_deg)
     clear = np.flatnonzero(margin_mid > reach_deg)
-    sample_row, jd = intervals.sample_grid(lo[near], hi[near], MOON_STEP_MIN / 1440.0)
+    sample_row, jd = intervals.sample_grid(lo[near], hi[near], MOON_STEP_MIN / MINUTES_PER_DAY)
     separation = _moon_separation_deg(jd, pointing.target[:, near[sample_row]], site)
     limit = facility.moon_limit_deg(MOON_TABLE.at(jd, MOON_ILLUMINATION)[:, 0],
                                     constraints.moon_sep_deg)
@@ -263,7 +262,7 @@ def _facility_clear(windows: pd.DataFrame, site: Site, pointing: _Pointing):
     FACILITY_STEP_MIN minutes with edges interpolated: the target's place of date is held at its
     mid-transit value and the hour angle advances at the sidereal rate."""
     lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
-    row, jd = intervals.sample_grid(lo, hi, FACILITY_STEP_MIN / 1440.0)
+    row, jd = intervals.sample_grid(lo, hi, FACILITY_STEP_MIN / MINUTES_PER_DAY)
     x, y, z = pointing.target[:, row]
     mid = windows["mid_jd_utc"].to_numpy(dtype=float)[row]
     ha = (pointing.lst_deg[row] + SIDEREAL_DEG_PER_DAY * (jd - mid) - np.degrees(np.arctan2(y, x)) + 180.0) % 360.0 - 180.0

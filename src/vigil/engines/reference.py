@@ -22,6 +22,7 @@ from vigil.engines.darkness import ground_notes
 from vigil.engines.protocol import evaluate_in_two_steps
 from vigil.sites import Site
 from vigil.timescales import bjd_tdb_to_site_time, earth_location
+from vigil.time_units import MINUTES_PER_DAY
 
 STEP_MIN = 5.0
 
@@ -37,7 +38,7 @@ def site_mid_jd_utc(transits: pd.DataFrame, site: Site) -> np.ndarray:
 def sample_windows(windows: pd.DataFrame, step_min: float = STEP_MIN):
     """Flat sample grid (row, jd_utc) covering each row's padded window."""
     lo, hi = windows["window_start_jd_utc"].to_numpy(), windows["window_end_jd_utc"].to_numpy()
-    return intervals.sample_grid(lo, hi, step_min / 1440.0)
+    return intervals.sample_grid(lo, hi, step_min / MINUTES_PER_DAY)
 
 
 def constraint_margin_deg(windows: pd.DataFrame, row, jd_utc, site: Site, constraints: Constraints) -> np.ndarray:

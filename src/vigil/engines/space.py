@@ -33,7 +33,8 @@ from vigil.engines.protocol import evaluate_in_two_steps
 from vigil.errors import InputError
 from vigil.sites import Site, SpaceSettings
 from vigil.timescales import geocentre_mid_jd_utc, jd_tt_from_utc
-from vigil.visibility import HOURS_PER_DAY
+from vigil.time_units import HOURS_PER_DAY
+from vigil.vectors import separation_deg
 
 SUN_STEP_H = 1.0
 # The Moon's least distance from the Earth's centre (about 356,400 km at its closest perigees;
@@ -48,17 +49,6 @@ def site_mid_jd_utc(transits: pd.DataFrame, site: Site) -> np.ndarray:
     `timescales.geocentre_mid_jd_utc`). For an observatory d km from the Earth's centre the
     time seen there differs by up to d / c (module docstring)."""
     return geocentre_mid_jd_utc(*(transits[c].to_numpy(dtype=float) for c in ("mid_bjd_tdb", "ra_deg", "dec_deg")))
-
-
-def separation_deg(ra1_deg, dec1_deg, ra2_deg, dec2_deg) -> np.ndarray:
-    """Angle between two directions given as (ra, dec) in degrees, degrees (arctan2 form,
-    accurate at every angle; inputs broadcast)."""
-    ra1, dec1, ra2, dec2 = (np.radians(np.asarray(a, dtype=float)) for a in (ra1_deg, dec1_deg, ra2_deg, dec2_deg))
-    d_ra = ra2 - ra1
-    across = np.hypot(np.cos(dec2) * np.sin(d_ra),
-                      np.cos(dec1) * np.sin(dec2) - np.sin(dec1) * np.cos(dec2) * np.cos(d_ra))
-    along = np.sin(dec1) * np.sin(dec2) + np.cos(dec1) * np.cos(dec2) * np.cos(d_ra)
-    return np.degrees(np.arctan2(across, along))
 
 
 def sun_angle_deg(ra_deg, dec_deg, jd_utc) -> np.ndarray:

@@ -10,8 +10,8 @@ import pandas as pd
 from vigil import schema
 from vigil.export.files import atomic_stream
 from vigil.export.table import csv_bytes, iso_utc
+from vigil.time_units import MINUTES_PER_DAY
 
-MINUTES_PER_DAY = 1440.0
 TIME_COLUMNS = {
     "mid_utc": "mid_jd_utc",
     "ingress_utc": "ingress_jd_utc",
