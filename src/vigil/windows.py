@@ -26,7 +26,7 @@ _LIGHT_TIME_MARGIN_D = 0.01
 def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time, engine: Engine = reference) -> pd.DataFrame:
     """Add the site's name and the mid-time seen there (JD UTC); keep mids inside [start, end]."""
     out = transits.assign(site=site.name, mid_jd_utc=engine.site_mid_jd_utc(transits, site))
-    inside = (out["mid_jd_utc"] >= start.utc.jd) & (out["mid_jd_utc"] <= end.utc.jd)
+    inside = (out[schema.MID_JD_UTC] >= start.utc.jd) & (out[schema.MID_JD_UTC] <= end.utc.jd)
     return out[inside].reset_index(drop=True)
 
 
@@ -39,7 +39,7 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints,
     padded = visibility.pad_windows(at_site(transits, site, start, end, engine_module), constraints)
     # Once K sigma exceeds half a period the transit's phase is lost: it cannot be planned
     # (coverage none), and its days-wide window is not handed to the engine.
-    timed = (constraints.sigma_k * padded["mid_sigma_d"] < 0.5 * padded["period_d"]).to_numpy()
+    timed = (constraints.sigma_k * padded[schema.MID_SIGMA_D] < 0.5 * padded["period_d"]).to_numpy()
     observable, conditions, found = engine_module.evaluate(padded, site, constraints, timed)
     table = pd.concat([visibility.classify(padded, observable, constraints.sigma_k), conditions], axis=1)
     return notes.attach(table, found)
@@ -68,10 +68,10 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
 
 def in_time_order(table: pd.DataFrame) -> pd.DataFrame:
     """Rows sorted by mid-time, then target, then site (the three-key sort only if mid-times tie)."""
-    mid = table["mid_jd_utc"].to_numpy()
+    mid = table[schema.MID_JD_UTC].to_numpy()
     order = np.argsort(mid, kind="stable")
     if np.any(np.diff(mid[order]) == 0):
-        return table.sort_values(["mid_jd_utc", "target", "site"], kind="stable").reset_index(drop=True)
+        return table.sort_values([schema.MID_JD_UTC, "target", "site"], kind="stable").reset_index(drop=True)
     if np.all(order[1:] > order[:-1]):
         return table.reset_index(drop=True)
     return table.take(order).reset_index(drop=True)
