@@ -179,7 +179,8 @@ def _chunk_bounds(targets: pd.DataFrame, start: Time, end: Time, chunk_targets: 
 def _plan_chunk(task: _Task) -> pd.DataFrame | str:
     """One task through `windows.plan_windows`: its table, or the path of the Parquet file it
     was written to (module level, so that spawned and remote workers can run it)."""
-    table = windows.plan_windows(task.targets, task.sites, task.overrides, task.start, task.end, **task.settings)
+    table = windows.plan_windows(task.targets, task.sites, task.overrides, task.start, task.end, **task.settings,
+                                 ordered=False)
     if task.cut_jd_utc is not None:
         table = table[table["mid_jd_utc"].to_numpy(dtype=float) < task.cut_jd_utc].reset_index(drop=True)
     if task.chunk_path is None:

@@ -44,9 +44,11 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints,
 
 
 def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,
-                 engine: str = "fast", include_unobservable: bool = False, event: str = "transit") -> pd.DataFrame:
+                 engine: str = "fast", include_unobservable: bool = False, event: str = "transit",
+                 ordered: bool = True) -> pd.DataFrame:
     """All windows of one event type (transit or occultation) of all targets at all sites in
-    [start, end], sorted by time then target."""
+    [start, end], sorted by time then target then site (`in_time_order`); with ordered=False
+    by site, then target, then time (for callers that merge several tables and sort once)."""
     if not end > start:
         raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
     transits = project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
@@ -59,15 +61,27 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
     table = pd.concat(tables, ignore_index=True)
     if not include_unobservable:
         table = table[table["coverage"] != "none"]
-    return in_time_order(table)
+    return in_time_order(table) if ordered else table.reset_index(drop=True)
 
 
 def in_time_order(table: pd.DataFrame) -> pd.DataFrame:
-    """Rows sorted by mid-time, then target, then site (the three-key sort only if mid-times tie)."""
-    mid = table["mid_jd_utc"].to_numpy()
-    order = np.argsort(mid, kind="stable")
-    if np.any(np.diff(mid[order]) == 0):
-        return table.sort_values(["mid_jd_utc", "target", "site"], kind="stable").reset_index(drop=True)
+    """Rows sorted by mid-time, then target, then site (stable; names compared as strings).
+
+    Examples
+    --------
+    >>> rows = pd.DataFrame({"mid_jd_utc": [2.0, 1.0, 1.0], "target": ["a", "b", "a"], "site": ["x", "x", "y"]})
+    >>> in_time_order(rows)["target"].tolist()
+    ['a', 'b', 'a']
+    """
+    order = np.lexsort((_name_ranks(table["site"]), _name_ranks(table["target"]), table["mid_jd_utc"].to_numpy()))
     if np.all(order[1:] > order[:-1]):
         return table.reset_index(drop=True)
     return table.take(order).reset_index(drop=True)
+
+
+def _name_ranks(names: pd.Series) -> np.ndarray:
+    """Each name's rank among the distinct names (hashing, then sorting only the distinct ones)."""
+    codes, distinct = pd.factorize(names)
+    ranks = np.empty(len(distinct), dtype=np.intp)
+    ranks[np.argsort(np.asarray(distinct, dtype=object), kind="stable")] = np.arange(len(distinct))
+    return ranks[codes]
