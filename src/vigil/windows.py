@@ -30,17 +30,26 @@ def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time, engine: 
     return out[inside].reset_index(drop=True)
 
 
-def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints,
-                 start: Time, end: Time, engine: str = "fast") -> pd.DataFrame:
-    """Windows table for one site: padded windows, coverage, conditions at mid. A site of kind
-    space always goes to the space engine; `engine` chooses for ground sites."""
+def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints, start: Time, end: Time,
+                 engine: str = "fast", include_unobservable: bool = True) -> pd.DataFrame | None:
+    """Windows table for one site: padded windows, coverage, conditions at mid (only of the rows
+    kept: every row, or those with some coverage), or None if no transit falls at the site. A
+    site of kind space always goes to the space engine; `engine` chooses for ground sites."""
     engine_module = engine_for(site, engine)
     padded = visibility.pad_windows(at_site(transits, site, start, end, engine_module), constraints)
+    if padded.empty:
+        return None
     # Once K sigma exceeds half a period the transit's phase is lost: it cannot be planned
     # (coverage none), and its days-wide window is not handed to the engine.
     timed = (constraints.sigma_k * padded["mid_sigma_d"] < 0.5 * padded["period_d"]).to_numpy()
-    observable, conditions = engine_module.evaluate(padded, site, constraints, timed)
-    return pd.concat([visibility.classify(padded, observable, constraints.sigma_k), conditions], axis=1)
+    observable, conditions_of = engine_module.evaluate(padded, site, constraints, timed)
+    classified = visibility.classify(padded, observable, constraints.sigma_k)
+    if include_unobservable:
+        rows = np.arange(len(classified))
+    else:
+        rows = np.flatnonzero((classified["coverage"] != "none").to_numpy())
+        classified = classified.take(rows).reset_index(drop=True)
+    return pd.concat([classified, conditions_of(rows)], axis=1)
 
 
 def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,
@@ -53,14 +62,13 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
         raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
     transits = project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
                                           end.tdb.jd + _LIGHT_TIME_MARGIN_D, event)
-    tables = [site_windows(transits, site, resolve_constraints(site.defaults, overrides), start, end, engine)
-              for site in sites.values() if not transits.empty]
-    tables = [t for t in tables if not t.empty]
+    tables = [site_windows(transits, site, resolve_constraints(site.defaults, overrides), start, end, engine,
+                           include_unobservable) for site in sites.values() if not transits.empty]
+    tables = [t for t in tables if t is not None]
     if not tables:
         return pd.DataFrame(columns=[*schema.TRANSIT_COLUMNS, *schema.WINDOW_COLUMNS])
-    table = pd.concat(tables, ignore_index=True)
-    if not include_unobservable:
-        table = table[table["coverage"] != "none"]
+    filled = [t for t in tables if not t.empty] or tables[:1]
+    table = pd.concat(filled, ignore_index=True) if len(filled) > 1 else filled[0]
     return in_time_order(table) if ordered else table.reset_index(drop=True)
 
 

@@ -246,12 +246,17 @@ def _dark_intervals(lat_deg, lon_deg, elev_m, jd_utc_start, jd_utc_end, sun_alt_
 
 
 def evaluate(windows: pd.DataFrame, site: Site, constraints: Constraints, timed: np.ndarray):
-    """Observable intervals of the `timed` rows (row numbers of `windows`) and conditions at mid
-    of all rows, from one pointing computation."""
+    """Observable intervals of the `timed` rows (row numbers of `windows`) and the conditions at
+    mid of any rows asked for later, from one pointing computation."""
     pointing = _pointing(windows, site)
-    subset = _Pointing(*(a[..., timed] for a in pointing))
-    row, start, end = observable_intervals(windows[timed].reset_index(drop=True), site, constraints, subset)
-    return (np.flatnonzero(timed)[row], start, end), conditions_at_mid(windows, site, pointing)
+    row, start, end = observable_intervals(windows[timed].reset_index(drop=True), site, constraints,
+                                           _Pointing(*(a[..., timed] for a in pointing)))
+    mid = windows["mid_jd_utc"].to_numpy(dtype=float)
+
+    def conditions_of(rows: np.ndarray) -> pd.DataFrame:
+        return _conditions(mid[rows], site, _Pointing(*(a[..., rows] for a in pointing)))
+
+    return (np.flatnonzero(timed)[row], start, end), conditions_of
 
 
 def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing | None = None):
@@ -299,10 +304,15 @@ def _facility_clear(windows: pd.DataFrame, site: Site, pointing: _Pointing):
     return intervals.from_samples(row, jd, site.facility.margin_deg(apparent, azimuth, ha, dec))
 
 
-def conditions_at_mid(windows: pd.DataFrame, site: Site, pointing: _Pointing | None = None) -> pd.DataFrame:
-    """Target altitude (apparent) and airmass, Sun altitude and Moon separation at mid-transit."""
-    mid = windows["mid_jd_utc"].to_numpy(dtype=float)
-    pointing = _pointing(windows, site) if pointing is None else pointing
+def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
+    """Target altitude (apparent) and airmass, Sun altitude, Moon separation and illumination at
+    mid-transit, indexed like `windows`."""
+    conditions = _conditions(windows["mid_jd_utc"].to_numpy(dtype=float), site, _pointing(windows, site))
+    return conditions.set_axis(windows.index)
+
+
+def _conditions(mid: np.ndarray, site: Site, pointing: _Pointing) -> pd.DataFrame:
+    """conditions_at_mid at the JD UTC `mid` with the pointing there (index 0, 1, ...)."""
     geometric = np.degrees(np.arcsin(np.clip(_sin_altitude(*pointing.target, pointing, site), -1.0, 1.0)))
     sun = SKY_TABLE.at(mid, SKY_SUN).T
     sin_sun_alt = _sin_altitude(*sun, pointing, site) / np.sqrt(sun[0] ** 2 + sun[1] ** 2 + sun[2] ** 2)
@@ -312,4 +322,4 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site, pointing: _Pointing | N
         "sun_alt_mid_deg": np.degrees(np.arcsin(np.clip(sin_sun_alt, -1.0, 1.0))),
         "moon_sep_deg": _moon_separation_deg(mid, pointing.target, site, pointing.lst_deg),
         "moon_illumination": MOON_TABLE.at(mid, MOON_ILLUMINATION)[:, 0],
-    }, index=windows.index)
+    })
