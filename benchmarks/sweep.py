@@ -51,6 +51,7 @@ from vigil import cluster, sweep, timescales, windows
 from vigil.catalog import read_sites
 from vigil.engines import fast as fast_engine
 from vigil.ephemeris.projection import project_transits
+from vigil.schema import COVERAGE_CLASSES
 
 DEMO_SITES = os.path.join(os.path.dirname(vigil.__file__), "data", "demo", "sites.toml")
 START = "2027-01-01"
@@ -63,7 +64,7 @@ PHASES = (("project transits (ephemeris)", "project_transits", "projection.py"),
           ("pad windows", "pad_windows", "visibility.py"),
           ("target place of date", "_pointing", "fast.py"),
           ("observable intervals (night, altitude)", "observable_intervals", "fast.py"),
-          ("conditions at mid-transit", "conditions_at_mid", "fast.py"),
+          ("conditions at mid-transit (rows kept)", "conditions_of", "fast.py"),
           ("coverage classes", "classify", "visibility.py"),
           ("merge in time order", "in_time_order", "windows.py"))
 
@@ -128,6 +129,12 @@ def _span(years: float):
 
 # --- one configuration, in a process of its own -------------------------------------------
 
+def _row_bytes(piece: pd.DataFrame) -> bytes:
+    """Every number of every row, and the coverage class, as bytes (names are implied by them)."""
+    numbers = piece.select_dtypes(include=["number", "bool"]).to_numpy(dtype=float)
+    return numbers.tobytes() + pd.Categorical(piece["coverage"], categories=COVERAGE_CLASSES).codes.tobytes()
+
+
 def run_configuration(n_targets: int, years: float, scheduler: str | None, jobs: int, include_all: bool,
                       keep: list[str]) -> dict:
     """Plan the workload streaming; figures, a digest of the rows and the kept targets' rows."""
@@ -142,7 +149,7 @@ def run_configuration(n_targets: int, years: float, scheduler: str | None, jobs:
                                         executor=workers.executor, chunk_dir=workers.chunk_dir,
                                         include_unobservable=include_all):
             counts.update(piece["coverage"].astype(str).value_counts().to_dict())
-            digest.update(pd.util.hash_pandas_object(piece, index=False).to_numpy().tobytes())
+            digest.update(_row_bytes(piece))
             listed += len(piece)
             kept.append(piece.loc[piece["target"].isin(keep), ["target", "site", "epoch", "coverage"]])
     wall = time.perf_counter() - began
@@ -165,8 +172,8 @@ def _configuration_in_child(n_targets: int, years: float, scheduler: str | None,
 
 # --- phases ------------------------------------------------------------------------------
 
-def phase_breakdown(targets: pd.DataFrame, sites: dict, start, end) -> tuple[float, float, int, list]:
-    """Profile one process planning the targets over [start, end], every transit kept: seconds
+def phase_breakdown(targets: pd.DataFrame, sites: dict, start, end, include_all: bool) -> tuple[float, float, int, list]:
+    """Profile one process planning the targets over [start, end] as the run does: seconds
     to tabulate the Sun, Moon, sky and Earth over the span (once per process), seconds and
     rows of the planning, and seconds per phase (PHASES)."""
     import astropy.units as u
@@ -180,7 +187,7 @@ def phase_breakdown(targets: pd.DataFrame, sites: dict, start, end) -> tuple[flo
     profile = cProfile.Profile()
     began = time.perf_counter()
     profile.enable()
-    table = sweep.plan_windows_chunked(targets, sites, {}, start, end, include_unobservable=True)
+    table = sweep.plan_windows_chunked(targets, sites, {}, start, end, include_unobservable=include_all)
     profile.disable()
     total = time.perf_counter() - began
     stats = pstats.Stats(profile).stats
@@ -254,9 +261,10 @@ def main_run(args) -> None:
 
     slice_targets = targets.iloc[: max(1, n_targets // 5)]
     slice_years = min(years, 2.0)
-    tabulate, seconds, rows, phases = phase_breakdown(slice_targets, sites, start, start + slice_years * 365.25 * u.day)
+    tabulate, seconds, rows, phases = phase_breakdown(slice_targets, sites, start, start + slice_years * 365.25 * u.day,
+                                                      args.all)
     print(f"phases (one process, profiled: {len(slice_targets)} targets x {slice_years:g} years x {len(sites)} sites, "
-          f"{rows:,} rows in {seconds:.2f} s, {rows / seconds:,.0f} rows/s; tabulating the Sun, Moon, sky and Earth "
+          f"{rows:,} rows listed in {seconds:.2f} s; tabulating the Sun, Moon, sky and Earth "
           f"over those years beforehand: {tabulate:.2f} s):")
     for label, spent in phases:
         print(f"  {label:<42}{spent:>7.2f} s {100 * spent / seconds:>5.1f} %")

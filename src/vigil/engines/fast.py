@@ -130,18 +130,18 @@ class _Pointing(NamedTuple):
 def _pointing(windows: pd.DataFrame, site: Site) -> _Pointing:
     """Each window's pointing at mid-transit; read-only arrays."""
     mid, ra, dec = (windows[c].to_numpy(dtype=float) for c in ("mid_jd_utc", "ra_deg", "dec_deg"))
-    terms = np.ascontiguousarray(SKY_TABLE.nearest(mid, _POINTING).T)
+    terms = SKY_TABLE.nearest(mid, _POINTING)  # (n, 13): its columns are read strided, not copied
     x0, y0, z0 = unit_vectors(ra, dec).T
     v = np.empty((3, mid.size))
     for r in range(3):
-        np.multiply(terms[3 * r], x0, out=v[r])
-        v[r] += terms[3 * r + 1] * y0
-        v[r] += terms[3 * r + 2] * z0
-    beta = terms[9:12]
+        np.multiply(terms[:, 3 * r], x0, out=v[r])
+        v[r] += terms[:, 3 * r + 1] * y0
+        v[r] += terms[:, 3 * r + 2] * z0
+    beta = terms[:, 9:12].T
     v_dot_beta = v[0] * beta[0] + v[1] * beta[1] + v[2] * beta[2]
     v += beta
     v -= v_dot_beta * v
-    lst = _local_sidereal_deg(mid, terms[12], site)
+    lst = _local_sidereal_deg(mid, terms[:, 12], site)
     lst_rad = np.radians(lst)
     pointing = _Pointing(v, lst, np.cos(lst_rad), np.sin(lst_rad))
     return pointing
