@@ -10,7 +10,7 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil import schema, visibility
+from vigil import notes, schema, visibility
 from vigil.constraints import Constraints, resolve_constraints
 from vigil.engines import engine_for, reference
 from vigil.engines.protocol import Engine
@@ -33,8 +33,9 @@ def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time, engine: 
 def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints, start: Time, end: Time,
                  engine: str = "fast", include_unobservable: bool = True) -> pd.DataFrame | None:
     """Windows table for one site: padded windows, coverage, conditions at mid (only of the rows
-    kept: every row, or those with some coverage), or None if no transit falls at the site. A
-    site of kind space always goes to the space engine; `engine` chooses for ground sites."""
+    kept: every row, or those with some coverage), carrying the engine's notes
+    (`vigil.notes.of`); None if no transit falls at the site (no window, no note). A site of
+    kind space always goes to the space engine; `engine` chooses for ground sites."""
     engine_module = engine_for(site, engine)
     padded = visibility.pad_windows(at_site(transits, site, start, end, engine_module), constraints)
     if padded.empty:
@@ -42,14 +43,14 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints, s
     # Once K sigma exceeds half a period the transit's phase is lost: it cannot be planned
     # (coverage none), and its days-wide window is not handed to the engine.
     timed = (constraints.sigma_k * padded["mid_sigma_d"] < 0.5 * padded["period_d"]).to_numpy()
-    observable, conditions_of = engine_module.evaluate(padded, site, constraints, timed)
+    observable, conditions_of, found = engine_module.evaluate(padded, site, constraints, timed)
     classified = visibility.classify(padded, observable, constraints.sigma_k)
     if include_unobservable:
         rows = np.arange(len(classified))
     else:
         rows = np.flatnonzero((classified["coverage"] != "none").to_numpy())
         classified = classified.take(rows).reset_index(drop=True)
-    return pd.concat([classified, conditions_of(rows)], axis=1)
+    return notes.attach(pd.concat([classified, conditions_of(rows)], axis=1), found)
 
 
 def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,
@@ -57,7 +58,8 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
                  ordered: bool = True) -> pd.DataFrame:
     """All windows of one event type (transit or occultation) of all targets at all sites in
     [start, end], sorted by time then target then site (`in_time_order`); with ordered=False
-    by site, then target, then time (for callers that merge several tables and sort once)."""
+    by site, then target, then time (for callers that merge several tables and sort once). The
+    table carries the engines' notes (`vigil.notes.of`), for the caller to report."""
     if not end > start:
         raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
     transits = project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
@@ -65,11 +67,12 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
     tables = [site_windows(transits, site, resolve_constraints(site.defaults, overrides), start, end, engine,
                            include_unobservable) for site in sites.values() if not transits.empty]
     tables = [t for t in tables if t is not None]
+    found = notes.merged(*(notes.of(t) for t in tables))
     if not tables:
-        return pd.DataFrame(columns=[*schema.TRANSIT_COLUMNS, *schema.WINDOW_COLUMNS])
+        return notes.attach(pd.DataFrame(columns=[*schema.TRANSIT_COLUMNS, *schema.WINDOW_COLUMNS]), found)
     filled = [t for t in tables if not t.empty] or tables[:1]
     table = pd.concat(filled, ignore_index=True) if len(filled) > 1 else filled[0]
-    return in_time_order(table) if ordered else table.reset_index(drop=True)
+    return notes.attach(in_time_order(table) if ordered else table.reset_index(drop=True), found)
 
 
 def in_time_order(table: pd.DataFrame) -> pd.DataFrame:
