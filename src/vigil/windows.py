@@ -62,17 +62,17 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
     table carries the engines' notes (`vigil.notes.of`), for the caller to report."""
     if not end > start:
         raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
-    transits = project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
-                                          end.tdb.jd + _LIGHT_TIME_MARGIN_D, event)
+    transits = schema.TRANSITS.check(project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
+                                                      end.tdb.jd + _LIGHT_TIME_MARGIN_D, event))
     tables = [site_windows(transits, site, resolve_constraints(site.defaults, overrides), start, end, engine,
                            include_unobservable) for site in sites.values() if not transits.empty]
     tables = [t for t in tables if t is not None]
     found = notes.merged(*(notes.of(t) for t in tables))
     if not tables:
-        return notes.attach(pd.DataFrame(columns=[*schema.TRANSIT_COLUMNS, *schema.WINDOW_COLUMNS]), found)
+        return notes.attach(schema.WINDOWS.empty(), found)
     filled = [t for t in tables if not t.empty] or tables[:1]
     table = pd.concat(filled, ignore_index=True) if len(filled) > 1 else filled[0]
-    return notes.attach(in_time_order(table) if ordered else table.reset_index(drop=True), found)
+    return notes.attach(schema.WINDOWS.check(in_time_order(table) if ordered else table.reset_index(drop=True)), found)
 
 
 def in_time_order(table: pd.DataFrame) -> pd.DataFrame:
