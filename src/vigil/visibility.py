@@ -27,7 +27,7 @@ def pad_windows(transits: pd.DataFrame, constraints: Constraints) -> pd.DataFram
     """Add ingress, egress and the padded window (JD UTC) around each site-time mid-transit."""
     half = transits["duration_h"] / (2 * HOURS_PER_DAY)
     pad = constraints.baseline_h / HOURS_PER_DAY + constraints.sigma_k * transits[schema.MID_SIGMA_D]
-    out = transits.copy()
+    out = transits.copy(deep=False)  # copy-on-write: the new columns leave the input alone
     out[schema.INGRESS_JD_UTC] = out[schema.MID_JD_UTC] - half
     out[schema.EGRESS_JD_UTC] = out[schema.MID_JD_UTC] + half
     out[schema.WINDOW_START_JD_UTC] = out[schema.INGRESS_JD_UTC] - pad
@@ -57,7 +57,7 @@ def classify(windows: pd.DataFrame, observable, sigma_k: float) -> pd.DataFrame:
     post = intervals.any_covers(row, start, end, mid - ksig, hi, n)
     codes = np.select([full, pre, post, fraction > 0], [0, 1, 2, 3], 4)  # positions in COVERAGE_CLASSES
     coverage = pd.Categorical.from_codes(codes, categories=COVERAGE_CLASSES)
-    out = windows.copy()
+    out = windows.copy(deep=False)  # copy-on-write: the new columns leave the input alone
     out["coverage"] = coverage
     out[schema.OBSERVABLE_FRACTION] = np.where(full, 1.0, fraction)
     stretch = _main_stretch(observable, ingress, egress, n)
