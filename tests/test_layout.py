@@ -8,7 +8,8 @@ import pytest
 
 ROOT = Path(__file__).resolve().parents[1]
 PACKAGE = ROOT / "src" / "vigil"
-FILE_READERS = {"vigil.catalog", "vigil.textfile", "vigil.campaign.spec", "vigil.journal"}
+FILE_READERS = {"vigil.catalog", "vigil.textfile", "vigil.campaign.spec", "vigil.journal", "vigil.target_source",
+                "vigil.table_formats", "vigil.column_map"}
 
 
 def _imports(path: Path) -> set[str]:
@@ -35,6 +36,11 @@ def test_engines_import_no_file_reader(path):
 @pytest.mark.parametrize("path", _modules("export"), ids=lambda p: p.name)
 def test_exporters_do_not_import_the_campaign_runner(path):
     assert "vigil.campaign.run" not in _imports(path)
+
+
+@pytest.mark.parametrize("path", _modules("ephemeris"), ids=lambda p: p.name)
+def test_the_ephemeris_imports_nothing_downstream(path):
+    assert not {m for m in _imports(path) if m.startswith(("vigil.visibility", "vigil.windows", "vigil.engines"))}
 
 
 @pytest.mark.parametrize("name", ["sites.py", "constraints.py", "journal.py", "visibility.py", "timescales.py"])
