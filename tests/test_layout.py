@@ -49,7 +49,8 @@ def test_types_and_stages_below_the_readers_import_no_reader(name):
 
 
 def test_tests_cite_no_file_outside_the_repository():
-    outside = ("../shared", "/work/shared", "REFERENCES.md")
-    for path in sorted(set((ROOT / "tests").rglob("*.py")) - {Path(__file__).resolve()}):
+    # Spelled in pieces so that this file does not mention them either.
+    outside = (".." + "/shared", "/work" + "/shared", "REFERENCES" + ".md")
+    for path in sorted((ROOT / "tests").rglob("*.py")):
         text = path.read_text(encoding="utf-8")
         assert not any(mark in text for mark in outside), path.name
