@@ -121,8 +121,15 @@ class Site:
         return 1013.25 * (1.0 - 2.25577e-5 * self.elevation_m) ** 5.25588
 
 
-def _where(path: Path, line: int) -> str:
+def _where(path, line) -> str:
+    """'FILE: line N', or for a table built in Python (a MemorySource) 'LABEL row N'."""
+    if hasattr(path, "at"):
+        return path.at(line)
     return f"{path}: line {line}"
+
+
+def _row_word(path) -> str:
+    return "row" if hasattr(path, "at") else "line"
 
 
 def _spelling_hint(wanted, found) -> str:
@@ -239,12 +246,12 @@ def _require_columns(path: Path, line: int, columns, required, time_column: str)
         return
     other = _other_time_column(columns, time_column) if time_column in missing else None
     if other is not None:
-        raise InputError(f"{path}: line {line}: column {other!r} found, but vigil needs {time_column}: times as "
+        raise InputError(f"{_where(path, line)}: column {other!r} found, but vigil needs {time_column}: times as "
                          "Barycentric Julian Dates in TDB (BJD_TDB); rename the column if it holds BJD_TDB, else "
                          "convert the times first (HJD, JD or UTC-based times differ from BJD_TDB by up to about "
                          "10 minutes)")
     hint = _spelling_hint(missing, [c for c in columns if c not in required])
-    raise InputError(f"{path}: line {line}: missing column(s) {', '.join(missing)}{hint}; found {', '.join(columns)}")
+    raise InputError(f"{_where(path, line)}: missing column(s) {', '.join(missing)}{hint}; found {', '.join(columns)}")
 
 
 # --- values --------------------------------------------------------------------------------
@@ -284,7 +291,7 @@ def _coordinate_columns(path: Path, line: int, columns) -> tuple[str, str]:
     for pair in (("ra_deg", "dec_deg"), ("ra", "dec")):
         if all(c in columns for c in pair):
             return pair
-    raise InputError(f"{path}: line {line}: missing coordinates; expected columns ra_deg and dec_deg (or ra and dec)"
+    raise InputError(f"{_where(path, line)}: missing coordinates; expected columns ra_deg and dec_deg (or ra and dec)"
                      f"{_spelling_hint(('ra_deg', 'dec_deg'), columns)}; found {', '.join(columns)}")
 
 
@@ -388,23 +395,29 @@ def read_targets(path: str | Path) -> pd.DataFrame:
     """
     path = Path(path)
     header_line, table = _read_csv(path, "target")
-    _require_columns(path, header_line, table.columns, REQUIRED_TARGET_FIELDS, "t0_bjd_tdb")
-    coordinates = _coordinate_columns(path, header_line, table.columns)
-    rows = [_target_row(path, line, row, coordinates) for line, row in table.iterrows()]
+    return targets_from_cells(path, header_line, table)
+
+
+def targets_from_cells(source, header_line, table: pd.DataFrame) -> pd.DataFrame:
+    """The targets table from text cells indexed by row (line number in a file, or row name),
+    checked like a targets CSV; `source` is the file's path or a MemorySource."""
+    _require_columns(source, header_line, table.columns, REQUIRED_TARGET_FIELDS, "t0_bjd_tdb")
+    coordinates = _coordinate_columns(source, header_line, table.columns)
+    rows = [_target_row(source, line, row, coordinates) for line, row in table.iterrows()]
     parsed = pd.DataFrame(rows)
     duplicated = parsed["name"].duplicated().to_numpy()
     if duplicated.any():
         first = int(np.flatnonzero(duplicated)[0])
         name = parsed["name"][first]
-        earlier = int(table.index[int(np.flatnonzero(parsed["name"] == name)[0])])
-        raise InputError(f"{_where(path, int(table.index[first]))}, field name: target {name!r} appears twice "
-                         f"(also on line {earlier}); expected unique names")
+        earlier = table.index[int(np.flatnonzero(parsed["name"] == name)[0])]
+        raise InputError(f"{_where(source, table.index[first])}, field name: target {name!r} appears twice "
+                         f"(also on {_row_word(source)} {earlier}); expected unique names")
     for line, values in zip(table.index, rows):  # warnings only once the whole file is valid
-        for note in _odd_target_notes(path, int(line), values):
+        for note in _odd_target_notes(source, line, values):
             log.warning("%s", note)
     extra = [c for c in table.columns if c not in parsed.columns and c not in ("ra", "dec")]
     result = pd.concat([parsed, table[extra].reset_index(drop=True)], axis=1)
-    result.attrs["source_lines"] = dict(zip(parsed["name"], (int(line) for line in table.index)))
+    result.attrs["source_rows"] = dict(zip(parsed["name"], (_where(source, line) for line in table.index)))
     return result
 
 
@@ -424,8 +437,13 @@ def read_timings(path: str | Path) -> pd.DataFrame:
     """Read measured mid-transit times: target, mid_bjd_tdb, mid_err_d (days), optional note."""
     path = Path(path)
     header_line, table = _read_csv(path, "timing")
-    _require_columns(path, header_line, table.columns, TIMING_FIELDS, "mid_bjd_tdb")
-    return pd.DataFrame([_timing_row(path, line, row) for line, row in table.iterrows()])
+    return timings_from_cells(path, header_line, table)
+
+
+def timings_from_cells(source, header_line, table: pd.DataFrame) -> pd.DataFrame:
+    """The timings table from text cells indexed by row, checked like a timings CSV."""
+    _require_columns(source, header_line, table.columns, TIMING_FIELDS, "mid_bjd_tdb")
+    return pd.DataFrame([_timing_row(source, line, row) for line, row in table.iterrows()])
 
 
 # --- sites (TOML) --------------------------------------------------------------------------
@@ -463,7 +481,9 @@ def _site_number(path: Path, key: str, entry: dict, field_name: str, low: float,
     return float(value)
 
 
-def _site(path: Path, name: str, entry) -> Site:
+def site_from_entry(path, name: str, entry) -> Site:
+    """One site from its `[sites.NAME]` table (a dict), checked; `path` names the file (or a
+    MemorySource) in messages."""
     key = f"sites.{name}"
     if not isinstance(entry, dict):
         raise InputError(f"{path}: [{key}]: expected a table of site fields, got {entry!r}")
@@ -633,4 +653,4 @@ def read_sites(path: str | Path) -> dict[str, Site]:
     if not isinstance(sites, dict) or not sites:
         found = f" (found: {', '.join(document)})" if document else ""
         raise InputError(f"{path}: [sites]: expected one or more [sites.NAME] tables{found}")
-    return {name: _site(path, name, entry) for name, entry in sites.items()}
+    return {name: site_from_entry(path, name, entry) for name, entry in sites.items()}

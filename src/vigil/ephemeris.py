@@ -10,7 +10,7 @@ import numpy as np
 import pandas as pd
 
 from vigil import occultation
-from vigil.errors import InputError
+from vigil.errors import ArgumentError, InputError
 
 
 def mid_sigma_d(epoch, t0_err_d, period_err_d, cov_d2=0.0):
@@ -70,7 +70,7 @@ def event_offsets(targets: pd.DataFrame, event: str) -> tuple[np.ndarray, np.nda
     exact in e at the conjunctions plus the inclination term of Winn (2010) eq. 33.
     """
     if event not in EVENTS:
-        raise InputError(f"event: expected transit or occultation, got {event!r}")
+        raise ArgumentError("event", f"expected transit or occultation, got {event!r}")
     duration_h = targets["duration_h"].to_numpy(dtype=float)
     if event == "transit":
         return np.zeros(len(targets)), duration_h

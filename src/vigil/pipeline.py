@@ -30,10 +30,9 @@ class CampaignResult:
 
 def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
     found, priority = {}, {}
-    lines = targets.attrs.get("source_lines", {})  # file line of each target, kept by read_targets
+    places = targets.attrs.get("source_rows", {})  # "FILE: line N" of each target, kept by read_targets
     for row in targets.to_dict("records"):
-        line = lines.get(row["name"])
-        where = f"{spec.targets_file}: line {line}" if line else str(spec.targets_file)
+        where = places.get(row["name"], str(spec.targets_file or "targets"))
         planet, star = bodies.target_bodies(pd.Series(row), where)
         found[row["name"]] = forecast.Body(planet, star)
         priority[row["name"]] = bodies.priority_of(pd.Series(row), where)

@@ -21,7 +21,7 @@ from astropy.time import Time
 
 from vigil import windows
 from vigil.catalog import Site
-from vigil.errors import InputError
+from vigil.errors import ArgumentError, InputError
 
 # With chunk_targets=None, consecutive targets are grouped until their expected transits
 # (horizon / period, each) reach this many; each transit then makes one row per site.
@@ -43,7 +43,7 @@ def plan_windows_chunked(targets: pd.DataFrame, sites: dict[str, Site], override
     the result, sorted like it. Target names must be unique (the merge orders rows by name).
     """
     if isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1:
-        raise InputError(f"jobs: expected a whole number of processes >= 1, got {jobs!r}")
+        raise ArgumentError("jobs", f"expected a whole number of processes >= 1, got {jobs!r}")
     if chunk_targets is not None and (isinstance(chunk_targets, bool) or not isinstance(chunk_targets, int)
                                       or chunk_targets < 1):
         raise InputError(f"chunk_targets: expected a whole number of targets >= 1 or None, got {chunk_targets!r}")

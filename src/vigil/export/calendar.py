@@ -14,10 +14,9 @@ from datetime import datetime, timezone
 
 import icalendar
 import pandas as pd
-from astropy.time import Time
 
 from vigil.export.files import write_atomic
-from vigil.export.table import iso_utc
+from vigil.export.windows_csv import windows_table
 
 _UID_NAMESPACE = uuid.UUID("5f1c2b9e-3d4a-4e8f-9b6c-7a1d2e3f4b5c")
 SAFETY_NOTE = ("Plan only within the observatory's own rules for night work and Sun avoidance; "
@@ -38,9 +37,8 @@ def run_stamp() -> datetime:
     return datetime.now(timezone.utc).replace(microsecond=0)
 
 
-def _utc(jd_utc: float) -> datetime:
-    # Rounded to the second exactly as in the CSV, so both files show the same times.
-    return datetime.fromisoformat(iso_utc([jd_utc])[0])
+def _iso(when) -> str:
+    return when.strftime("%Y-%m-%dT%H:%M:%SZ")
 
 
 def _conditions(w) -> str:
@@ -52,10 +50,9 @@ def _conditions(w) -> str:
 
 
 def _describe(w, timezone_name: str | None = None) -> str:
-    mid = Time(w.mid_jd_utc, format="jd", scale="utc", precision=0).isot
     lines = [
-        f"Mid-transit {mid}Z ± {w.mid_sigma_d * 1440:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
-        f"Ingress {Time(w.ingress_jd_utc, format='jd', precision=0).isot}Z, egress {Time(w.egress_jd_utc, format='jd', precision=0).isot}Z",
+        f"Mid-transit {_iso(w.mid_utc)} ± {w.mid_sigma_min:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
+        f"Ingress {_iso(w.ingress_utc)}, egress {_iso(w.egress_utc)}",
         f"Coverage {w.coverage}, {100 * w.observable_fraction:.0f}% of the transit observable",
         _conditions(w),
         *([f"Times are UTC; the site's time zone is {timezone_name}"] if timezone_name else []),
@@ -65,19 +62,23 @@ def _describe(w, timezone_name: str | None = None) -> str:
 
 
 def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None) -> icalendar.Calendar:
-    """One VEVENT per window row; `timezones` (site -> IANA zone) are named in the descriptions."""
+    """One VEVENT per window row; `timezones` (site -> IANA zone) are named in the descriptions.
+
+    `windows` is the table `vigil.plan_windows` returns (times as UTC datetimes, already
+    rounded to the second like the CSV, so both files show the same times).
+    """
     calendar = icalendar.Calendar()
     calendar.add("prodid", "-//vigil//transit windows//EN")
     calendar.add("version", "2.0")
     calendar.add("calscale", "GREGORIAN")
     stamp = run_stamp()
-    for w in windows.itertuples(index=False):
+    for w in windows_table(windows).itertuples(index=False):
         event = icalendar.Event()
         kind = getattr(w, "event", "transit")
         event.add("uid", event_uid(w.target, w.site, w.epoch, kind))
         event.add("dtstamp", stamp)
-        event.add("dtstart", _utc(w.window_start_jd_utc))
-        event.add("dtend", _utc(w.window_end_jd_utc))
+        event.add("dtstart", w.window_start_utc.to_pydatetime())
+        event.add("dtend", w.window_end_utc.to_pydatetime())
         event.add("summary", f"{w.target} {kind}, {w.coverage} ({w.site})")
         event.add("location", str(w.site))
         event.add("description", _describe(w, (timezones or {}).get(w.site)))

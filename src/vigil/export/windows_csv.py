@@ -25,29 +25,57 @@ DECIMALS = {"mid_bjd_tdb": 6, "mid_sigma_min": 2, "observable_fraction": 4, "alt
             "airmass_mid": 3, "sun_alt_mid_deg": 2, "moon_sep_deg": 2, "moon_illumination": 3}
 
 
-def windows_for_export(windows: pd.DataFrame) -> pd.DataFrame:
-    """The export columns: ISO UTC times, sigma in minutes, rounded numbers."""
+def utc_datetimes(jd_utc) -> pd.Series:
+    """JD UTC as timezone-aware UTC datetimes (datetime64[ns, UTC]) rounded to the second as in
+    the CSV; NaT where the JD is NaN."""
+    return pd.Series(pd.to_datetime(iso_utc(jd_utc), utc=True, format="ISO8601", errors="coerce")
+                     ).astype("datetime64[ns, UTC]")
+
+
+def windows_table(windows: pd.DataFrame) -> pd.DataFrame:
+    """The windows table as vigil hands it out: the CSV's columns, times as UTC datetimes,
+    BJD_TDB as float days, numbers unrounded. A table already in this form is returned as is.
+
+    Examples
+    --------
+    >>> windows_table(internal)["mid_utc"].dtype  # doctest: +SKIP
+    datetime64[ns, UTC]
+    """
+    if "mid_jd_utc" not in windows.columns:
+        return windows
     out = pd.DataFrame({c: windows[c] for c in ("target", "site", "event", "epoch", "mid_bjd_tdb", "coverage",
                                                  "observable_fraction", "alt_mid_deg", "airmass_mid",
                                                  "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale")})
     out["mid_sigma_min"] = windows["mid_sigma_d"] * MINUTES_PER_DAY
     for name, source in TIME_COLUMNS.items():
-        out[name] = iso_utc(windows[source].to_numpy())
-    return out[COLUMNS].round(DECIMALS)
+        out[name] = utc_datetimes(windows[source].to_numpy()).set_axis(out.index)
+    return out[COLUMNS].reset_index(drop=True)
 
 
-LOCAL_COLUMNS = {"mid_local": "mid_jd_utc", "window_start_local": "window_start_jd_utc",
-                 "window_end_local": "window_end_jd_utc"}
+def iso_text(times: pd.Series) -> pd.Series:
+    """UTC datetimes as ISO 8601 text with a `Z`, to the second; empty where NaT."""
+    return times.dt.strftime("%Y-%m-%dT%H:%M:%SZ").fillna("").astype(object)
+
+
+def windows_for_export(windows: pd.DataFrame) -> pd.DataFrame:
+    """The CSV's cells: ISO UTC times, rounded numbers."""
+    out = windows_table(windows)[COLUMNS].copy()
+    for name in TIME_COLUMNS:
+        out[name] = iso_text(out[name])
+    return out.round(DECIMALS)
+
+
+LOCAL_COLUMNS = {"mid_local": "mid_utc", "window_start_local": "window_start_utc", "window_end_local": "window_end_utc"}
 
 
 def local_times(windows: pd.DataFrame, timezones: dict) -> pd.DataFrame:
     """Local civil times (ISO 8601 with UTC offset) in each site's IANA zone; empty without a zone."""
+    table = windows_table(windows)
     out = {}
     for name, source in LOCAL_COLUMNS.items():
-        utc = pd.to_datetime(iso_utc(windows[source].to_numpy()), utc=True, errors="coerce")
         out[name] = [t.tz_convert(ZoneInfo(timezones[s])).isoformat() if timezones.get(s) and not pd.isna(t) else ""
-                     for t, s in zip(utc, windows["site"])]
-    return pd.DataFrame(out, index=windows.index)
+                     for t, s in zip(table[source], table["site"])]
+    return pd.DataFrame(out, index=table.index)
 
 
 def write_windows_csv(windows: pd.DataFrame, path, timezones: dict | None = None) -> None:

@@ -1,0 +1,225 @@
+"""vigil's Python interface: the functions the command line itself calls.
+
+Inputs are taken in astropy's and pandas' terms (see `vigil.inputs`, `vigil.table_inputs`,
+`vigil.site_inputs`) and checked exactly as the files are, raising `vigil.InputError` with the
+files' messages. Tables come back as pandas DataFrames with UTC times as timezone-aware
+datetimes and BJD_TDB as float days; `vigil.to_qtable` turns any of them into an astropy QTable.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Callable
+
+import astropy.units as u
+import pandas as pd
+
+from vigil import catalog, ephemeris
+from vigil.catalog import Site
+from vigil.errors import ArgumentError, InputError
+from vigil.export.windows_csv import MINUTES_PER_DAY, windows_table
+from vigil.inputs import as_number, as_time, unknown_name_error
+from vigil.site_inputs import as_sites
+from vigil.sweep import plan_windows_chunked
+from vigil.table_inputs import MemorySource, text_cells
+from vigil.visibility import Constraints
+
+# Constraint keyword (the command-line option's name) -> (constraint field, unit of a plain number).
+CONSTRAINTS = {"min_altitude": ("min_altitude_deg", u.deg), "twilight": ("twilight", None),
+               "baseline": ("baseline_h", u.hour), "sigma": ("sigma_k", None), "moon_sep": ("moon_sep_deg", u.deg)}
+_CHECKED = "vigil_checked"  # attrs key: content hash of a table that passed the checks
+
+
+def read_targets(source) -> pd.DataFrame:
+    """The targets, checked like a targets CSV, from a file or a table built in Python.
+
+    Parameters
+    ----------
+    source : str, Path, pandas.DataFrame, astropy Table or QTable, or list of dicts
+        A targets CSV, or a table with its columns: name, ra_deg and dec_deg (or ra, dec as
+        sexagesimal text, or one SkyCoord column), t0_bjd_tdb (full Julian date; a `Time`
+        column in scale tdb is accepted), t0_err_d, period_d, period_err_d, duration_h, and
+        optionally t0_period_cov_d2 (0 when absent) and the physical columns. Quantity columns
+        are converted to the unit in the name (e.g. period_d in hours becomes days).
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per target. Raises `InputError` naming the row and field of the first problem.
+
+    Examples
+    --------
+    >>> targets = read_targets([{"name": "Lumen-1 b", "ra_deg": 120.0, "dec_deg": -20.0,
+    ...     "t0_bjd_tdb": 2461000.25, "t0_err_d": 4e-4, "period_d": 2.5 * u.day, "period_err_d": 2e-6,
+    ...     "duration_h": 150 * u.min}])
+    >>> float(targets["duration_h"][0])
+    2.5
+    """
+    if isinstance(source, (str, Path)):
+        return _mark_checked(catalog.read_targets(source))
+    if _is_checked(source):
+        return source
+    return _mark_checked(catalog.targets_from_cells(MemorySource("targets"), None, text_cells(source, "targets")))
+
+
+def read_timings(source) -> pd.DataFrame:
+    """Measured mid-times (target, mid_bjd_tdb, mid_err_d in days, optional note), checked like a
+    timings CSV, from a file or a table built in Python (as `read_targets` takes).
+
+    Examples
+    --------
+    >>> read_timings([{"target": "Lumen-1 b", "mid_bjd_tdb": 2461000.25, "mid_err_d": 5e-4}])["mid_err_d"].iloc[0]
+    0.0005
+    """
+    if isinstance(source, (str, Path)):
+        return catalog.read_timings(source)
+    return catalog.timings_from_cells(MemorySource("timings"), None, text_cells(source, "timings"))
+
+
+def read_sites(source, site=None) -> dict[str, Site]:
+    """Sites by name, in order, from a sites TOML file or Python objects.
+
+    Parameters
+    ----------
+    source : str, Path, Site, EarthLocation, astroplan Observer, dict or list of these
+        A dict maps names to sites; an EarthLocation or Observer alone is named by its `name`
+        (else "site"). `vigil.make_site` builds one with limits and a time zone.
+    site : str or list of str, optional
+        Keep only these sites (the command line's --site).
+
+    Examples
+    --------
+    >>> from astropy.coordinates import EarthLocation
+    >>> read_sites({"ridge": EarthLocation.from_geodetic(-70.8 * u.deg, -30.5 * u.deg, 2400 * u.m)})["ridge"].elevation_m
+    2400.0
+    """
+    sites = as_sites(source)
+    if site is None:
+        return sites
+    names = [site] if isinstance(site, str) else list(site)
+    unknown = [n for n in names if n not in sites]
+    if unknown:
+        where = source if isinstance(source, (str, Path)) else "sites"
+        raise InputError(f"{where}: no site named {unknown[0]!r}; sites are {', '.join(sites)}")
+    return {n: sites[n] for n in names}
+
+
+def constraint_overrides(options: dict) -> dict:
+    """Constraint keywords (min_altitude, twilight, baseline, sigma, moon_sep; None = the site's
+    default) as the constraint fields they set, each value checked on its own.
+
+    Examples
+    --------
+    >>> constraint_overrides({"min_altitude": 40 * u.deg, "baseline": 90 * u.min})
+    {'min_altitude_deg': 40.0, 'baseline_h': 1.5}
+    """
+    overrides = {}
+    for name, value in options.items():
+        if name not in CONSTRAINTS:
+            raise unknown_name_error("constraint", name, list(CONSTRAINTS))
+        key, unit = CONSTRAINTS[name]
+        if value is None:
+            continue
+        value = as_number(value, unit, name)
+        try:
+            Constraints(**{key: value})
+        except InputError as exc:
+            raise ArgumentError(name, str(exc).split(": ", 1)[1]) from None
+        overrides[key] = value
+    return overrides
+
+
+def project_transits(targets, start, end, event: str = "transit") -> pd.DataFrame:
+    """Every transit (or occultation) of each target with barycentric mid-time in [start, end].
+
+    Parameters
+    ----------
+    targets : as `read_targets` takes
+    start, end : astropy Time, ISO string (UTC) or timezone-aware datetime
+    event : {"transit", "occultation"}
+
+    Returns
+    -------
+    pandas.DataFrame
+        target, event, epoch, mid_bjd_tdb (days), mid_sigma_min (1-sigma, minutes),
+        duration_h, sorted by target then epoch.
+
+    Examples
+    --------
+    >>> project_transits(targets, "2027-01-01", "2027-01-08")  # doctest: +SKIP
+    """
+    targets = read_targets(targets)
+    start, end = as_time(start, "start"), as_time(end, "end")
+    _check_span(start, end)
+    table = ephemeris.project_transits(targets, start.tdb.jd, end.tdb.jd, event)
+    table["mid_sigma_min"] = table["mid_sigma_d"] * MINUTES_PER_DAY
+    return table[["target", "event", "epoch", "mid_bjd_tdb", "mid_sigma_min", "duration_h"]]
+
+
+def plan_windows(targets, sites, start, end, *, site=None, include_unobservable: bool = False,
+                 event: str = "transit", exact: bool = False, jobs: int = 1,
+                 on_progress: Callable[[int, int], None] | None = None, **constraints) -> pd.DataFrame:
+    """The observing windows of every target at every site between two dates.
+
+    Parameters
+    ----------
+    targets : as `read_targets` takes (a CSV path, DataFrame, Table/QTable or records)
+    sites : as `read_sites` takes (a TOML path, EarthLocation, Observer, Site, dict or list)
+    start, end : astropy Time, ISO string (UTC) or timezone-aware datetime
+        Transits whose mid-time at the site falls in [start, end] are listed.
+    site : str or list of str, optional
+        Only these sites.
+    include_unobservable : bool
+        Also list transits with coverage "none" (the command line's --all).
+    event : {"transit", "occultation"}
+    exact : bool
+        Use the exact astropy engine instead of the fast one.
+    jobs : int
+        Worker processes.
+    on_progress : callable(done, total), optional
+        Called with the number of targets done after each chunk.
+    **constraints
+        min_altitude (deg), twilight ("civil", "nautical", "astronomical"), baseline (hours,
+        each side), sigma (K: pad by K sigma), moon_sep (deg); numbers in those units or
+        Quantities. Unset ones take each site's default, then vigil's.
+
+    Returns
+    -------
+    pandas.DataFrame
+        The columns of the windows CSV: UTC times as datetime64[ns, UTC], mid_bjd_tdb as
+        float days, mid_sigma_min in minutes, missing values NaN/NaT; sorted by mid-time.
+
+    Examples
+    --------
+    >>> import vigil
+    >>> w = vigil.plan_windows("targets.csv", "sites.toml", "2027-01-01", "2027-01-08",
+    ...                        min_altitude=35 * u.deg, baseline=1.5)  # doctest: +SKIP
+    """
+    overrides = constraint_overrides(constraints)
+    start, end = as_time(start, "start"), as_time(end, "end")
+    _check_span(start, end)
+    targets, sites = read_targets(targets), read_sites(sites, site)
+    internal = plan_windows_chunked(targets, sites, overrides, start, end, jobs=jobs,
+                                    engine="reference" if exact else "fast", include_unobservable=include_unobservable,
+                                    event=event, on_chunk=(lambda _, done, total: on_progress(done, total))
+                                    if on_progress else None)
+    return windows_table(internal)
+
+
+def _check_span(start, end) -> None:
+    if not end > start:
+        raise ArgumentError("end", f"{end.utc.iso[:16]} must come after start {start.utc.iso[:16]}")
+
+
+def _content_hash(table: pd.DataFrame) -> int:
+    return int(pd.util.hash_pandas_object(table.astype(str), index=True).sum())
+
+
+def _mark_checked(table: pd.DataFrame) -> pd.DataFrame:
+    table.attrs[_CHECKED] = _content_hash(table)
+    return table
+
+
+def _is_checked(table) -> bool:
+    """A DataFrame that came out of the checks unchanged (so its warnings are not given twice)."""
+    return isinstance(table, pd.DataFrame) and table.attrs.get(_CHECKED) == _content_hash(table)

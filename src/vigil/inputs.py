@@ -1,0 +1,114 @@
+"""Python values in the ecosystem's terms, turned into vigil's plain units.
+
+Dates may be an astropy `Time`, an ISO 8601 string (read as UTC), a timezone-aware
+`datetime` or a `date` (midnight UTC). Angles, durations and other amounts may be an astropy
+`Quantity` or a plain number already in the unit the name states (`_deg`, `_h`, `_m`, ...).
+Every problem is one `ArgumentError` (an `InputError`) naming the argument, like the readers' messages.
+"""
+
+from __future__ import annotations
+
+import datetime
+import difflib
+import numbers
+
+import astropy.units as u
+import numpy as np
+from astropy.time import Time
+
+from vigil.errors import ArgumentError
+
+# The unit a plain number is read in, by the ending of a column or key name.
+UNIT_OF_SUFFIX = {
+    "_deg": u.deg, "_h": u.hour, "_d": u.day, "_d2": u.day**2, "_min": u.min, "_m": u.m, "_km": u.km,
+    "_hpa": u.hPa, "_c": u.deg_C, "_k": u.K, "_pc": u.pc, "_um": u.um, "_m_s2": u.m / u.s**2, "_years": u.year,
+}
+# Columns whose unit is not in their ending alone.
+UNIT_OF_NAME = {"planet_radius_earth": u.earthRad, "planet_mass_earth": u.earthMass, "star_radius_sun": u.solRad}
+
+
+def unit_of(name: str) -> u.UnitBase | None:
+    """The unit a plain number under `name` is in, from its ending (None: no unit known).
+
+    Examples
+    --------
+    >>> unit_of("baseline_h")
+    Unit("h")
+    """
+    if name in UNIT_OF_NAME:
+        return UNIT_OF_NAME[name]
+    for suffix in sorted(UNIT_OF_SUFFIX, key=len, reverse=True):
+        if name.endswith(suffix):
+            return UNIT_OF_SUFFIX[suffix]
+    return None
+
+
+def as_time(value, name: str) -> Time:
+    """A date or instant as an astropy Time (UTC).
+
+    Parameters
+    ----------
+    value : Time, str, datetime.datetime (timezone-aware) or datetime.date
+        ISO 8601 strings are read as UTC; a date is its midnight UTC. A datetime without a
+        time zone is refused, since it may be meant as local time.
+    name : str
+        The argument's name, for the error message.
+
+    Examples
+    --------
+    >>> as_time("2027-01-01", "start").isot
+    '2027-01-01T00:00:00.000'
+    """
+    if isinstance(value, Time):
+        if value.isscalar:
+            return value.utc
+        raise ArgumentError(name, f"expected one instant, got a Time array of shape {value.shape}")
+    if isinstance(value, datetime.datetime):
+        if value.tzinfo is None or value.utcoffset() is None:
+            raise ArgumentError(name, "a datetime without a time zone is ambiguous; give tzinfo (e.g. "
+                                      "datetime.timezone.utc), an ISO string read as UTC, or an astropy Time")
+        value = value.astimezone(datetime.timezone.utc).replace(tzinfo=None).isoformat()
+    elif isinstance(value, datetime.date):
+        value = value.isoformat()
+    if isinstance(value, str):
+        try:
+            return Time(value, scale="utc")
+        except ValueError:
+            pass
+    raise ArgumentError(name, "expected a UTC date such as 2027-01-01 or 2027-01-01T18:00 (a string, an astropy "
+                              f"Time or a timezone-aware datetime), got {value!r}")
+
+
+def as_number(value, unit: u.UnitBase | None, name: str):
+    """A plain number in `unit` from a Quantity (converted) or a number (taken as in `unit`).
+
+    Anything else is returned unchanged, for the readers' checks to refuse with their message.
+
+    Examples
+    --------
+    >>> as_number(90 * u.min, u.hour, "baseline")
+    1.5
+    """
+    if isinstance(value, u.Quantity):
+        if unit is None or not value.isscalar:
+            raise ArgumentError(name, f"expected a plain number, got {value!r}")
+        try:
+            return float(value.to_value(unit, equivalencies=u.temperature()))
+        except u.UnitConversionError:
+            raise ArgumentError(name, f"expected a quantity in {unit} (or convertible), got {value}") from None
+    if isinstance(value, numbers.Real) and not isinstance(value, bool):
+        return float(value) if isinstance(value, (float, np.floating)) else int(value)
+    return value
+
+
+def unknown_name_error(kind: str, name: str, known) -> TypeError:
+    """TypeError for an unknown keyword, with the closest known name as a suggestion.
+
+    Examples
+    --------
+    >>> str(unknown_name_error("constraint", "min_alt", ["min_altitude", "twilight"]))
+    "unknown constraint 'min_alt' (did you mean 'min_altitude'?); known: min_altitude, twilight"
+    """
+    close = difflib.get_close_matches(name, list(known), n=1, cutoff=0.6)
+    hint = f" (did you mean {close[0]!r}?)" if close else ""
+    return TypeError(f"unknown {kind} {name!r}{hint}; known: {', '.join(known)}")
