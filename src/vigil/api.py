@@ -17,7 +17,9 @@ import pandas as pd
 from vigil import catalog, ephemeris
 from vigil.catalog import Site
 from vigil.errors import ArgumentError, InputError
+from vigil.export.calendar import write_windows_ics as write_ics
 from vigil.export.windows_csv import MINUTES_PER_DAY, windows_table
+from vigil.export.windows_csv import write_windows_csv as write_csv
 from vigil.inputs import as_number, as_time, unknown_name_error
 from vigil.site_inputs import as_sites
 from vigil.sweep import plan_windows_chunked
@@ -204,6 +206,40 @@ def plan_windows(targets, sites, start, end, *, site=None, include_unobservable:
                                     event=event, on_chunk=(lambda _, done, total: on_progress(done, total))
                                     if on_progress else None)
     return windows_table(internal)
+
+
+def write_windows_csv(windows: pd.DataFrame, path, sites=None) -> None:
+    """Write a windows table as vigil's CSV (atomically): ISO 8601 UTC times to the second.
+
+    Parameters
+    ----------
+    windows : pandas.DataFrame
+        As `plan_windows` returns it.
+    path : str or Path
+    sites : as `read_sites` takes, optional
+        Adds mid_local, window_start_local and window_end_local in each site's time zone.
+
+    Examples
+    --------
+    >>> write_windows_csv(windows, "windows.csv")  # doctest: +SKIP
+    """
+    write_csv(windows, path, None if sites is None else _timezones(sites))
+
+
+def write_windows_ics(windows: pd.DataFrame, path, sites=None) -> None:
+    """Write a windows table as an iCalendar file (one event per window, UTC; atomically).
+
+    `sites` (as `read_sites` takes), if given, names each site's time zone in the descriptions.
+
+    Examples
+    --------
+    >>> write_windows_ics(windows, "windows.ics", sites)  # doctest: +SKIP
+    """
+    write_ics(windows, path, None if sites is None else _timezones(sites))
+
+
+def _timezones(sites) -> dict:
+    return {name: site.timezone for name, site in as_sites(sites).items()}
 
 
 def _check_span(start, end) -> None:

@@ -8,10 +8,10 @@ from pathlib import Path
 from typing import Optional
 
 import typer
-from astropy.time import Time
+from typer.core import TyperCommand
 from rich.table import Table
 
-from vigil import catalog, pipeline
+from vigil import __version__, api, catalog, pipeline
 from vigil.campaign_spec import read_campaign
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
@@ -21,28 +21,29 @@ from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv
 from vigil.journal_cli import journal_app
-from vigil.visibility import Constraints
-from vigil.sweep import plan_windows_chunked
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
                        "how uncertain their times are, what a multi-year campaign collects and when the stacked "
                        "spectrum reaches your goal. Angles are in degrees, durations in hours, dates and times in "
                        "UTC (mid-times also in BJD_TDB); site longitudes are east positive.",
                   no_args_is_help=True, add_completion=False, rich_markup_mode=None)
-def _parse_date(text: str, option: str) -> Time:
-    try:
-        return Time(text, scale="utc")
-    except ValueError:
-        raise InputError(f"{option}: expected a UTC date such as 2027-01-01 or 2027-01-01T18:00, got {text!r}") from None
+class _Command(TyperCommand):
+    """Usage lines show arguments as TARGETS.csv, not {TARGETS.csv}."""
+
+    def collect_usage_pieces(self, ctx) -> list[str]:
+        return [p[1:-1] if p.startswith("{") and p.endswith("}") else p for p in super().collect_usage_pieces(ctx)]
 
 
-def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dict:
-    if not names:
-        return sites
-    unknown = [n for n in names if n not in sites]
-    if unknown:
-        raise InputError(f"{sites_file}: no site named {unknown[0]!r}; sites are {', '.join(sites)}")
-    return {n: sites[n] for n in names}
+def _version(value: bool) -> None:
+    if value:
+        out.print(f"vigil {__version__}", highlight=False)
+        raise typer.Exit()
+
+
+@app.callback()
+def _main(version: bool = typer.Option(False, "--version", callback=_version, is_eager=True,
+                                       help="Print vigil's version and exit.")):
+    """Plan transit observations (see `vigil COMMAND --help`)."""
 
 
 def _print_summary(windows, title: str) -> None:
@@ -52,57 +53,38 @@ def _print_summary(windows, title: str) -> None:
     table = Table(title=title, title_justify="left")
     for column in ("target", "site", "full", "ingress", "egress", "partial", "next full window (UTC)"):
         table.add_column(column, justify="left" if column in ("target", "site") else "right")
-    for (target, site), group in windows.groupby(["target", "site"], sort=True):
+    for (target, site), group in windows.groupby(["target", "site"], sort=True, observed=True):
         counts = group["coverage"].value_counts()
         full = group[group["coverage"] == "full"]
-        first = iso_utc(full["window_start_jd_utc"].to_numpy()[:1])[0][:16].replace("T", " ") if len(full) else "-"
+        first = full["window_start_utc"].iloc[0].strftime("%Y-%m-%d %H:%M") if len(full) else "-"
         table.add_row(target, site, *(str(counts.get(c, 0)) for c in ("full", "ingress", "egress", "partial")), first)
     out.print(table)
     out.print(f"[dim]{SAFETY_NOTE}[/dim]")
 
 
-JOBS_HELP = "Worker processes for the windows computation (targets are split into chunks) [default 1]."
+JOBS_HELP = "Worker processes for the windows computation (targets are split into chunks), at least 1 [default 1]."
 EXACT_HELP = ("Use the exact astropy engine (samples every 5 min; about 100x slower) instead of the fast "
               "analytic one (edges within about a minute of it).")
 
 
-OPTION_OF = {"min_altitude_deg": "--min-altitude", "twilight": "--twilight", "baseline_h": "--baseline",
-             "sigma_k": "--sigma", "moon_sep_deg": "--moon-sep"}
-
-
-def _check_options(overrides: dict) -> None:
-    """Check each constraint option on its own so an error names the option."""
-    for key, value in overrides.items():
-        if value is not None:
-            try:
-                Constraints(**{key: value})
-            except InputError as exc:
-                raise InputError(f"{OPTION_OF[key]}: {str(exc).split(': ', 1)[1]}") from None
-
-
-def _engine(exact: bool) -> str:
-    return "reference" if exact else "fast"
-
-
-def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
-                 include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast",
+def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, constraints: dict,
+                 include_all: bool, csv_path: Path | None, ics_path: Path | None, exact: bool = False,
                  event: str = "transit", local_time: bool = False, jobs: int = 1):
-    targets = catalog.read_targets(targets_file)
-    sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
+    api.constraint_overrides(constraints)  # option errors before any file is read
+    sites = api.read_sites(sites_file, site_names or None)
     with LazyProgress("windows (targets)") as progress:
-        windows = plan_windows_chunked(targets, sites, overrides, _parse_date(start, "--start"),
-                                       _parse_date(end, "--end"), jobs=jobs, engine=engine,
-                                       include_unobservable=include_all, event=event,
-                                       on_chunk=lambda _, done, total: progress.advance(done, total))
+        windows = api.plan_windows(targets_file, sites, start, end, include_unobservable=include_all, event=event,
+                                   exact=exact, jobs=jobs, on_progress=progress.advance, **constraints)
     if csv_path is not None:
-        write_windows_csv(windows, csv_path, {n: s.timezone for n, s in sites.items()} if local_time else None)
+        api.write_windows_csv(windows, csv_path, sites if local_time else None)
     if ics_path is not None:
-        write_windows_ics(windows, ics_path, {n: s.timezone for n, s in sites.items()})
+        api.write_windows_ics(windows, ics_path, sites)
     return windows
 
 
-@app.command()
+@app.command(cls=_Command)
 def windows(
+    context: typer.Context,
     targets_file: Path = typer.Argument(..., metavar="TARGETS.csv", help="Targets CSV: name, ra_deg, dec_deg (or ra/dec sexagesimal), "
                                         "t0_bjd_tdb, t0_err_d, period_d, period_err_d, duration_h."),
     sites_file: Path = typer.Option(..., "--sites", metavar="SITES.toml", help="Sites TOML with [sites.NAME] tables."),
@@ -120,12 +102,12 @@ def windows(
     include_all: bool = typer.Option(False, "--all", help="List unobservable transits too (coverage 'none')."),
     force: bool = typer.Option(False, "--force", help="Replace existing --csv/--ics files (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
-    event: str = typer.Option("transit", "--event", metavar="KIND",
+    event: str = typer.Option("transit", "--event", metavar="KIND", show_default=False,
                               help="transit, or occultation (secondary eclipse; uses the optional target columns "
                                    "eccentricity, omega_deg, inclination_deg) [default transit]."),
     local_time: bool = typer.Option(False, "--local-time", help="Add local civil times (each site's IANA timezone, "
                                     "with UTC offset) to the CSV."),
-    jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    jobs: int = typer.Option(1, "--jobs", metavar="N", show_default=False, help=JOBS_HELP),
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -133,13 +115,12 @@ def windows(
     also in BJD_TDB. Longitudes in the sites file are east positive.
     """
     setup_logging()
-    overrides = {"min_altitude_deg": min_altitude, "twilight": twilight, "baseline_h": baseline,
-                 "sigma_k": sigma, "moon_sep_deg": moon_sep}
-    with user_errors():
-        _check_options(overrides)
+    constraints = {"min_altitude": min_altitude, "twilight": twilight, "baseline": baseline, "sigma": sigma,
+                   "moon_sep": moon_sep}
+    with user_errors(context):
         refuse_overwrite((csv_path, ics_path), force)
-        result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
-                              _engine(exact), event, local_time, jobs)
+        result = _run_windows(targets_file, sites_file, site, start, end, constraints, include_all, csv_path, ics_path,
+                              exact, event, local_time, jobs)
     _print_summary(result, f"Transit windows {start} to {end}")
     for path in (csv_path, ics_path):
         if path is not None:
@@ -244,7 +225,7 @@ def campaign_command(
     setup_logging()
     with user_errors():
         refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs)
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, "reference" if exact else "fast", jobs)
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
     else:
@@ -315,8 +296,8 @@ def space_seasons(
     setup_logging()
     with user_errors():
         refuse_overwrite((csv_path, plot_path), force)
-        targets = catalog.read_targets(targets_file)
-        site = _select_sites(catalog.read_sites(sites_file), [site_name], sites_file)[site_name]
+        targets = api.read_targets(targets_file)
+        site = api.read_sites(sites_file, site_name)[site_name]
         if site.kind != "space":
             raise InputError(f"{sites_file}: [sites.{site_name}] is a ground site; space-seasons needs kind = \"space\"")
         rows = [{"target": t.name, "site": site_name, "start_jd": lo.utc.jd, "end_jd": hi.utc.jd}

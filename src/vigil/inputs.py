@@ -75,8 +75,7 @@ def as_time(value, name: str) -> Time:
             return Time(value, scale="utc")
         except ValueError:
             pass
-    raise ArgumentError(name, "expected a UTC date such as 2027-01-01 or 2027-01-01T18:00 (a string, an astropy "
-                              f"Time or a timezone-aware datetime), got {value!r}")
+    raise ArgumentError(name, f"expected a UTC date such as 2027-01-01 or 2027-01-01T18:00, got {value!r}")
 
 
 def as_number(value, unit: u.UnitBase | None, name: str):
