@@ -22,7 +22,7 @@ _EXPORTS = {
     "read_targets": "vigil.api", "read_timings": "vigil.api", "read_sites": "vigil.api",
     "project_transits": "vigil.api", "plan_windows": "vigil.api",
     "write_windows_csv": "vigil.api", "write_windows_ics": "vigil.api",
-    "make_site": "vigil.site_inputs", "Site": "vigil.catalog",
+    "make_site": "vigil.site_inputs", "Site": "vigil.sites",
     "to_qtable": "vigil.export.qtable",
 }
 __all__ = ["__version__", *_EXPORTS]

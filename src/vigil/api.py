@@ -15,7 +15,7 @@ import astropy.units as u
 import pandas as pd
 
 from vigil import catalog, ephemeris
-from vigil.catalog import Site
+from vigil.sites import Site
 from vigil.errors import ArgumentError, InputError
 from vigil.export.calendar import write_windows_ics as write_ics
 from vigil.export.windows_csv import MINUTES_PER_DAY, windows_table
@@ -24,7 +24,7 @@ from vigil.inputs import as_number, as_time, unknown_name_error
 from vigil.site_inputs import as_sites
 from vigil.sweep import plan_windows_chunked
 from vigil.table_inputs import MemorySource, text_cells
-from vigil.visibility import Constraints
+from vigil.constraints import Constraints
 
 # Constraint keyword (the command-line option's name) -> (constraint field, unit of a plain number).
 CONSTRAINTS = {"min_altitude": ("min_altitude_deg", u.deg), "twilight": ("twilight", None),

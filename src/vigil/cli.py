@@ -11,8 +11,10 @@ import typer
 from typer.core import TyperCommand
 from rich.table import Table
 
-from vigil import __version__, api, catalog, pipeline
-from vigil.campaign_spec import read_campaign
+from vigil import __version__, api, catalog
+from vigil.campaign.result import CampaignResult
+from vigil.campaign.run import run_campaign
+from vigil.campaign.spec import read_campaign
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
@@ -156,7 +158,7 @@ def _years(value: float) -> str:
     return f"{value:.1f}" if value != float("inf") else "never"
 
 
-def _print_campaign(result: pipeline.CampaignResult, spec) -> None:
+def _print_campaign(result: CampaignResult, spec) -> None:
     table = Table(title=f"Campaign {spec.start.utc.iso[:10]} + {spec.horizon_years:g} yr: goal R = "
                         f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
                   title_justify="left")
@@ -199,7 +201,7 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
         progress.advance(done[0], spec.trials)
 
     with LazyProgress("weather trials") as progress:
-        result = pipeline.run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=jobs)
+        result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=jobs)
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")
@@ -291,7 +293,7 @@ def space_seasons(
     import pandas as pd
 
     from vigil.export.space_plots import annual_visibility_plot
-    from vigil.space_path import annual_windows
+    from vigil.engines.space import annual_windows
 
     setup_logging()
     with user_errors():

@@ -13,7 +13,7 @@ import astropy.units as u
 from astropy.coordinates import EarthLocation
 
 from vigil import catalog
-from vigil.catalog import Site
+from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.inputs import as_number, unit_of, unknown_name_error
 from vigil.table_inputs import MemorySource
