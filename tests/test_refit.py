@@ -7,7 +7,7 @@ from matplotlib.image import imread
 
 import vigil  # noqa: F401  (configures astropy offline before anything else)
 from vigil.errors import InputError
-from vigil.refit import fit_linear_ephemeris, plot_o_minus_c, refit_targets
+from vigil.ephemeris.refit import fit_linear_ephemeris, plot_o_minus_c, refit_targets
 
 # Invented ephemeris for synthetic timings.
 TRUE_T0_BJD_TDB = 2461234.56789

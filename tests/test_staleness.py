@@ -7,10 +7,11 @@ import pytest
 from astropy.time import Time
 
 import vigil  # noqa: F401  (configures astropy offline before anything else)
-from vigil.ephemeris import mid_sigma_d, project_transits
+from vigil.ephemeris.models import linear_ephemeris, mid_sigma_d
+from vigil.ephemeris.projection import project_transits
 from vigil.errors import InputError
-from vigil.refit import fit_linear_ephemeris
-from vigil.staleness import DURATION_FRACTION, first_stale_epoch, refresh_sigma, stale_date, staleness
+from vigil.ephemeris.refit import fit_linear_ephemeris
+from vigil.ephemeris.staleness import DURATION_FRACTION, first_stale_epoch, refresh_sigma, stale_date, staleness
 
 SCAN = 200_000  # epochs scanned by brute force; the random cases below go stale well inside it
 
@@ -49,7 +50,7 @@ def test_never_stale_without_period_uncertainty():
     # stale from the first epoch if K sigma_T0 is beyond the limit, never otherwise.
     assert first_stale_epoch(0.01, 1e-3, 0.0, 0.0, 3.0, from_epoch=-7) == math.inf
     assert first_stale_epoch(0.002, 1e-3, 0.0, 0.0, 3.0, from_epoch=-7) == -7.0
-    never = stale_date(2461000.5, 3.3, 0.01, 1e-3, 0.0)
+    never = stale_date(linear_ephemeris(2461000.5, 1e-3, 3.3, 0.0), 0.01)
     assert never.epoch == math.inf and never.bjd_tdb == math.inf and never.time is None
 
 

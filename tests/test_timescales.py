@@ -7,7 +7,7 @@ from astropy.coordinates import BarycentricTrueEcliptic, SkyCoord
 from astropy.time import Time
 
 from vigil import windows
-from vigil.ephemeris import project_transits
+from vigil.ephemeris.projection import project_transits
 from vigil.timescales import bjd_tdb_to_site_time, earth_location, site_time_to_bjd_tdb
 
 SITES = ("mirador_sur", "cumbre_alta", "nordvik")

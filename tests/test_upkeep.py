@@ -5,11 +5,11 @@ import pandas as pd
 import pytest
 
 import vigil  # noqa: F401  (configures astropy offline before astropy is used)
-from vigil import upkeep
-from vigil.ephemeris import mid_sigma_d
+from vigil.ephemeris import upkeep
+from vigil.ephemeris.models import mid_sigma_d
 from vigil.journal import open_journal
-from vigil.refit import fit_linear_ephemeris
-from vigil.staleness import refresh_sigma
+from vigil.ephemeris.refit import fit_linear_ephemeris
+from vigil.ephemeris.staleness import refresh_sigma
 
 from test_campaign import GIANT, START, campaign_spec, run, targets_table
 

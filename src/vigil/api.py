@@ -14,7 +14,8 @@ from typing import Callable
 import astropy.units as u
 import pandas as pd
 
-from vigil import catalog, ephemeris
+from vigil import catalog
+from vigil.ephemeris.projection import project_transits as project_events
 from vigil.sites import Site
 from vigil.errors import ArgumentError, InputError
 from vigil.export.calendar import write_windows_ics as write_ics
@@ -153,7 +154,7 @@ def project_transits(targets, start, end, event: str = "transit") -> pd.DataFram
     targets = read_targets(targets)
     start, end = as_time(start, "start"), as_time(end, "end")
     _check_span(start, end)
-    table = ephemeris.project_transits(targets, start.tdb.jd, end.tdb.jd, event)
+    table = project_events(targets, start.tdb.jd, end.tdb.jd, event)
     table["mid_sigma_min"] = table["mid_sigma_d"] * MINUTES_PER_DAY
     return table[["target", "event", "epoch", "mid_bjd_tdb", "mid_sigma_min", "duration_h"]]
 

@@ -250,7 +250,7 @@ def refit(
     Also writes the O-C table (FILE stem + _o_minus_c.csv, minutes) and its plot (.png).
     Timings more than 5 sigma off the fit are flagged and left out of it.
     """
-    from vigil.refit import plot_o_minus_c, refit_targets
+    from vigil.ephemeris.refit import plot_o_minus_c, refit_targets
 
     setup_logging()
     oc_path = out_path.with_name(out_path.stem + "_o_minus_c.csv")

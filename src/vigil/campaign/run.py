@@ -7,10 +7,11 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from vigil import bodies, forecast, upkeep
+from vigil import bodies, forecast
 from vigil.campaign import schedule, weather
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.spec import CampaignSpec
+from vigil.ephemeris import upkeep
 from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.journal import open_journal
