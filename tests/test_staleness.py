@@ -7,6 +7,7 @@ import pytest
 from astropy.time import Time
 
 import vigil  # noqa: F401  (configures astropy offline before anything else)
+from authorities import transits
 from vigil.ephemeris.models import linear_ephemeris, mid_sigma_d
 from vigil.ephemeris.projection import project_transits
 from vigil.errors import InputError
@@ -19,13 +20,13 @@ SCAN = 200_000  # epochs scanned by brute force; the random cases below go stale
 def _scan_first_stale(limit_d, t0_err_d, period_err_d, cov_d2, sigma_k, from_epoch):
     """Brute force: evaluate K sigma_T(n) at every epoch from from_epoch on; first one above the limit."""
     epochs = np.arange(from_epoch, from_epoch + SCAN)
-    beyond = np.flatnonzero(sigma_k * mid_sigma_d(epochs, t0_err_d, period_err_d, cov_d2) > limit_d)
+    beyond = np.flatnonzero(sigma_k * transits.propagated_sigma_d(epochs, t0_err_d, period_err_d, cov_d2) > limit_d)
     return float(epochs[beyond[0]]) if beyond.size else math.inf
 
 
 def test_first_stale_epoch_matches_brute_force_scan():
     # Reference: direct evaluation of sigma_T(n)^2 = sigma_T0^2 + n^2 sigma_P^2 + 2 n cov
-    # (standard error propagation, /work/shared/REFERENCES.md) at every epoch, seeded random
+    # (standard error propagation, authorities.transits) at every epoch, seeded random
     # ephemerides with correlations up to +-0.99, start epochs on either side of T0, limits
     # both below (already stale) and above K sigma_T0.
     rng = np.random.default_rng(20240607)

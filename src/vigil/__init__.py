@@ -20,7 +20,7 @@ __version__ = "0.1.0"
 _EXPORTS = {
     "InputError": "vigil.errors",
     "read_targets": "vigil.api", "read_timings": "vigil.api", "read_sites": "vigil.api",
-    "project_transits": "vigil.api", "plan_windows": "vigil.api",
+    "project_transits": "vigil.api", "plan_windows": "vigil.api", "iter_windows": "vigil.api",
     "write_windows_csv": "vigil.api", "write_windows_ics": "vigil.api",
     "make_site": "vigil.site_inputs", "Site": "vigil.sites",
     "to_qtable": "vigil.export.qtable",

@@ -23,7 +23,8 @@ from vigil.export.windows_csv import MINUTES_PER_DAY, windows_table
 from vigil.export.windows_csv import write_windows_csv as write_csv
 from vigil.inputs import as_number, as_time, unknown_name_error
 from vigil.site_inputs import as_sites
-from vigil.sweep import plan_windows_chunked
+from vigil import sweep
+from vigil.cluster import workers_for
 from vigil.table_inputs import MemorySource, text_cells
 from vigil.constraints import Constraints
 
@@ -160,8 +161,9 @@ def project_transits(targets, start, end, event: str = "transit") -> pd.DataFram
 
 
 def plan_windows(targets, sites, start, end, *, site=None, include_unobservable: bool = False,
-                 event: str = "transit", exact: bool = False, jobs: int = 1,
-                 on_progress: Callable[[int, int], None] | None = None, **constraints) -> pd.DataFrame:
+                 event: str = "transit", exact: bool = False, jobs: int = 1, scheduler: str | None = None,
+                 chunk_dir=None, on_progress: Callable[[int, int], None] | None = None,
+                 **constraints) -> pd.DataFrame:
     """The observing windows of every target at every site between two dates.
 
     Parameters
@@ -178,9 +180,12 @@ def plan_windows(targets, sites, start, end, *, site=None, include_unobservable:
     exact : bool
         Use the exact astropy engine instead of the fast one.
     jobs : int
-        Worker processes.
+        Worker processes (or, with `scheduler="local"`, dask workers).
+    scheduler, chunk_dir : optional
+        Run on a dask cluster: "local" or "tcp://HOST:PORT", and the folder the workers share
+        (see `vigil.cluster`).
     on_progress : callable(done, total), optional
-        Called with the number of targets done after each chunk.
+        Called after each chunk of work with the chunks done and their total.
     **constraints
         min_altitude (deg), twilight ("civil", "nautical", "astronomical"), baseline (hours,
         each side), sigma (K: pad by K sigma), moon_sep (deg); numbers in those units or
@@ -190,7 +195,8 @@ def plan_windows(targets, sites, start, end, *, site=None, include_unobservable:
     -------
     pandas.DataFrame
         The columns of the windows CSV: UTC times as datetime64[ns, UTC], mid_bjd_tdb as
-        float days, mid_sigma_min in minutes, missing values NaN/NaT; sorted by mid-time.
+        float days, mid_sigma_min in minutes, missing values NaN/NaT; sorted by mid-time,
+        then target, then site.
 
     Examples
     --------
@@ -198,15 +204,36 @@ def plan_windows(targets, sites, start, end, *, site=None, include_unobservable:
     >>> w = vigil.plan_windows("targets.csv", "sites.toml", "2027-01-01", "2027-01-08",
     ...                        min_altitude=35 * u.deg, baseline=1.5)  # doctest: +SKIP
     """
+    pieces = list(iter_windows(targets, sites, start, end, site=site, include_unobservable=include_unobservable,
+                               event=event, exact=exact, jobs=jobs, scheduler=scheduler, chunk_dir=chunk_dir,
+                               on_progress=on_progress, **constraints))
+    filled = [p for p in pieces if len(p)]
+    return pd.concat(filled, ignore_index=True) if len(filled) > 1 else (filled or pieces)[0]
+
+
+def iter_windows(targets, sites, start, end, *, site=None, include_unobservable: bool = False,
+                 event: str = "transit", exact: bool = False, jobs: int = 1, scheduler: str | None = None,
+                 chunk_dir=None, on_progress: Callable[[int, int], None] | None = None, **constraints):
+    """`plan_windows`' table as consecutive pieces in its order, for catalogs and spans whose
+    table is too large to hold at once. Takes the arguments of `plan_windows`.
+
+    Examples
+    --------
+    >>> for piece in vigil.iter_windows("targets.csv", "sites.toml", "2027-01-01", "2057-01-01"):  # doctest: +SKIP
+    ...     print(len(piece))
+    """
     overrides = constraint_overrides(constraints)
     start, end = as_time(start, "start"), as_time(end, "end")
     _check_span(start, end)
     targets, sites = read_targets(targets), read_sites(sites, site)
-    internal = plan_windows_chunked(targets, sites, overrides, start, end, jobs=jobs,
-                                    engine="reference" if exact else "fast", include_unobservable=include_unobservable,
-                                    event=event, on_chunk=(lambda _, done, total: on_progress(done, total))
-                                    if on_progress else None)
-    return windows_table(internal)
+    with workers_for(scheduler, jobs, chunk_dir) as workers:
+        for piece in sweep.iter_windows(targets, sites, overrides, start, end, jobs=workers.count,
+                                        engine="reference" if exact else "fast",
+                                        include_unobservable=include_unobservable, event=event,
+                                        on_chunk=(lambda _, done, total: on_progress(done, total))
+                                        if on_progress else None,
+                                        executor=workers.executor, chunk_dir=workers.chunk_dir):
+            yield windows_table(piece)
 
 
 def write_windows_csv(windows: pd.DataFrame, path, sites=None) -> None:

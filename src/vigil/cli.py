@@ -2,14 +2,16 @@
 
 from __future__ import annotations
 
+import collections
 import sys
 from importlib import resources
 from pathlib import Path
 from typing import Optional
 
+import pandas as pd
 import typer
-from typer.core import TyperCommand
 from rich.table import Table
+from typer.core import TyperCommand
 
 from vigil import __version__, api, catalog
 from vigil.campaign.result import CampaignResult
@@ -21,8 +23,10 @@ from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
-from vigil.export.windows_csv import write_windows_csv
+from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.journal_cli import journal_app
+from vigil.cluster import workers_for
+from vigil.tally import add_tallies, coverage_tally
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
                        "how uncertain their times are, what a multi-year campaign collects and when the stacked "
@@ -48,40 +52,61 @@ def _main(version: bool = typer.Option(False, "--version", callback=_version, is
     """Plan transit observations (see `vigil COMMAND --help`)."""
 
 
-def _print_summary(windows, title: str) -> None:
-    if windows.empty:
+def _print_summary(tally, title: str) -> None:
+    """Print a coverage tally (vigil.tally) as a table."""
+    if tally.empty:
         out.print(f"{title}: no observable transits.")
         return
     table = Table(title=title, title_justify="left")
     for column in ("target", "site", "full", "ingress", "egress", "partial", "next full window (UTC)"):
         table.add_column(column, justify="left" if column in ("target", "site") else "right")
-    for (target, site), group in windows.groupby(["target", "site"], sort=True, observed=True):
-        counts = group["coverage"].value_counts()
-        full = group[group["coverage"] == "full"]
-        first = full["window_start_utc"].iloc[0].strftime("%Y-%m-%d %H:%M") if len(full) else "-"
-        table.add_row(target, site, *(str(counts.get(c, 0)) for c in ("full", "ingress", "egress", "partial")), first)
+    for row in tally.itertuples(index=False):
+        first = "-" if pd.isna(row.first_full_utc) else row.first_full_utc.strftime("%Y-%m-%d %H:%M")
+        table.add_row(row.target, row.site, *(str(getattr(row, c)) for c in ("full", "ingress", "egress", "partial")),
+                      first)
     out.print(table)
     out.print(f"[dim]{SAFETY_NOTE}[/dim]")
 
 
-JOBS_HELP = "Worker processes for the windows computation (targets are split into chunks), at least 1 [default 1]."
+JOBS_HELP = ("Worker processes for the windows computation (the targets and the span are split into chunks); "
+             "with --scheduler local, the cluster's workers; at least 1 [default 1].")
+SCHEDULER_HELP = ("Run the windows computation on a dask cluster (optional extra vigil[dask]): 'local' starts "
+                  "one on this machine, tcp://HOST:PORT joins a running scheduler and its workers.")
+CHUNK_DIR_HELP = ("With --scheduler: folder where workers leave their results as Parquet files; workers on "
+                  "other machines must see it too [default: a temporary folder here].")
 EXACT_HELP = ("Use the exact astropy engine (samples every 5 min; about 100x slower) instead of the fast "
               "analytic one (edges within about a minute of it).")
 
 
 def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, constraints: dict,
                  include_all: bool, csv_path: Path | None, ics_path: Path | None, exact: bool = False,
-                 event: str = "transit", local_time: bool = False, jobs: int = 1):
+                 event: str = "transit", local_time: bool = False, jobs: int = 1, scheduler: str | None = None,
+                 chunk_dir: Path | None = None):
+    """Plan through vigil.iter_windows, write the CSV piece by piece and the calendar; return
+    the coverage tally."""
     api.constraint_overrides(constraints)  # option errors before any file is read
     sites = api.read_sites(sites_file, site_names or None)
-    with LazyProgress("windows (targets)") as progress:
-        windows = api.plan_windows(targets_file, sites, start, end, include_unobservable=include_all, event=event,
-                                   exact=exact, jobs=jobs, on_progress=progress.advance, **constraints)
-    if csv_path is not None:
-        api.write_windows_csv(windows, csv_path, sites if local_time else None)
+    tallies, kept = [], []
+
+    def tallied(pieces):
+        for piece in pieces:
+            tallies.append(coverage_tally(piece))
+            if ics_path is not None:
+                kept.append(piece)
+            yield piece
+
+    with LazyProgress("windows (chunks)") as progress:
+        pieces = tallied(api.iter_windows(targets_file, sites, start, end, include_unobservable=include_all,
+                                          event=event, exact=exact, jobs=jobs, scheduler=scheduler,
+                                          chunk_dir=chunk_dir, on_progress=progress.advance, **constraints))
+        if csv_path is not None:
+            write_windows_csv_pieces(pieces, csv_path,
+                                     {n: s.timezone for n, s in sites.items()} if local_time else None)
+        else:
+            collections.deque(pieces, maxlen=0)
     if ics_path is not None:
-        api.write_windows_ics(windows, ics_path, sites)
-    return windows
+        write_windows_ics(pd.concat(kept, ignore_index=True), ics_path, {n: s.timezone for n, s in sites.items()})
+    return add_tallies(tallies)
 
 
 @app.command(cls=_Command)
@@ -110,6 +135,8 @@ def windows(
     local_time: bool = typer.Option(False, "--local-time", help="Add local civil times (each site's IANA timezone, "
                                     "with UTC offset) to the CSV."),
     jobs: int = typer.Option(1, "--jobs", metavar="N", show_default=False, help=JOBS_HELP),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
+    chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -122,7 +149,7 @@ def windows(
     with user_errors(context):
         refuse_overwrite((csv_path, ics_path), force)
         result = _run_windows(targets_file, sites_file, site, start, end, constraints, include_all, csv_path, ics_path,
-                              exact, event, local_time, jobs)
+                              exact, event, local_time, jobs, scheduler, chunk_dir)
     _print_summary(result, f"Transit windows {start} to {end}")
     for path in (csv_path, ics_path):
         if path is not None:
@@ -186,7 +213,8 @@ def _verdict(row, spec) -> str:
     return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
 
 
-def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1):
+def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1,
+                  scheduler: str | None = None, chunk_dir: Path | None = None):
     spec = read_campaign(campaign_file)
     targets = catalog.read_targets(spec.targets_file)
     if target is not None:
@@ -200,8 +228,9 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
         done[0] += count
         progress.advance(done[0], spec.trials)
 
-    with LazyProgress("weather trials") as progress:
-        result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=jobs)
+    with LazyProgress("weather trials") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
+        result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=workers.count,
+                              executor=workers.executor, chunk_dir=workers.chunk_dir)
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")
@@ -218,6 +247,8 @@ def campaign_command(
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
     jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
+    chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
@@ -227,7 +258,8 @@ def campaign_command(
     setup_logging()
     with user_errors():
         refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, "reference" if exact else "fast", jobs)
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, "reference" if exact else "fast", jobs, scheduler,
+                                            chunk_dir)
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
     else:

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from concurrent.futures import Executor
+from pathlib import Path
 from typing import Callable
 
 import numpy as np
@@ -31,9 +33,11 @@ def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
     return found, priority
 
 
-def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str, jobs: int = 1) -> pd.DataFrame:
+def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str, jobs: int = 1,
+                executor: Executor | None = None, chunk_dir: Path | None = None) -> pd.DataFrame:
     """Counted windows over the horizon, each stretch between planned refreshes with its own sigma."""
-    pieces = [plan_windows_chunked(part, sites, constraints, lo, hi, jobs=jobs, engine=engine)
+    pieces = [plan_windows_chunked(part, sites, constraints, lo, hi, jobs=jobs, engine=engine, executor=executor,
+                                   chunk_dir=chunk_dir)
               for lo, hi, part in upkeep.segments(targets, spec.start, spec.end, spec.refresh_every_years,
                                                    spec.refresh_timing_err_d)]
     windows = pd.concat([p for p in pieces if len(p)] or pieces[:1], ignore_index=True)
@@ -65,15 +69,19 @@ def _trials(scheduled: pd.DataFrame, spec: CampaignSpec, on_progress: Callable[[
 
 
 def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Site], engine: str = "fast",
-                 on_progress: Callable[[int], None] | None = None, jobs: int = 1) -> CampaignResult:
-    """Simulate the campaign: summary per target, yearly forecast, ledger of trial 0."""
+                 on_progress: Callable[[int], None] | None = None, jobs: int = 1, executor: Executor | None = None,
+                 chunk_dir: Path | None = None) -> CampaignResult:
+    """Simulate the campaign: summary per target, yearly forecast, ledger of trial 0.
+
+    jobs, executor and chunk_dir say where the windows step runs (vigil.sweep.iter_windows).
+    """
     missing = [s for s in spec.site_names if s not in sites]
     if missing:
         raise InputError(f"{spec.sites_file}: campaign site {missing[0]!r} not found; sites are {', '.join(sites)}")
     sites = {n: sites[n] for n in spec.site_names}
     found, priority = _bodies(targets, spec)
     targets, stacked = _from_journal(spec, targets)
-    candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs)
+    candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs, executor, chunk_dir)
     gain = {name: forecast.snr2_per_hour(body, spec) for name, body in found.items()}
     scheduled = schedule.schedule(candidates, gain, priority, spec.per_target_per_semester,
                                   spec.per_site_per_semester)
