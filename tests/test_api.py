@@ -107,7 +107,7 @@ def test_numbers_and_quantities_give_the_same_windows():
 
 
 def test_unknown_constraint_is_a_type_error_with_a_suggestion():
-    with pytest.raises(TypeError, match=r"unknown constraint 'min_alt' \(did you mean 'min_altitude'\?\)"):
+    with pytest.raises(TypeError, match=r"unknown constraint 'min_alt'; did you mean 'min_altitude'\?"):
         vigil.plan_windows(TARGETS_FILE, SITES_FILE, START, END, min_alt=40)
 
 
@@ -136,9 +136,9 @@ def test_end_before_start_is_refused():
 
 
 def _location_free(message: str) -> str:
-    """The message without its place ('FILE: line N', 'targets row N', 'targets') and without
+    """The message without its place ('FILE: line N', 'targets: row N', 'targets: columns') and without
     other rows' numbers ('also on line N')."""
-    message = re.sub(r"^(targets row [^,:\s]+|targets|.+?\.csv: line \d+)", "", message)
+    message = re.sub(r"^(targets: (row [^,:\s]+|columns)|.+?\.csv: line \d+)", "", message)
     return re.sub(r"also on (line|row) \d+", "also on another row", message)
 
 
@@ -161,7 +161,7 @@ def test_bad_in_memory_tables_get_the_file_message(path, file_message):
         assert _location_free(str(caught.value)) == _location_free(file_message)
         row = re.search(r"line (\d+)", file_message)
         if row and ", field" in file_message:  # the row is named: its position below the header
-            assert str(caught.value).startswith(f"targets row {int(row.group(1)) - 2},")
+            assert str(caught.value).startswith(f"targets: row {int(row.group(1)) - 2},")
 
 
 def test_in_memory_tables_are_checked_like_files(make_targets):
@@ -170,14 +170,18 @@ def test_in_memory_tables_are_checked_like_files(make_targets):
     targets = vigil.read_targets([good])
     assert targets["t0_period_cov_d2"].iloc[0] == 0.0  # optional column filled in
     cases = [({"t0_bjd_tdb": 61000.25}, "looks like an MJD"), ({"dec_deg": 120.0}, "-90 <= Dec <= 90"),
-             ({"period_d": float("nan")}, "field period_d: expected a positive period in days, got an empty cell"),
-             ({"dec_deg": 3 * u.m}, "column dec_deg: unit m does not convert to deg")]
+             ({"period_d": float("nan")}, "targets: row 0, field period_d: expected a positive period in days, got "
+                                          "an empty cell"),
+             ({"dec_deg": 3 * u.m}, "targets: column 'dec_deg': unit 'm' cannot be read as deg")]
     for change, words in cases:
         with pytest.raises(vigil.InputError, match=re.escape(words)):
-            vigil.read_targets([{**good, **change}])
+            vigil.read_targets([{**good, **change}], strict=True)
+    # As with files, a row lacking a required value is left out unless strict.
+    kept = vigil.read_targets([good, {**good, "name": "Lumen-2 b", "period_d": None}])
+    assert list(kept["name"]) == ["Lumen-1 b"]
     qtable = QTable([[good[k]] for k in good], names=list(good))
     qtable["t0_bjd_tdb"] = Time([2461000.25], format="jd", scale="utc")
-    with pytest.raises(vigil.InputError, match="scale 'utc'; expected Barycentric Julian Dates in TDB"):
+    with pytest.raises(vigil.InputError, match="a time in scale UTC; expected BJD in TDB"):
         vigil.read_targets(qtable)
 
 

@@ -21,11 +21,13 @@ from vigil.errors import ArgumentError, InputError
 from vigil.export.calendar import write_windows_ics as write_ics
 from vigil.export.windows_csv import MINUTES_PER_DAY, windows_table
 from vigil.export.windows_csv import write_windows_csv as write_csv
-from vigil.inputs import as_number, as_time, unknown_name_error
+from vigil.inputs import as_number, as_time, did_you_mean, unknown_name_error
 from vigil.site_inputs import as_sites
 from vigil import sweep
 from vigil.cluster import workers_for
-from vigil.table_inputs import MemorySource, text_cells
+from vigil.hosts import host_of, mark_shared
+from vigil.table_inputs import memory_cells
+from vigil.target_source import CatalogueOptions, prepared_cells
 from vigil.constraints import Constraints
 
 # Constraint keyword (the command-line option's name) -> (constraint field, unit of a plain number).
@@ -34,22 +36,30 @@ CONSTRAINTS = {"min_altitude": ("min_altitude_deg", u.deg), "twilight": ("twilig
 _CHECKED = "vigil_checked"  # attrs key: content hash of a table that passed the checks
 
 
-def read_targets(source) -> pd.DataFrame:
-    """The targets, checked like a targets CSV, from a file or a table built in Python.
+def read_targets(source, *, format: str | None = None, columns=None, strict: bool = False) -> pd.DataFrame:
+    """The targets, checked like a targets file, from a file or a table built in Python.
 
     Parameters
     ----------
     source : str, Path, pandas.DataFrame, astropy Table or QTable, or list of dicts
-        A targets CSV, or a table with its columns: name, ra_deg and dec_deg (or ra, dec as
-        sexagesimal text, or one SkyCoord column), t0_bjd_tdb (full Julian date; a `Time`
-        column in scale tdb is accepted), t0_err_d, period_d, period_err_d, duration_h, and
-        optionally t0_period_cov_d2 (0 when absent) and the physical columns. Quantity columns
-        are converted to the unit in the name (e.g. period_d in hours becomes days).
+        A targets catalogue (CSV, ECSV, VOTable or IPAC), or a table with its columns: name,
+        ra_deg and dec_deg (or ra, dec as sexagesimal text, or one SkyCoord column),
+        t0_bjd_tdb (full Julian date; `Time` values in scale tdb are accepted), t0_err_d,
+        period_d, period_err_d, duration_h, and optionally t0_period_cov_d2 (0 when absent)
+        and the physical columns. Quantities are converted into the unit the column's name
+        states (period_d given in hours becomes days).
+    format : {"csv", "ecsv", "votable", "ipac"}, optional
+        A file's format (default: by its extension).
+    columns : str or Path, optional
+        A column mapping TOML (which column holds each vigil field, in which unit).
+    strict : bool
+        Refuse a row that lacks a required value (otherwise it is left out with a warning).
 
     Returns
     -------
     pandas.DataFrame
-        One row per target. Raises `InputError` naming the row and field of the first problem.
+        One row per target. Raises `InputError` naming the row and field of the first problem,
+        with the message a file would get (`targets: row N` in place of `FILE: line N`).
 
     Examples
     --------
@@ -59,11 +69,13 @@ def read_targets(source) -> pd.DataFrame:
     >>> float(targets["duration_h"][0])
     2.5
     """
+    options = CatalogueOptions(format, None if columns is None else Path(columns), strict)
     if isinstance(source, (str, Path)):
-        return _mark_checked(catalog.read_targets(source))
+        return _mark_checked(catalog.read_targets(source, options))
     if _is_checked(source):
         return source
-    return _mark_checked(catalog.targets_from_cells(MemorySource("targets"), None, text_cells(source, "targets")))
+    cells = prepared_cells(memory_cells(source, "targets"), options)
+    return _mark_checked(catalog.targets_from_source(cells, strict))
 
 
 def read_timings(source) -> pd.DataFrame:
@@ -77,7 +89,8 @@ def read_timings(source) -> pd.DataFrame:
     """
     if isinstance(source, (str, Path)):
         return catalog.read_timings(source)
-    return catalog.timings_from_cells(MemorySource("timings"), None, text_cells(source, "timings"))
+    cells = memory_cells(source, "timings", "timing")
+    return catalog.timings_from_cells(cells.path, cells.header, cells.cells)
 
 
 def read_sites(source, site=None) -> dict[str, Site]:
@@ -104,7 +117,8 @@ def read_sites(source, site=None) -> dict[str, Site]:
     unknown = [n for n in names if n not in sites]
     if unknown:
         where = source if isinstance(source, (str, Path)) else "sites"
-        raise InputError(f"{where}: no site named {unknown[0]!r}; sites are {', '.join(sites)}")
+        raise InputError(f"{where}: no site named {unknown[0]!r}{did_you_mean(unknown[0], sites)} "
+                         f"(sites are {', '.join(sites)})")
     return {n: sites[n] for n in names}
 
 
@@ -227,12 +241,11 @@ def iter_windows(targets, sites, start, end, *, site=None, include_unobservable:
     _check_span(start, end)
     targets, sites = read_targets(targets), read_sites(sites, site)
     with workers_for(scheduler, jobs, chunk_dir) as workers:
-        for piece in sweep.iter_windows(targets, sites, overrides, start, end, jobs=workers.count,
-                                        engine="reference" if exact else "fast",
-                                        include_unobservable=include_unobservable, event=event,
-                                        on_chunk=(lambda _, done, total: on_progress(done, total))
-                                        if on_progress else None,
-                                        executor=workers.executor, chunk_dir=workers.chunk_dir):
+        pieces = sweep.iter_windows(targets, sites, overrides, start, end, jobs=workers.count,
+                                    engine="reference" if exact else "fast", include_unobservable=include_unobservable,
+                                    event=event, on_chunk=(lambda _, done, total: on_progress(done, total))
+                                    if on_progress else None, executor=workers.executor, chunk_dir=workers.chunk_dir)
+        for piece in mark_shared(pieces, host_of(targets)):
             yield windows_table(piece)
 
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import collections
 import sys
+from dataclasses import replace
 from importlib import resources
 from pathlib import Path
 from typing import Optional
@@ -18,12 +19,14 @@ from vigil.campaign.result import CampaignResult
 from vigil.campaign.run import run_campaign
 from vigil.campaign.spec import read_campaign
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
+from vigil.inputs import did_you_mean
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv_pieces
+from vigil.target_source import CatalogueOptions
 from vigil.journal_cli import journal_app
 from vigil.cluster import workers_for
 from vigil.tally import add_tallies, coverage_tally
@@ -78,13 +81,23 @@ EXACT_HELP = ("Use the exact astropy engine (samples every 5 min; about 100x slo
               "analytic one (edges within about a minute of it).")
 
 
+FORMAT_OPTION = typer.Option(None, "--format", metavar="FORMAT", help="Targets file format: csv, ecsv, votable or "
+                             "ipac [default by extension: .csv, .ecsv, .xml/.vot, .tbl]; any case.")
+COLUMNS_OPTION = typer.Option(None, "--columns", metavar="MAP.toml", help="Column mapping: which column of your "
+                              "catalogue holds each vigil field, in which unit (see examples/).")
+STRICT_OPTION = typer.Option(False, "--strict", help="Refuse a targets file with a row that lacks a required value "
+                             "(otherwise such rows are left out with a warning).")
+
+
 def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, constraints: dict,
                  include_all: bool, csv_path: Path | None, ics_path: Path | None, exact: bool = False,
                  event: str = "transit", local_time: bool = False, jobs: int = 1, scheduler: str | None = None,
-                 chunk_dir: Path | None = None):
+                 chunk_dir: Path | None = None, catalogue: CatalogueOptions = CatalogueOptions()):
     """Plan through vigil.iter_windows, write the CSV piece by piece and the calendar; return
     the coverage tally."""
     api.constraint_overrides(constraints)  # option errors before any file is read
+    targets = api.read_targets(targets_file, format=catalogue.format, columns=catalogue.columns,
+                               strict=catalogue.strict)
     sites = api.read_sites(sites_file, site_names or None)
     tallies, kept = [], []
 
@@ -96,9 +109,9 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
             yield piece
 
     with LazyProgress("windows (chunks)") as progress:
-        pieces = tallied(api.iter_windows(targets_file, sites, start, end, include_unobservable=include_all,
-                                          event=event, exact=exact, jobs=jobs, scheduler=scheduler,
-                                          chunk_dir=chunk_dir, on_progress=progress.advance, **constraints))
+        pieces = tallied(api.iter_windows(targets, sites, start, end, include_unobservable=include_all, event=event,
+                                          exact=exact, jobs=jobs, scheduler=scheduler, chunk_dir=chunk_dir,
+                                          on_progress=progress.advance, **constraints))
         if csv_path is not None:
             write_windows_csv_pieces(pieces, csv_path,
                                      {n: s.timezone for n, s in sites.items()} if local_time else None)
@@ -137,6 +150,9 @@ def windows(
     jobs: int = typer.Option(1, "--jobs", metavar="N", show_default=False, help=JOBS_HELP),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
     chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
+    fmt: Optional[str] = FORMAT_OPTION,
+    columns: Optional[Path] = COLUMNS_OPTION,
+    strict: bool = STRICT_OPTION,
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -149,7 +165,8 @@ def windows(
     with user_errors(context):
         refuse_overwrite((csv_path, ics_path), force)
         result = _run_windows(targets_file, sites_file, site, start, end, constraints, include_all, csv_path, ics_path,
-                              exact, event, local_time, jobs, scheduler, chunk_dir)
+                              exact, event.lower(), local_time, jobs, scheduler, chunk_dir,
+                              CatalogueOptions(fmt, columns, strict))
     _print_summary(result, f"Transit windows {start} to {end}")
     for path in (csv_path, ics_path):
         if path is not None:
@@ -214,12 +231,12 @@ def _verdict(row, spec) -> str:
 
 
 def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1,
-                  scheduler: str | None = None, chunk_dir: Path | None = None):
+                  scheduler: str | None = None, chunk_dir: Path | None = None, strict: bool = False):
     spec = read_campaign(campaign_file)
-    targets = catalog.read_targets(spec.targets_file)
+    targets = catalog.read_targets(spec.targets_file, replace(spec.targets_options, strict=strict))
     if target is not None:
         if target not in set(targets["name"]):
-            raise InputError(f"{spec.targets_file}: no target named {target!r}")
+            raise InputError(f"{spec.targets_file}: no target named {target!r}{did_you_mean(target, targets['name'])}")
         targets = targets[targets["name"] == target].reset_index(drop=True)
     sites = catalog.read_sites(spec.sites_file)
     done = [0]
@@ -249,6 +266,7 @@ def campaign_command(
     jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
     chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
+    strict: bool = STRICT_OPTION,
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
@@ -258,8 +276,8 @@ def campaign_command(
     setup_logging()
     with user_errors():
         refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, "reference" if exact else "fast", jobs, scheduler,
-                                            chunk_dir)
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, "reference" if exact else "fast", jobs, scheduler, chunk_dir,
+                                            strict)
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
     else:
@@ -276,6 +294,9 @@ def refit(
                                                 help="Catalog whose coordinates, durations and ephemerides (to number "
                                                      "the epochs) carry over."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs (otherwise vigil refuses)."),
+    fmt: Optional[str] = FORMAT_OPTION,
+    columns: Optional[Path] = COLUMNS_OPTION,
+    strict: bool = STRICT_OPTION,
 ):
     """Refit each target's linear ephemeris from measured transit times (weighted least squares).
 
@@ -290,7 +311,8 @@ def refit(
     with user_errors():
         refuse_overwrite((out_path, oc_path, plot_path), force)
         timings = catalog.read_timings(timings_file)
-        targets = catalog.read_targets(targets_file) if targets_file is not None else None
+        targets = (catalog.read_targets(targets_file, CatalogueOptions(fmt, columns, strict))
+                   if targets_file is not None else None)
         try:
             refitted, o_minus_c = refit_targets(timings, targets)
         except InputError as exc:
@@ -316,6 +338,9 @@ def space_seasons(
     csv_path: Optional[Path] = typer.Option(None, "--csv", metavar="FILE", help="Write the date ranges here (CSV, UTC)."),
     plot_path: Optional[Path] = typer.Option(None, "--plot", metavar="FILE", help="Write the chart here (PNG)."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs (otherwise vigil refuses)."),
+    fmt: Optional[str] = FORMAT_OPTION,
+    columns: Optional[Path] = COLUMNS_OPTION,
+    strict: bool = STRICT_OPTION,
 ):
     """Date ranges in each year when a space observatory's Sun-angle band admits each target.
 
@@ -330,7 +355,7 @@ def space_seasons(
     setup_logging()
     with user_errors():
         refuse_overwrite((csv_path, plot_path), force)
-        targets = api.read_targets(targets_file)
+        targets = api.read_targets(targets_file, format=fmt, columns=columns, strict=strict)
         site = api.read_sites(sites_file, site_name)[site_name]
         if site.kind != "space":
             raise InputError(f"{sites_file}: [sites.{site_name}] is a ground site; space-seasons needs kind = \"space\"")

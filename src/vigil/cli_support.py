@@ -93,3 +93,4 @@ class LazyProgress:
     def __exit__(self, *exc_info) -> None:
         if self._task is not None:  # a never-started bar would still print an empty line
             self._progress.stop()
+

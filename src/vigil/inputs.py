@@ -17,14 +17,11 @@ import numpy as np
 from astropy.time import Time
 
 from vigil.errors import ArgumentError
+from vigil.field_units import field_unit
 
-# The unit a plain number is read in, by the ending of a column or key name.
-UNIT_OF_SUFFIX = {
-    "_deg": u.deg, "_h": u.hour, "_d": u.day, "_d2": u.day**2, "_min": u.min, "_m": u.m, "_km": u.km,
-    "_hpa": u.hPa, "_c": u.deg_C, "_k": u.K, "_pc": u.pc, "_um": u.um, "_m_s2": u.m / u.s**2, "_years": u.year,
-}
-# Columns whose unit is not in their ending alone.
-UNIT_OF_NAME = {"planet_radius_earth": u.earthRad, "planet_mass_earth": u.earthMass, "star_radius_sun": u.solRad}
+# Units of names beyond the targets' fields (vigil.field_units): site and campaign keys.
+_MORE_SUFFIXES = (("_m_s2", u.m / u.s**2), ("_km", u.km), ("_m", u.m), ("_hpa", u.hPa), ("_c", u.deg_C),
+                  ("_k", u.K), ("_um", u.um), ("_years", u.year))
 
 
 def unit_of(name: str) -> u.UnitBase | None:
@@ -32,15 +29,13 @@ def unit_of(name: str) -> u.UnitBase | None:
 
     Examples
     --------
-    >>> unit_of("baseline_h")
-    Unit("h")
+    >>> unit_of("baseline_h"), unit_of("elevation_m")
+    (Unit("h"), Unit("m"))
     """
-    if name in UNIT_OF_NAME:
-        return UNIT_OF_NAME[name]
-    for suffix in sorted(UNIT_OF_SUFFIX, key=len, reverse=True):
-        if name.endswith(suffix):
-            return UNIT_OF_SUFFIX[suffix]
-    return None
+    unit = field_unit(name)
+    if unit is not None:
+        return unit
+    return next((unit for suffix, unit in _MORE_SUFFIXES if name.endswith(suffix)), None)
 
 
 def as_time(value, name: str) -> Time:
@@ -100,14 +95,28 @@ def as_number(value, unit: u.UnitBase | None, name: str):
     return value
 
 
+def did_you_mean(name: str, known) -> str:
+    """'; did you mean 'X'?' naming the known names closest to `name` (any case), or ''.
+
+    Names are matched exactly elsewhere; this only helps the user see a near miss.
+
+    Examples
+    --------
+    >>> did_you_mean("mirador sur", ["mirador_sur", "alto_verde"])
+    "; did you mean 'mirador_sur'?"
+    """
+    known = [str(k) for k in known]
+    by_case = [k for k in known if k.casefold() == name.casefold()]
+    close = by_case or difflib.get_close_matches(name, known, n=3, cutoff=0.6)
+    return f"; did you mean {' or '.join(repr(c) for c in close)}?" if close else ""
+
+
 def unknown_name_error(kind: str, name: str, known) -> TypeError:
-    """TypeError for an unknown keyword, with the closest known name as a suggestion.
+    """TypeError for an unknown keyword, with the closest known names as a suggestion.
 
     Examples
     --------
     >>> str(unknown_name_error("constraint", "min_alt", ["min_altitude", "twilight"]))
-    "unknown constraint 'min_alt' (did you mean 'min_altitude'?); known: min_altitude, twilight"
+    "unknown constraint 'min_alt'; did you mean 'min_altitude'? (known: min_altitude, twilight)"
     """
-    close = difflib.get_close_matches(name, list(known), n=1, cutoff=0.6)
-    hint = f" (did you mean {close[0]!r}?)" if close else ""
-    return TypeError(f"unknown {kind} {name!r}{hint}; known: {', '.join(known)}")
+    return TypeError(f"unknown {kind} {name!r}{did_you_mean(name, known)} (known: {', '.join(known)})")

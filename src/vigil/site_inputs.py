@@ -16,9 +16,8 @@ from vigil import catalog
 from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.inputs import as_number, unit_of, unknown_name_error
-from vigil.table_inputs import MemorySource
 
-SOURCE = MemorySource("sites")
+SOURCE = "sites"  # stands for the file name in messages about sites built in Python
 
 
 def make_site(name: str, location=None, **fields) -> Site:
