@@ -14,14 +14,15 @@ from typing import Callable
 import astropy.units as u
 import pandas as pd
 
-from vigil import catalog
+from vigil import catalog, notes
 from vigil.ephemeris.projection import project_transits as project_events
 from vigil.sites import Site
 from vigil.errors import ArgumentError, InputError
 from vigil.export.calendar import write_windows_ics as write_ics
 from vigil.export.windows_csv import MINUTES_PER_DAY, windows_table
 from vigil.export.windows_csv import write_windows_csv as write_csv
-from vigil.inputs import as_number, as_time, did_you_mean, unknown_name_error
+from vigil.inputs import as_number, as_time, unknown_name_error
+from vigil.textfile import did_you_mean
 from vigil.site_inputs import as_sites
 from vigil import sweep
 from vigil.cluster import workers_for
@@ -210,7 +211,8 @@ def plan_windows(targets, sites, start, end, *, site=None, include_unobservable:
     pandas.DataFrame
         The columns of the windows CSV: UTC times as datetime64[ns, UTC], mid_bjd_tdb as
         float days, mid_sigma_min in minutes, missing values NaN/NaT; sorted by mid-time,
-        then target, then site.
+        then target, then site. Notes found on the way (e.g. a site that never gets dark) are
+        logged on the "vigil" logger and kept in `table.attrs["notes"]`.
 
     Examples
     --------
@@ -221,8 +223,11 @@ def plan_windows(targets, sites, start, end, *, site=None, include_unobservable:
     pieces = list(iter_windows(targets, sites, start, end, site=site, include_unobservable=include_unobservable,
                                event=event, exact=exact, jobs=jobs, scheduler=scheduler, chunk_dir=chunk_dir,
                                on_progress=on_progress, **constraints))
+    found = notes.merged(*(notes.of(p) for p in pieces))
+    notes.report(found)
     filled = [p for p in pieces if len(p)]
-    return pd.concat(filled, ignore_index=True) if len(filled) > 1 else (filled or pieces)[0]
+    table = pd.concat(filled, ignore_index=True) if len(filled) > 1 else (filled or pieces)[0]
+    return notes.attach(table, found)
 
 
 def iter_windows(targets, sites, start, end, *, site=None, include_unobservable: bool = False,

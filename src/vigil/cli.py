@@ -14,12 +14,11 @@ import typer
 from rich.table import Table
 from typer.core import TyperCommand
 
-from vigil import __version__, api, catalog
+from vigil import __version__, api, catalog, notes
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.run import run_campaign
 from vigil.campaign.spec import read_campaign
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
-from vigil.inputs import did_you_mean
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
@@ -27,6 +26,7 @@ from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.target_source import CatalogueOptions
+from vigil.textfile import did_you_mean
 from vigil.journal_cli import journal_app
 from vigil.refit_cli import run_refit
 from vigil.cluster import workers_for
@@ -100,7 +100,12 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
     targets = api.read_targets(targets_file, format=catalogue.format, columns=catalogue.columns,
                                strict=catalogue.strict)
     sites = api.read_sites(sites_file, site_names or None)
-    tallies, kept = [], []
+    tallies, kept, found = [], [], []
+
+    def noted(pieces):
+        for piece in pieces:
+            found.append(notes.of(piece))
+            yield piece
 
     def tallied(pieces):
         for piece in pieces:
@@ -110,14 +115,15 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
             yield piece
 
     with LazyProgress("windows (chunks)") as progress:
-        pieces = tallied(api.iter_windows(targets, sites, start, end, include_unobservable=include_all, event=event,
-                                          exact=exact, jobs=jobs, scheduler=scheduler, chunk_dir=chunk_dir,
-                                          on_progress=progress.advance, **constraints))
+        pieces = tallied(noted(api.iter_windows(targets, sites, start, end, include_unobservable=include_all,
+                                                event=event, exact=exact, jobs=jobs, scheduler=scheduler,
+                                                chunk_dir=chunk_dir, on_progress=progress.advance, **constraints)))
         if csv_path is not None:
             write_windows_csv_pieces(pieces, csv_path,
                                      {n: s.timezone for n, s in sites.items()} if local_time else None)
         else:
             collections.deque(pieces, maxlen=0)
+    notes.report(notes.merged(*found))
     if ics_path is not None:
         write_windows_ics(pd.concat(kept, ignore_index=True), ics_path, {n: s.timezone for n, s in sites.items()})
     return add_tallies(tallies)
@@ -249,6 +255,7 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
     with LazyProgress("weather trials") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
         result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=workers.count,
                               executor=workers.executor, chunk_dir=workers.chunk_dir)
+    notes.report(result.notes)
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")

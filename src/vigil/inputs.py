@@ -9,7 +9,6 @@ Every problem is one `ArgumentError` (an `InputError`) naming the argument, like
 from __future__ import annotations
 
 import datetime
-import difflib
 import numbers
 
 import astropy.units as u
@@ -18,6 +17,7 @@ from astropy.time import Time
 
 from vigil.errors import ArgumentError
 from vigil.field_units import field_unit
+from vigil.textfile import did_you_mean
 
 # Units of names beyond the targets' fields (vigil.field_units): site and campaign keys.
 _MORE_SUFFIXES = (("_m_s2", u.m / u.s**2), ("_km", u.km), ("_m", u.m), ("_hpa", u.hPa), ("_c", u.deg_C),
@@ -93,22 +93,6 @@ def as_number(value, unit: u.UnitBase | None, name: str):
     if isinstance(value, numbers.Real) and not isinstance(value, bool):
         return float(value) if isinstance(value, (float, np.floating)) else int(value)
     return value
-
-
-def did_you_mean(name: str, known) -> str:
-    """'; did you mean 'X'?' naming the known names closest to `name` (any case), or ''.
-
-    Names are matched exactly elsewhere; this only helps the user see a near miss.
-
-    Examples
-    --------
-    >>> did_you_mean("mirador sur", ["mirador_sur", "alto_verde"])
-    "; did you mean 'mirador_sur'?"
-    """
-    known = [str(k) for k in known]
-    by_case = [k for k in known if k.casefold() == name.casefold()]
-    close = by_case or difflib.get_close_matches(name, known, n=3, cutoff=0.6)
-    return f"; did you mean {' or '.join(repr(c) for c in close)}?" if close else ""
 
 
 def unknown_name_error(kind: str, name: str, known) -> TypeError:

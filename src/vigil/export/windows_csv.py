@@ -36,7 +36,8 @@ def utc_datetimes(jd_utc) -> pd.Series:
 
 def windows_table(windows: pd.DataFrame) -> pd.DataFrame:
     """The windows table as vigil hands it out: the CSV's columns, times as UTC datetimes,
-    BJD_TDB as float days, numbers unrounded. A table already in this form is returned as is.
+    BJD_TDB as float days, numbers unrounded, the notes kept. A table already in this form is
+    returned as is.
 
     Examples
     --------
@@ -52,7 +53,9 @@ def windows_table(windows: pd.DataFrame) -> pd.DataFrame:
     out["shared_with"] = windows["shared_with"] if "shared_with" in windows.columns else ""
     for name, source in TIME_COLUMNS.items():
         out[name] = utc_datetimes(windows[source].to_numpy()).set_axis(out.index)
-    return out[COLUMNS].reset_index(drop=True)
+    out = out[COLUMNS].reset_index(drop=True)
+    out.attrs.update(windows.attrs)  # notes found on the way (vigil.notes)
+    return out
 
 
 def iso_text(times: pd.Series) -> pd.Series:
