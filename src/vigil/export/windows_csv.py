@@ -7,6 +7,7 @@ from zoneinfo import ZoneInfo
 
 import pandas as pd
 
+from vigil import schema
 from vigil.export.files import atomic_stream
 from vigil.export.table import csv_bytes, iso_utc
 
@@ -20,9 +21,7 @@ TIME_COLUMNS = {
     "observable_start_utc": "observable_start_jd_utc",
     "observable_end_utc": "observable_end_jd_utc",
 }
-COLUMNS = ["target", "site", "event", "epoch", "mid_bjd_tdb", "mid_utc", "mid_sigma_min", "ingress_utc", "egress_utc",
-           "window_start_utc", "window_end_utc", "coverage", "observable_fraction", "observable_start_utc",
-           "observable_end_utc", "alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale", "shared_with"]
+COLUMNS = list(schema.WINDOWS_OUT.names)
 DECIMALS = {"mid_bjd_tdb": 6, "mid_sigma_min": 2, "observable_fraction": 4, "alt_mid_deg": 2,
             "airmass_mid": 3, "sun_alt_mid_deg": 2, "moon_sep_deg": 2, "moon_illumination": 3}
 
@@ -45,7 +44,8 @@ def windows_table(windows: pd.DataFrame) -> pd.DataFrame:
     datetime64[ns, UTC]
     """
     if "mid_jd_utc" not in windows.columns:
-        return windows
+        return schema.WINDOWS_OUT.check(windows)
+    schema.WINDOWS.check(windows)
     out = pd.DataFrame({c: windows[c] for c in ("target", "site", "event", "epoch", "mid_bjd_tdb", "coverage",
                                                  "observable_fraction", "alt_mid_deg", "airmass_mid",
                                                  "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale")})
@@ -55,7 +55,7 @@ def windows_table(windows: pd.DataFrame) -> pd.DataFrame:
         out[name] = utc_datetimes(windows[source].to_numpy()).set_axis(out.index)
     out = out[COLUMNS].reset_index(drop=True)
     out.attrs.update(windows.attrs)  # notes found on the way (vigil.notes)
-    return out
+    return schema.WINDOWS_OUT.check(out)
 
 
 def iso_text(times: pd.Series) -> pd.Series:
