@@ -75,13 +75,13 @@ LOCAL_COLUMNS = {"mid_local": "mid_utc", "window_start_local": "window_start_utc
 
 
 def local_times(windows: pd.DataFrame, timezones: dict) -> pd.DataFrame:
-    """Local civil times (ISO 8601 with UTC offset) in each site's IANA zone; empty without a zone."""
-    table = windows_table(windows)
+    """Local civil times (ISO 8601 with UTC offset) in each site's IANA zone; empty without a zone.
+    `windows` as `windows_table` gives it."""
     out = {}
     for name, source in LOCAL_COLUMNS.items():
         out[name] = [t.tz_convert(ZoneInfo(timezones[s])).isoformat() if timezones.get(s) and not pd.isna(t) else ""
-                     for t, s in zip(table[source], table["site"])]
-    return pd.DataFrame(out, index=table.index)
+                     for t, s in zip(windows[source], windows["site"])]
+    return pd.DataFrame(out, index=windows.index)
 
 
 def write_windows_csv(windows: pd.DataFrame, path, timezones: dict | None = None) -> None:
@@ -98,7 +98,8 @@ def write_windows_csv_pieces(pieces: Iterable[pd.DataFrame], path, timezones: di
     >>> write_windows_csv_pieces(iter_windows(targets, sites, {}, start, end), "windows.csv")  # doctest: +SKIP
     """
     with atomic_stream(path) as stream:
-        for number, windows in enumerate(pieces):
+        for number, piece in enumerate(pieces):
+            windows = windows_table(piece)
             table = windows_for_export(windows)
             if timezones is not None:
                 table = pd.concat([table, local_times(windows, timezones)], axis=1)
