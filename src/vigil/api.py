@@ -16,6 +16,8 @@ import pandas as pd
 
 from vigil import catalog, notes
 from vigil.ephemeris.projection import project_transits as project_events
+from vigil.ephemeris.projection import with_models
+from vigil.ephemeris.table import read_ephemeris_table
 from vigil.sites import Site
 from vigil.errors import ArgumentError, InputError
 from vigil.export.calendar import write_windows_ics as write_ics
@@ -37,7 +39,8 @@ CONSTRAINTS = {"min_altitude": ("min_altitude_deg", u.deg), "twilight": ("twilig
 _CHECKED = "vigil_checked"  # attrs key: content hash of a table that passed the checks
 
 
-def read_targets(source, *, format: str | None = None, columns=None, strict: bool = False) -> pd.DataFrame:
+def read_targets(source, *, format: str | None = None, columns=None, strict: bool = False, ephemeris_table=None,
+                 extrapolate_table: bool = False) -> pd.DataFrame:
     """The targets, checked like a targets file, from a file or a table built in Python.
 
     Parameters
@@ -55,6 +58,9 @@ def read_targets(source, *, format: str | None = None, columns=None, strict: boo
         A column mapping TOML (which column holds each vigil field, in which unit).
     strict : bool
         Refuse a row that lacks a required value (otherwise it is left out with a warning).
+    ephemeris_table : str or Path, optional
+        A per-epoch table of predicted mid-times (vigil.ephemeris.table) that replaces the
+        named targets' linear ephemerides; `extrapolate_table` continues it beyond its span.
 
     Returns
     -------
@@ -72,11 +78,14 @@ def read_targets(source, *, format: str | None = None, columns=None, strict: boo
     """
     options = CatalogueOptions(format, None if columns is None else Path(columns), strict)
     if isinstance(source, (str, Path)):
-        return _mark_checked(catalog.read_targets(source, options))
-    if _is_checked(source):
-        return source
-    cells = prepared_cells(memory_cells(source, "targets"), options)
-    return _mark_checked(catalog.targets_from_source(cells, strict))
+        targets = catalog.read_targets(source, options)
+    elif _is_checked(source):
+        targets = source
+    else:
+        targets = catalog.targets_from_source(prepared_cells(memory_cells(source, "targets"), options), strict)
+    if ephemeris_table is not None:
+        targets = with_models(targets, read_ephemeris_table(ephemeris_table, extrapolate_table))
+    return _mark_checked(targets)
 
 
 def read_timings(source) -> pd.DataFrame:

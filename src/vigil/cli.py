@@ -93,12 +93,14 @@ STRICT_OPTION = typer.Option(False, "--strict", help="Refuse a targets file with
 def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, constraints: dict,
                  include_all: bool, csv_path: Path | None, ics_path: Path | None, exact: bool = False,
                  event: str = "transit", local_time: bool = False, jobs: int = 1, scheduler: str | None = None,
-                 chunk_dir: Path | None = None, catalogue: CatalogueOptions = CatalogueOptions()):
+                 chunk_dir: Path | None = None, catalogue: CatalogueOptions = CatalogueOptions(),
+                 ephemeris_table: Path | None = None, extrapolate_table: bool = False):
     """Plan through vigil.iter_windows, write the CSV piece by piece and the calendar; return
     the coverage tally."""
     api.constraint_overrides(constraints)  # option errors before any file is read
     targets = api.read_targets(targets_file, format=catalogue.format, columns=catalogue.columns,
-                               strict=catalogue.strict)
+                               strict=catalogue.strict, ephemeris_table=ephemeris_table,
+                               extrapolate_table=extrapolate_table)
     sites = api.read_sites(sites_file, site_names or None)
     tallies, kept, found = [], [], []
 
@@ -160,6 +162,11 @@ def windows(
     fmt: Optional[str] = FORMAT_OPTION,
     columns: Optional[Path] = COLUMNS_OPTION,
     strict: bool = STRICT_OPTION,
+    ephemeris_table: Optional[Path] = typer.Option(None, "--ephemeris-table", metavar="TABLE.csv",
+                                                   help="Predicted mid-times per epoch (target, epoch, mid_bjd_tdb, "
+                                                        "mid_err_d) replacing the named targets' ephemerides."),
+    extrapolate_table: bool = typer.Option(False, "--extrapolate-table", help="Beyond a table's span, continue it "
+                                           "linearly (otherwise dates outside it are refused)."),
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -173,7 +180,7 @@ def windows(
         refuse_overwrite((csv_path, ics_path), force)
         result = _run_windows(targets_file, sites_file, site, start, end, constraints, include_all, csv_path, ics_path,
                               exact, event.lower(), local_time, jobs, scheduler, chunk_dir,
-                              CatalogueOptions(fmt, columns, strict))
+                              CatalogueOptions(fmt, columns, strict), ephemeris_table, extrapolate_table)
     _print_summary(result, f"Transit windows {start} to {end}")
     for path in (csv_path, ics_path):
         if path is not None:
