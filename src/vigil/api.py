@@ -21,10 +21,11 @@ from vigil.ephemeris.table import read_ephemeris_table
 from vigil.sites import Site
 from vigil.errors import ArgumentError, InputError
 from vigil.export.calendar import write_windows_ics as write_ics
-from vigil.export.windows_csv import MINUTES_PER_DAY, windows_table
+from vigil.export.windows_csv import windows_table
 from vigil.export.windows_csv import write_windows_csv as write_csv
 from vigil.inputs import as_number, as_time, unknown_name_error
 from vigil.textfile import did_you_mean
+from vigil.time_units import MINUTES_PER_DAY
 from vigil.site_inputs import as_sites
 from vigil import sweep
 from vigil.cluster import workers_for
