@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 import collections
+import math
 import sys
-from dataclasses import replace
 from importlib import resources
 from pathlib import Path
 from typing import Optional
@@ -15,25 +15,20 @@ from rich.table import Table
 from rich.text import Text
 from typer.core import TyperCommand
 
-from vigil import __version__, api, catalog, notes
-from vigil.campaign.result import CampaignResult
-from vigil.campaign.run import run_campaign
-from vigil.campaign.spec import read_campaign
+from vigil import __version__, api, notes
+from vigil.campaign.outcome import CampaignOutcome
 from vigil.cli_support import LazyProgress, log, out, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, run_stamp, write_windows_ics
-from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.files import OutputTransaction
-from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.target_source import CatalogueOptions
-from vigil.textfile import did_you_mean
 from vigil.journal_cli import journal_app
 from vigil.names import clean_name
+from vigil.textfile import did_you_mean
 from vigil.refit_cli import run_refit
 from vigil.timescales import FIRST_PLAN_YEAR, LAST_PLAN_YEAR
-from vigil.cluster import workers_for
 from vigil.tally import add_tallies, coverage_tally
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
@@ -220,7 +215,7 @@ def demo(
         result = _run_windows(demo_file("targets.csv"), demo_file("sites.toml"), None, "2027-01-01", "2028-01-01", {},
                               False, out_dir / "windows.csv", out_dir / "windows.ics")
         _print_summary(result, "Demo: transit windows in 2027")
-        spec = read_campaign(demo_file("campaign.toml"))
+        spec = api.read_campaign(demo_file("campaign.toml"))
         campaign_result, paths = _run_campaign(spec, None, out_dir)
     _print_campaign(campaign_result, spec)
     names = ", ".join(p.name for p in [out_dir / "windows.csv", out_dir / "windows.ics", *paths])
@@ -231,10 +226,10 @@ CAMPAIGN_FILES = ("summary.csv", "forecast.csv", "ledger.csv", "resolution.png",
 
 
 def _years(value: float) -> str:
-    return f"{value:.1f}" if value != float("inf") else "never"
+    return f"{value:.1f}" if math.isfinite(value) else "never"
 
 
-def _print_campaign(result: CampaignResult, spec) -> None:
+def _print_campaign(result: CampaignOutcome, spec) -> None:
     table = Table(title=f"Campaign {spec.start.utc.iso[:10]} + {spec.horizon_years:g} yr: goal R = "
                         f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
                   title_justify="left")
@@ -263,35 +258,24 @@ def _verdict(row, spec) -> str:
     return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
 
 
-def _run_campaign(spec, target: str | None, out_dir: Path | None, engine: str = "fast", jobs: int = 1,
-                  scheduler: str | None = None, chunk_dir: Path | None = None, strict: bool = False):
-    """Run the whole campaign (a --target is answered from it, clashes included); write into `out_dir`
-    unless it is None. Return the result and the files written."""
-    targets = catalog.read_targets(spec.targets_file, replace(spec.targets_options, strict=strict))
-    if target is not None and target not in set(targets["name"]):
-        raise InputError(f"{spec.targets_file}: no target named {target!r}{did_you_mean(target, targets['name'])}")
-    sites = catalog.read_sites(spec.sites_file)
+def _run_campaign(spec, out_dir: Path | None, exact: bool = False, jobs: int = 1, scheduler: str | None = None,
+                  chunk_dir: Path | None = None, strict: bool = False):
+    """Run vigil.run_campaign (all targets) with a progress bar; write its files unless `out_dir` is None."""
     done = [0]
 
     def trials_done(count: int) -> None:
         done[0] += count
         progress.advance(done[0], spec.trials)
 
-    with LazyProgress("weather trials") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
-        result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=workers.count,
-                              executor=workers.executor, chunk_dir=workers.chunk_dir)
-    notes.report(result.notes)
-    if out_dir is None:
-        return result, []
-    paths = write_campaign_csvs(result, out_dir)
-    resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
-                    out_dir / "resolution.png")
-    hours_plot(result.yearly, out_dir / "hours.png")
-    return result, [*paths, out_dir / "resolution.png", out_dir / "hours.png"]
+    with LazyProgress("weather trials") as progress:
+        outcome = api.run_campaign(spec, strict=strict, exact=exact, jobs=jobs, scheduler=scheduler,
+                                   chunk_dir=chunk_dir, on_progress=trials_done)
+    return outcome, ([] if out_dir is None else outcome.write(out_dir))
 
 
-@app.command("campaign")
+@app.command("campaign", cls=_Command)
 def campaign_command(
+    context: typer.Context,
     campaign_file: Path = typer.Argument(..., metavar="CAMPAIGN.toml", help="Campaign TOML: start, horizon (years), targets and sites files, "
                                          "weather, allocation, instrument, spectral goal, trials, seed."),
     target: Optional[str] = typer.Option(None, "--target", metavar="NAME",
@@ -302,7 +286,7 @@ def campaign_command(
                                                 "none with --target]."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
-    jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    jobs: int = typer.Option(1, "--jobs", metavar="N", show_default=False, help=JOBS_HELP),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
     chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
     strict: bool = STRICT_OPTION,
@@ -315,18 +299,20 @@ def campaign_command(
     setup_logging()
     if out_dir is None and target is None:
         out_dir = Path("vigil-campaign")
-    with user_errors():
+    with user_errors(context):
         if target is not None:
             target = clean_name(target, "--target")
         files = [] if out_dir is None else [out_dir / name for name in CAMPAIGN_FILES]
         outputs = OutputTransaction(files, [campaign_file], force, create_folder=out_dir)
-        spec = read_campaign(campaign_file)
+        spec = api.read_campaign(campaign_file)
         outputs.check_inputs((spec.targets_file, spec.sites_file, spec.journal_file))
         with outputs.committing():
-            result, paths = _run_campaign(spec, target, out_dir, "reference" if exact else "fast", jobs, scheduler,
-                                          chunk_dir, strict)
+            result, paths = _run_campaign(spec, out_dir, exact, jobs, scheduler, chunk_dir, strict)
+        row = next((r for r in result.summary.itertuples(index=False) if r.target == target), None)
+        if target is not None and row is None:
+            names = result.summary["target"]
+            raise InputError(f"{spec.targets_file}: no target named {target!r}{did_you_mean(target, names)}")
     if target is not None:
-        row = next(r for r in result.summary.itertuples(index=False) if r.target == target)
         out.print(_verdict(row, spec))
         others = len(result.summary) - 1
         out.print(f"(the campaign ran with all {others + 1} targets, so clashes with the other {others} count, as "
