@@ -287,5 +287,5 @@ def test_refit_from_python_equals_the_command(tmp_path):
     refitted = vigil.refit(pd.read_csv(examples / "timings.csv", dtype=str, keep_default_na=False), TARGETS_FILE)
     from vigil.export.table import write_csv
 
-    write_csv(refitted.targets, tmp_path / "api.csv", text_columns=("name",))
+    write_csv(refitted.targets, tmp_path / "api.csv")
     assert (tmp_path / "cli.csv").read_bytes() == (tmp_path / "api.csv").read_bytes()
