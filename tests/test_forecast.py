@@ -16,7 +16,7 @@ from astropy.time import Time
 
 from vigil import forecast, geometry, spectrum
 from vigil.bodies import target_bodies
-from vigil.catalog import Site
+from vigil.sites import Site
 
 from test_campaign import GIANT, SPECTROGRAPH, START, campaign_spec, run, targets_table, windows_of
 

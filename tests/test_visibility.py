@@ -27,7 +27,7 @@ from conftest import DEMO_DIR
 TWILIGHT_TOLERANCE_S = 60.0  # REFERENCES.md: a fast path should stay within 60 s of PyEphem
 # The coverage cases run on both engines. Mid-time seen at the site vs the astropy forward
 # conversion: the reference engine solves it to < 0.1 ms (timescales.py), the fast one
-# claims 0.05 s of astropy (fast_path.site_mid_jd_utc).
+# claims 0.05 s of astropy (fast_engine.site_mid_jd_utc).
 ENGINES = ("reference", "fast")
 MID_TIME_TOLERANCE_S = {"reference": 1e-3, "fast": 0.05}
 # (site, an instant in the afternoon before a long winter night there)

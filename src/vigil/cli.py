@@ -11,8 +11,10 @@ import typer
 from astropy.time import Time
 from rich.table import Table
 
-from vigil import catalog, pipeline
-from vigil.campaign_spec import read_campaign
+from vigil import catalog
+from vigil.campaign.result import CampaignResult
+from vigil.campaign.run import run_campaign
+from vigil.campaign.spec import read_campaign
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
@@ -21,7 +23,7 @@ from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv
 from vigil.journal_cli import journal_app
-from vigil.visibility import Constraints
+from vigil.constraints import Constraints
 from vigil.sweep import plan_windows_chunked
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
@@ -175,7 +177,7 @@ def _years(value: float) -> str:
     return f"{value:.1f}" if value != float("inf") else "never"
 
 
-def _print_campaign(result: pipeline.CampaignResult, spec) -> None:
+def _print_campaign(result: CampaignResult, spec) -> None:
     table = Table(title=f"Campaign {spec.start.utc.iso[:10]} + {spec.horizon_years:g} yr: goal R = "
                         f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
                   title_justify="left")
@@ -218,7 +220,7 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
         progress.advance(done[0], spec.trials)
 
     with LazyProgress("weather trials") as progress:
-        result = pipeline.run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=jobs)
+        result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=jobs)
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")
@@ -310,7 +312,7 @@ def space_seasons(
     import pandas as pd
 
     from vigil.export.space_plots import annual_visibility_plot
-    from vigil.space_path import annual_windows
+    from vigil.engines.space import annual_windows
 
     setup_logging()
     with user_errors():

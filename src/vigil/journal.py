@@ -38,7 +38,7 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil.catalog import MIN_PLAUSIBLE_JD
+from vigil.timescales import MIN_PLAUSIBLE_JD
 from vigil.errors import InputError
 from vigil.export.table import iso_utc, write_csv
 

@@ -3,13 +3,13 @@
 A linear ephemeris predicts transit n (counted from T0) with the 1-sigma uncertainty
     sigma_T(n)^2 = sigma_T0^2 + n^2 sigma_P^2 + 2 n cov(T0, P)
 (standard first-order error propagation; vigil.ephemeris.mid_sigma_d). Windows are padded by
-K sigma_T(n) (visibility.Constraints.sigma_k). The ephemeris is stale from the first transit
+K sigma_T(n) (constraints.Constraints.sigma_k). The ephemeris is stale from the first transit
 whose padded uncertainty K sigma_T(n) exceeds a limit, either
   - a fraction of the transit duration, by default DURATION_FRACTION = 0.25 (a planning choice:
     past it, a K-sigma timing error moves a quarter of the transit out of a window centred on
     the prediction), or
   - the out-of-transit baseline wanted on each side (hours).
-K and the baseline default to those of the window padding (visibility.Constraints).
+K and the baseline default to those of the window padding (constraints.Constraints).
 
 Times are BJD_TDB (days); each stale date is also given as an astropy Time in TDB.
 """
@@ -26,7 +26,8 @@ from astropy.time import Time
 
 from vigil.ephemeris import mid_sigma_d
 from vigil.errors import InputError
-from vigil.visibility import STALE_DURATION_FRACTION, Constraints
+from vigil.constraints import Constraints
+from vigil.visibility import STALE_DURATION_FRACTION
 
 DURATION_FRACTION = STALE_DURATION_FRACTION
 DEFAULT_SIGMA_K = Constraints.sigma_k

@@ -4,7 +4,7 @@ Each chunk of consecutive targets is planned on its own (so working memory is bo
 the chunk, not by the catalog times the horizon; the result itself is of course whole); the
 chunk tables are then merged into the order that `plan_windows` gives the whole catalog: by
 mid-time, then target, then site. Every row is computed from its own transit alone (see
-vigil.fast_path), so the numbers are the same bit for bit. Worker processes are started
+vigil.engines.fast), so the numbers are the same bit for bit. Worker processes are started
 with the "spawn" method, so this works where fork is unavailable or unsafe (macOS, Windows,
 threads in the parent); each worker pays once for importing vigil (about a second or two).
 """
@@ -20,7 +20,7 @@ import pandas as pd
 from astropy.time import Time
 
 from vigil import windows
-from vigil.catalog import Site
+from vigil.sites import Site
 from vigil.errors import InputError
 
 # With chunk_targets=None, consecutive targets are grouped until their expected transits
