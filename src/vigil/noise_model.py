@@ -41,7 +41,7 @@ class NoiseModel:
     read_noise_e: float = 5.0
     spatial_pixels: float = 20.0
     spectral_pixels_per_um: float = 4000.0
-    red_noise_ppm: float = 150.0
+    red_noise_ppm: float = 100.0
     trapezoid: bool = True
     impact_parameter: float = 0.5
     excluded_um: tuple[tuple[float, float], ...] = TELLURIC_BANDS_UM
@@ -64,7 +64,7 @@ class NoiseModel:
 #: Ground default: a spectrograph with a wide slit (10" x 4" extraction), a comparison star as
 #: bright as the target, 60 s exposures read in 20 s, 5 e- read noise, 20 spatial pixels and
 #: 4000 pixels per um (about 2.5 A per pixel), Young's scintillation x 1.5 (Osborn et al. 2015),
-#: 150 ppm of systematics per bin and visit, b = 0.5 (the mean impact parameter of transiting
+#: 100 ppm of systematics per bin and visit, b = 0.5 (the mean impact parameter of transiting
 #: planets, b uniform on [0, 1)). Instrument values are vigil's assumptions for a typical
 #: low-resolution spectrophotometer (common practice, no source): set your own.
 GROUND = NoiseModel()

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 from typing import Callable
 
 import numpy as np
@@ -74,34 +75,41 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
     found, priority = _bodies(targets, spec)
     targets, stacked = _from_journal(spec, targets)
     candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs)
-    gain = {name: forecast.snr2_per_hour(body, spec) for name, body in found.items()}
+    ground = any(site.kind != "space" for site in sites.values())
+    gain = {name: forecast.snr2_per_hour(body, spec, candidates[candidates["target"] == name], ground)
+            for name, body in found.items()}
     scheduled = schedule.schedule(candidates, gain, priority, spec.per_target_per_semester,
                                   spec.per_site_per_semester)
     clear = _trials(scheduled, spec, on_progress)
-    rows, yearly, years = [], [], {}
+    rows, per_scenario, yearly, budgets, years = [], [], [], [], {}
     for name, body in found.items():
-        row, table, years[name] = forecast.target_summary(name, body, spec, scheduled, clear,
-                                                          stacked.get(name, (0.0, 0.0)))
-        row["limited_by"] = _limit(row, body, spec, scheduled, candidates, targets, sites, engine,
-                                   stacked.get(name, (0.0, 0.0))[0])
-        rows.append(row)
-        yearly.append(table)
-    return CampaignResult(pd.DataFrame(rows), pd.concat(yearly, ignore_index=True), _ledger(scheduled, clear), years)
+        result = forecast.target_forecast(name, body, spec, scheduled, clear, ground, stacked.get(name, (0.0, 0.0)))
+        limits = _limits(name, spec, scheduled, candidates, targets, sites, engine, stacked.get(name, (0.0, 0.0))[0])
+        dominant = forecast.dominant_term(result.budget)
+        for row in result.rows:
+            row["limited_by"] = forecast.limiting_factor(row, spec.goal_snr, *limits, dominant)
+        reachable = [row["scenario"] for row in result.rows if row["reachable"]]
+        rows.append({**result.rows[0], "reachable_scenarios": " ".join(reachable)})
+        per_scenario.extend(result.rows)
+        yearly.append(result.yearly)
+        budgets.append(result.budget)
+        years[name] = result.years_to_goal
+    return CampaignResult(pd.DataFrame(rows), pd.concat(yearly, ignore_index=True), _ledger(scheduled, clear), years,
+                          pd.DataFrame(per_scenario), pd.concat(budgets, ignore_index=True))
 
 
-def _limit(row, body, spec, scheduled, candidates, targets, sites, engine, prior_in_h: float) -> str:
-    """limited_by for one target; hours already stacked (journal) count towards every option."""
-    name = row["target"]
-    mine = candidates[candidates["target"] == name]
-    ratio = float(mine["baseline_h"].sum() / mine["in_transit_h"].sum()) if len(mine) else 1.0
+def _limits(name, spec, scheduled, candidates, targets, sites, engine, prior_in_h: float):
+    """Expected in-transit hours of the schedule, of every counted window, and (a function,
+    computed once when first needed) of every window without timing padding; hours already
+    stacked (journal) count towards each."""
 
+    @functools.cache
     def without_padding() -> float:
         unpadded = _candidates(targets[targets["name"] == name], sites, spec, {**spec.constraints, "sigma_k": 0.0}, engine)
-        return prior_in_h + forecast.expected_in_transit_h(unpadded, spec, name)
+        return prior_in_h + forecast.expected_in_transit_h(unpadded, spec.clear_fraction, name)
 
-    return forecast.limiting_factor(row, body, spec, prior_in_h + forecast.expected_in_transit_h(scheduled, spec, name),
-                                    prior_in_h + forecast.expected_in_transit_h(candidates, spec, name),
-                                    without_padding, ratio)
+    return (prior_in_h + forecast.expected_in_transit_h(scheduled, spec.clear_fraction, name),
+            prior_in_h + forecast.expected_in_transit_h(candidates, spec.clear_fraction, name), without_padding)
 
 
 def _ledger(scheduled: pd.DataFrame, clear: np.ndarray) -> pd.DataFrame:

@@ -28,7 +28,8 @@ def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str,
     Counted are the windows of the `coverage` classes observable for at least `min_fraction`
     of the transit. A visit spans the window's observable stretch; in-transit hours are its
     overlap with [ingress, egress], baseline hours the rest of it; telescope hours add
-    `overhead_h`.
+    `overhead_h`. The conditions at mid-transit (airmass, Moon) and the site's elevation and
+    kind are kept for the noise budget.
     """
     counted = windows["coverage"].isin(coverage) & (windows["observable_fraction"] >= min_fraction)
     w = windows[counted].reset_index(drop=True)
@@ -38,6 +39,8 @@ def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str,
     # the local noon-to-noon day (JD starts at noon UT); a space site keeps UTC days
     east_deg = {name: 0.0 if site.kind == "space" else site.longitude_deg for name, site in sites.items()}
     local_day = np.floor(w["mid_jd_utc"].to_numpy() + w["site"].map(east_deg).to_numpy() / 360.0)
+    ground = w["site"].map({name: site.kind != "space" for name, site in sites.items()}).astype(bool)
+    elevation = w["site"].map({name: site.elevation_m for name, site in sites.items()})
     return pd.DataFrame({
         "target": w["target"], "site": w["site"], "epoch": w["epoch"], "coverage": w["coverage"],
         "mid_jd_utc": w["mid_jd_utc"], "start_jd_utc": start, "end_jd_utc": end,
@@ -45,6 +48,8 @@ def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str,
         "baseline_h": (end - start - inside) * HOURS_PER_DAY,
         "telescope_h": (end - start) * HOURS_PER_DAY + overhead_h,
         "night": local_day.astype(np.int64), "month": months, "half_year": years * 2 + (months > 6),
+        "airmass": w["airmass_mid"].astype(float), "moon_illumination": w["moon_illumination"].astype(float),
+        "moon_sep_deg": w["moon_sep_deg"].astype(float), "elevation_m": elevation.astype(float), "ground": ground,
     })
 
 
