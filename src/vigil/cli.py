@@ -19,7 +19,7 @@ from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
-from vigil.export.plots import hours_plot, resolution_plot
+from vigil.export.plots import budget_plot, hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv
 from vigil.journal_cli import journal_app
@@ -170,7 +170,8 @@ def demo(
     out.print(f"wrote into {out_dir}/: {names}")
 
 
-CAMPAIGN_FILES = ("summary.csv", "forecast.csv", "ledger.csv", "resolution.png", "hours.png")
+CAMPAIGN_FILES = ("summary.csv", "scenarios.csv", "forecast.csv", "ledger.csv", "budget.csv", "resolution.png",
+                  "hours.png", "budget.png")
 
 
 def _years(value: float) -> str:
@@ -181,13 +182,15 @@ def _print_campaign(result: CampaignResult, spec) -> None:
     table = Table(title=f"Campaign {spec.start.utc.iso[:10]} + {spec.horizon_years:g} yr: goal R = "
                         f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
                   title_justify="left")
-    for column in ("target", "transits/yr", "in-transit h/yr", "years to goal (p10 / p50 / p90)", "verdict"):
-        table.add_column(column, justify="left" if column in ("target", "verdict") else "right")
+    for column in ("target", "transits/yr", "in-transit h/yr", "years to goal (p10 / p50 / p90)", "verdict",
+                   "reachable scenarios"):
+        table.add_column(column, justify="left" if column in ("target", "verdict", "reachable scenarios") else "right")
     for row in result.summary.itertuples(index=False):
         verdict = "[green]reachable[/green]" if row.reachable else f"[red]not reached[/red]: {row.limited_by}"
-        table.add_row(row.target, f"{row.transits_per_year:.1f}", f"{row.in_transit_hours_per_year:.1f}",
+        table.add_row(f"{row.target} ({row.scenario})", f"{row.transits_per_year:.1f}",
+                      f"{row.in_transit_hours_per_year:.1f}",
                       " / ".join(_years(v) for v in (row.years_to_goal_p10, row.years_to_goal_p50, row.years_to_goal_p90)),
-                      verdict)
+                      verdict, row.reachable_scenarios or "none")
     out.print(table)
 
 
@@ -196,13 +199,16 @@ def _verdict(row, spec) -> str:
         return (f"{row.target}: worth pursuing: R = {spec.goal_resolution:g} at SNR {spec.goal_snr:g} is reached after "
                 f"{_years(row.years_to_goal_p50)} years (median; 10-90 % of trials: {_years(row.years_to_goal_p10)}"
                 f" to {_years(row.years_to_goal_p90)}), collecting {row.in_transit_hours_per_year:.1f} in-transit h/yr.")
+    reason, _, term = row.limited_by.partition(" (")
     why = {"noise floor": f"the noise floor caps the SNR per bin at {row.snr_cap:.2f}",
            "weather": "enough windows are scheduled, but weather loses too many in most trials",
            "allocation": "the allocation caps and clashes with other targets leave too few visits",
            "ephemeris too stale": "the growing timing uncertainty widens the windows until they no longer fit a night",
            "too few windows": f"its observable windows give {row.in_transit_hours_per_year:.1f} in-transit h/yr, "
-                              f"against {row.hours_needed:.0f} h needed"}[row.limited_by]
-    return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
+                              f"against {row.hours_needed:.0f} h needed"}[reason]
+    largest = f"; the largest noise term is {term.rstrip(')')}" if term else ""
+    others = f" (reachable under: {row.reachable_scenarios})" if row.reachable_scenarios else ""
+    return f"{row.target}: not within {spec.horizon_years:g} years in scenario {row.scenario}: {why}{largest}{others}."
 
 
 def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1):
@@ -225,7 +231,8 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")
     hours_plot(result.yearly, out_dir / "hours.png")
-    return spec, result, [*paths, out_dir / "resolution.png", out_dir / "hours.png"]
+    budget_plot(result.budget, out_dir / "budget.png")
+    return spec, result, [*paths, out_dir / "resolution.png", out_dir / "hours.png", out_dir / "budget.png"]
 
 
 @app.command("campaign")
@@ -240,8 +247,9 @@ def campaign_command(
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
-    Writes summary.csv, forecast.csv (per target and campaign year), ledger.csv (visits of one
-    simulated campaign with their weather), resolution.png and hours.png.
+    Writes summary.csv, scenarios.csv (verdict per atmosphere scenario), forecast.csv (per target
+    and campaign year), ledger.csv (visits of one simulated campaign with their weather),
+    budget.csv (noise terms of the median visit), resolution.png, hours.png and budget.png.
     """
     setup_logging()
     with user_errors():

@@ -124,7 +124,8 @@ def at_year_ends(information: np.ndarray, clear: np.ndarray, year_of_visit: np.n
     out = []
     for year in range(years):
         block = year_of_visit == year
-        total = total + clear[:, block].astype(float) @ flat[block]
+        # einsum rather than a BLAS product: these are small and BLAS threads only contend
+        total = total + np.einsum("tv,vk->tk", clear[:, block].astype(float), flat[block])
         per_bin = total.reshape(clear.shape[0], information.shape[1], *tail)
         out.append(deciding(np.moveaxis(per_bin, 1, -1), fraction))
     return np.stack(out, axis=1)

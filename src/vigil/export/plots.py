@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import io
 
+import numpy as np
 import pandas as pd
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
@@ -50,3 +51,20 @@ def hours_plot(yearly: pd.DataFrame, path) -> None:
         per_year = table["in_transit_hours_p50"].diff().fillna(table["in_transit_hours_p50"])
         axes.step(table["calendar_year"], per_year, where="mid", label=target)
     _save(figure, axes, "calendar year", "in-transit hours stacked that year (median)", "In-transit hours per year", path)
+
+
+def budget_plot(budget: pd.DataFrame, path) -> None:
+    """Share of each noise term in the stacked variance of each target's deciding bin (median
+    visit, stacked as often as the median trial observes it), one stacked bar per target."""
+    figure = Figure(figsize=(8, 5))
+    axes = figure.add_subplot()
+    shares = budget.pivot(index="target", columns="term", values="share_of_variance")
+    shares = shares.loc[budget["target"].unique(), budget["term"].unique()]
+    left = np.zeros(len(shares))
+    for term in shares.columns:
+        axes.barh(shares.index, shares[term], left=left, label=term)
+        left += shares[term].to_numpy()
+    axes.invert_yaxis()
+    axes.set_xlim(0.0, 1.0)
+    _save(figure, axes, "share of the stacked variance in the deciding bin", "",
+          "Noise budget at the goal resolution (median visit)", path)
