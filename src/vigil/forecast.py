@@ -96,10 +96,15 @@ def snr2_per_hour(body: Body, spec: CampaignSpec, visits: pd.DataFrame, ground: 
     return delta**2 * _deciding_at_goal(body, spec, visit) / float(visit["in_transit_h"].iloc[0])
 
 
-def _with_prior(mine: pd.DataFrame, clear_mine: np.ndarray, visit: pd.DataFrame, prior_h, start_jd: float):
-    """Prepend the hours stacked before the start as one always-clear visit at the start."""
-    prior = visit.assign(in_transit_h=prior_h[0], baseline_h=prior_h[1], end_jd_utc=start_jd)
-    frame = pd.concat([prior, mine], ignore_index=True)
+def _prior_scale(prior_h, visit: pd.DataFrame) -> float:
+    """How many median visits the hours stacked before the start stand for (their own red
+    noise averages down with that many visits; their baseline is taken at the median ratio)."""
+    return prior_h[0] / float(visit["in_transit_h"].iloc[0])
+
+
+def _with_prior(mine: pd.DataFrame, clear_mine: np.ndarray, visit: pd.DataFrame, start_jd: float):
+    """Prepend one always-clear median visit at the start, for the hours stacked before it."""
+    frame = pd.concat([visit.assign(end_jd_utc=start_jd), mine], ignore_index=True)
     return frame, np.concatenate([np.ones((clear_mine.shape[0], 1), dtype=bool), clear_mine], axis=1)
 
 
@@ -185,8 +190,11 @@ def target_forecast(target: str, body: Body, spec: CampaignSpec, visits: pd.Data
     mine = visits.iloc[rows]
     visit = median_visit(mine, ground)
     start_jd = spec.start.utc.jd
-    frame, clear_mine = _with_prior(mine, clear[:, rows], visit, prior_h, start_jd)
+    frame, clear_mine = _with_prior(mine, clear[:, rows], visit, start_jd)
     a, b = _parts(body, spec, frame)
+    scale = _prior_scale(prior_h, visit)
+    a[0], b[0] = (a[0] / scale, b[0] / scale) if scale > 0 else (np.inf, np.inf)
+    frame.loc[0, "in_transit_h"] = prior_h[0]
     fraction, floor = spec.goal_bin_fraction, spec.instrument.noise_floor_ppm * 1e-6
     deciding_after = stacking.cumulative_deciding(stacking.visit_information(a, b, spec.goal_resolution), clear_mine,
                                                   fraction)

@@ -44,7 +44,7 @@ def inverse_times_s(visits: pd.DataFrame, in_transit_weight: float) -> np.ndarra
     """
     seconds_in = visits["in_transit_h"].to_numpy(dtype=float) * in_transit_weight * _SECONDS_PER_HOUR
     seconds_out = visits["baseline_h"].to_numpy(dtype=float) * _SECONDS_PER_HOUR
-    with np.errstate(divide="ignore"):
+    with np.errstate(divide="ignore", over="ignore"):
         return 1.0 / seconds_in + 1.0 / seconds_out
 
 
@@ -90,14 +90,19 @@ def term_variances(flux_w_m2_um: np.ndarray, instrument: Instrument, noise: Nois
     scint = np.where(ground[:, 0], scint * (1.0 if comparison is None else 2.0), 0.0)
     per_time = inverse_times_s(visits, in_transit_weight)[:, None]
     shape = target.shape
-    return {
-        "photon_target": per_time / target,
-        "photon_comparison": np.zeros(shape) if comparison is None else per_time / comparison,
-        "sky": per_time * sky * stars_factor,
-        "read": per_time * read_rate[None, :] * stars_factor,
-        "scintillation": per_time * np.broadcast_to(scint[:, None], shape),
-        "red_noise": np.full(shape, (noise.red_noise_ppm * 1e-6) ** 2),
-    }
+    with np.errstate(over="ignore", invalid="ignore"):
+        parts = {
+            "photon_target": per_time / target,
+            "photon_comparison": np.zeros(shape) if comparison is None else per_time / comparison,
+            "sky": per_time * sky * stars_factor,
+            "read": per_time * read_rate[None, :] * stars_factor,
+            "scintillation": per_time * np.broadcast_to(scint[:, None], shape),
+            "red_noise": np.full(shape, (noise.red_noise_ppm * 1e-6) ** 2),
+        }
+    measures_nothing = ~np.isfinite(per_time[:, 0])
+    for values in parts.values():
+        values[measures_nothing] = np.inf
+    return parts
 
 
 def variance_parts(flux_w_m2_um: np.ndarray, instrument: Instrument, noise: NoiseModel, visits: pd.DataFrame,

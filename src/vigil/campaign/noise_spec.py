@@ -68,15 +68,20 @@ def _sites_kind(sites_file: Path, names: tuple[str, ...]) -> str:
     return "space" if kinds == {"space"} else "ground"
 
 
+def warn_assumed(path: Path, table: dict, noise: noise_model.NoiseModel) -> None:
+    """Warn, naming them, when defaults were assumed for a file without [instrument] kind."""
+    assumed = sorted(set(NOISE_KEYS) - set(table))
+    if "kind" not in table and assumed:
+        kind = "ground" if noise.comparison_mag_delta is not None or noise.extinction else "space"
+        log.warning("%s: [instrument] kind not given: %s defaults assumed for %s (README, Noise budget)",
+                    path, kind, ", ".join(assumed))
+
+
 def read_noise(path: Path, table: dict, sites_file: Path, site_names: tuple[str, ...]) -> noise_model.NoiseModel:
     """The NoiseModel of an [instrument] table (module docstring)."""
     kind = table.get("kind")
     if kind is None:
         kind = _sites_kind(sites_file, site_names)
-        assumed = sorted(set(NOISE_KEYS) - set(table))
-        if assumed:
-            log.warning("%s: [instrument] kind not given: %s defaults assumed for %s (README, Noise budget)",
-                        path, kind, ", ".join(assumed))
     if kind not in ("ground", "space"):
         raise InputError(f"{path}: [instrument] kind: expected \"ground\" or \"space\", got {kind!r}")
     base = noise_model.GROUND if kind == "ground" else noise_model.SPACE

@@ -247,4 +247,5 @@ def read_campaign(path: str | Path) -> CampaignSpec:
         **_refresh(path, _table(path, document, "refresh", required=False)),
     )
     _warn_unknown(path, document, sites)
+    noise_spec.warn_assumed(path, instrument, spec.noise)
     return spec
