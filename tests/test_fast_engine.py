@@ -308,7 +308,7 @@ def test_tabulated_moon_matches_direct_evaluation_and_astropy():
     # < 7 km at 406,000 km.
     # Outside reference: astropy get_body('moon') (geocentric) in TETE, within places_of_date's 0.02 deg.
     jd_tt = timescales.jd_tt_from_utc(JD_UTC)
-    moon = fast_engine.MOON_TABLE.at(JD_UTC)
+    moon = fast_engine.MOON_TABLE.at(JD_UTC, fast_engine.MOON_XYZ)
     direct = np.column_stack(places_of_date.moon_geocentric_km(jd_tt))
     assert np.max(_angle_arcsec(moon, direct)) < 1.0
     assert np.max(np.abs(np.linalg.norm(moon, axis=1) - np.linalg.norm(direct, axis=1))) < 7.0
@@ -317,6 +317,15 @@ def test_tabulated_moon_matches_direct_evaluation_and_astropy():
         astropy_moon = get_body("moon", times).transform_to(TETE(obstime=times))
     astropy_xyz = astropy_moon.cartesian.xyz.to_value(u.km).T
     assert np.max(_angle_arcsec(moon, astropy_xyz)) / 3600.0 < 0.02
+
+
+def test_tabulated_moon_illumination_matches_direct_evaluation():
+    # Linear over 1 h: k = (1 + cos i) / 2 with the phase angle i turning at < 15.5 deg/day
+    # (0.27 rad/day), so |k''| < 0.27^2 / 2 per day^2 and the error < (1/24 d)^2 / 8 * 0.037 < 1e-5.
+    # (The direct evaluation is checked against PyEphem in test_places_and_local_sky.)
+    jd_tt = timescales.jd_tt_from_utc(JD_UTC)
+    tabulated = fast_engine.MOON_TABLE.at(JD_UTC, fast_engine.MOON_ILLUMINATION)[:, 0]
+    assert np.max(np.abs(tabulated - places_of_date.moon_illuminated_fraction(jd_tt))) < 1e-5
 
 
 def test_tabulated_earth_matches_astropy_builtin_ephemeris():

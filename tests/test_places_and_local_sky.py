@@ -19,6 +19,7 @@ from astropy.coordinates import (
 )
 from astropy.time import Time
 
+from authorities import sun_moon, time_scales
 from vigil import local_sky, places_of_date, timescales
 from vigil.errors import InputError
 
@@ -35,7 +36,7 @@ SUN_BOUND_DEG = 0.012
 MOON_BOUND_DEG = 0.02
 STAR_BOUND_ARCSEC = 1.0
 SIDEREAL_BOUND_S = 0.02
-TWILIGHT_BOUND_S = 60.0  # /work/shared/REFERENCES.md: a fast path should stay within 60 s of PyEphem
+TWILIGHT_BOUND_S = sun_moon.TWILIGHT_TOLERANCE_VS_PYEPHEM_S
 
 EPHEM_EPOCH_JD = 2415020.0  # PyEphem dates count days from 1899-12-31 12:00 UT (PyEphem docs)
 RNG = np.random.default_rng(20240611)
@@ -64,20 +65,17 @@ def _tete_radec(coord, obstime, location=None):
 
 
 def test_gmst_matches_meeus_examples_12a_12b():
-    # Meeus, Astronomical Algorithms 2nd ed., Examples 12.a and 12.b (from memory; also in
-    # /work/shared/REFERENCES.md): 1987-04-10 0h UT and 19h21m00s UT.
-    for jd_ut1, expected in [
-        (2446895.5, _hms_to_deg(13, 10, 46.3668)),
-        (2446895.5 + (19 + 21 / 60) / 24, _hms_to_deg(8, 34, 57.0896)),
-    ]:
+    # Meeus, Astronomical Algorithms 2nd ed., Examples 12.a and 12.b (authorities.time_scales).
+    for jd_ut1, hms in [time_scales.GMST_MEEUS_12A, time_scales.GMST_MEEUS_12B]:
+        expected = _hms_to_deg(*hms)
         diff_s = places_of_date.wrap180(local_sky.gmst_deg(jd_ut1) - expected) * 240.0
         assert abs(diff_s) < 0.01
 
 
 def test_gast_matches_meeus_example_12a():
-    # Meeus, Example 12.a: apparent sidereal time 13h10m46.1351s at 1987-04-10 0h UT (from memory).
-    jd = 2446895.5
-    diff_s = places_of_date.wrap180(local_sky.gast_deg(jd, jd) - _hms_to_deg(13, 10, 46.1351)) * 240.0
+    # Meeus, Example 12.a: apparent sidereal time at 1987-04-10 0h UT (authorities.time_scales).
+    jd, hms = time_scales.GAST_MEEUS_12A
+    diff_s = places_of_date.wrap180(local_sky.gast_deg(jd, jd) - _hms_to_deg(*hms)) * 240.0
     assert abs(diff_s) < 0.05
 
 
@@ -114,10 +112,9 @@ def test_local_sidereal_time_with_ut1_taken_as_utc():
 
 
 def test_sun_matches_meeus_example_25b():
-    # Meeus, Example 25.b: apparent Sun 1992-10-13 0h TD, RA 13h13m30.749s, Dec -7d47m01.74s
-    # (from memory; /work/shared/REFERENCES.md).
-    ra, dec = places_of_date.sun_radec_deg(2448908.5)
-    sep = _sep_deg(ra, dec, _hms_to_deg(13, 13, 30.749), -(7 + 47 / 60 + 1.74 / 3600))
+    # Meeus, Example 25.b: apparent Sun 1992-10-13 0h TD (authorities.sun_moon).
+    ra, dec = places_of_date.sun_radec_deg(sun_moon.SUN_MEEUS_25B_JD_TT)
+    sep = _sep_deg(ra, dec, _hms_to_deg(*sun_moon.SUN_MEEUS_25B_RA_HMS), sun_moon.SUN_MEEUS_25B_DEC_DEG)
     assert sep < SUN_BOUND_DEG
 
 
@@ -133,10 +130,9 @@ def test_sun_matches_astropy_over_a_century():
 
 
 def test_moon_matches_meeus_example_47a():
-    # Meeus, Example 47.a: 1992-04-12 0h TD, apparent RA 134.688470 deg, Dec +13.768368 deg
-    # (from memory; /work/shared/REFERENCES.md).
-    ra, dec = places_of_date.moon_radec_deg(2448724.5)
-    assert _sep_deg(ra, dec, 134.688470, 13.768368) < MOON_BOUND_DEG
+    # Meeus, Example 47.a: apparent Moon 1992-04-12 0h TD (authorities.sun_moon).
+    ra, dec = places_of_date.moon_radec_deg(sun_moon.MOON_MEEUS_47A_JD_TT)
+    assert _sep_deg(ra, dec, sun_moon.MOON_MEEUS_47A_RA_DEG, sun_moon.MOON_MEEUS_47A_DEC_DEG) < MOON_BOUND_DEG
 
 
 def test_moon_geocentric_matches_astropy_over_a_century():
@@ -172,8 +168,9 @@ def test_moon_illuminated_fraction_matches_pyephem():
 
 
 def test_moon_illuminated_fraction_meeus_example_48a():
-    # Meeus, Example 48.a: 1992-04-12 0h TD, k = 0.6786 (from memory).
-    assert abs(places_of_date.moon_illuminated_fraction(2448724.5) - 0.6786) < 0.01
+    # Meeus, Example 48.a: illuminated fraction at 1992-04-12 0h TD (authorities.sun_moon).
+    fraction = places_of_date.moon_illuminated_fraction(sun_moon.MOON_MEEUS_47A_JD_TT)
+    assert abs(fraction - sun_moon.MOON_MEEUS_48A_ILLUMINATED) < 0.01
 
 
 # --- Precession, altitude, refraction -----------------------------------------------------------
@@ -300,12 +297,12 @@ DARK_SITES = [(-30.0, -70.7, 2200.0), (19.0, -155.0, 3000.0), (45.0, 7.5, 500.0)
               (68.0, 27.0, 300.0), (80.0, 15.0, 10.0)]
 
 
-@pytest.mark.parametrize("sun_alt_deg", [-6.0, -12.0, -18.0])
+@pytest.mark.parametrize("sun_alt_deg", sorted(sun_moon.TWILIGHT_SUN_ALT_DEG.values(), reverse=True))
 @pytest.mark.parametrize("lat_deg, lon_deg, elev_m", DARK_SITES)
 def test_dark_intervals_match_pyephem(lat_deg, lon_deg, elev_m, sun_alt_deg):
     # PyEphem Observer (pressure=0, use_center=True, horizon=sun_alt): each start is the next
     # setting after the previous end, each end the next rising after its start; this chain also
-    # shows that no interval is missing. Twilight levels: common practice (REFERENCES.md).
+    # shows that no interval is missing. Twilight levels: authorities.sun_moon.
     jd_start = Time("2031-01-01T00:00:00", scale="utc").jd
     jd_end = jd_start + 365.0
     starts, ends = local_sky.dark_intervals(lat_deg, lon_deg, elev_m, jd_start, jd_end, sun_alt_deg)

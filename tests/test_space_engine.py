@@ -3,7 +3,7 @@
 References: astropy (get_sun, get_body with the builtin ephemeris, the GCRS frame,
 Time.light_travel_time) for positions and times; the geometry of the ecliptic (a pole sits
 90 deg from the Sun all year; on the ecliptic the elongation runs 0-180-0 deg at the Sun's
-mean rate, 360 deg / 365.2422 d = 0.9856 deg/day, from memory); the definition of the
+mean rate, 360 deg / tropical year = 0.9856 deg/day, authorities.sun_moon); the definition of the
 interruptions and blackouts (sites.SpaceSettings), checked by brute-force sampling.
 All sites and targets are invented.
 """
@@ -17,6 +17,7 @@ import pytest
 from astropy.coordinates import GCRS, BarycentricMeanEcliptic, EarthLocation, SkyCoord, get_body, get_sun, solar_system_ephemeris
 from astropy.time import Time
 
+from authorities import sun_moon
 from vigil import windows
 from vigil.catalog import read_sites
 from vigil.engines import space as space_engine
@@ -29,8 +30,8 @@ from conftest import DEMO_DIR
 SUN_ANGLE_TOLERANCE_DEG = 0.05  # the brief's bound; places_of_date's Sun is good to about 0.01 deg
 MOON_TOLERANCE_DEG = 0.05  # places_of_date's Moon: main terms of Meeus ch. 47, about 0.02 deg
 MID_TOLERANCE_S = 0.1
-SUN_MEAN_RATE_DEG_PER_D = 360.0 / 365.2422  # tropical year (from memory)
-# The Earth's orbital eccentricity e = 0.0167 (from memory) makes the Sun's apparent rate vary
+SUN_MEAN_RATE_DEG_PER_D = 360.0 / sun_moon.TROPICAL_YEAR_D
+# The Earth's orbital eccentricity e = 0.0167 (authorities.sun_moon) makes the Sun's apparent rate vary
 # by about +-2e = +-3.3 %: +-1.7 days on a 50.7-day window.
 WINDOW_LENGTH_TOLERANCE_D = 2.0
 YEAR = 2031

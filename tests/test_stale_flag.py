@@ -3,7 +3,7 @@
 import numpy as np
 import pandas as pd
 
-from vigil.ephemeris import mid_sigma_d
+from vigil.ephemeris.models import mid_sigma_d
 from vigil.constraints import Constraints
 from vigil.visibility import pad_windows
 

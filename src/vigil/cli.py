@@ -2,11 +2,14 @@
 
 from __future__ import annotations
 
+import collections
 import sys
+from dataclasses import replace
 from importlib import resources
 from pathlib import Path
 from typing import Optional
 
+import pandas as pd
 import typer
 from astropy.time import Time
 from rich.table import Table
@@ -15,16 +18,20 @@ from vigil import catalog
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.run import run_campaign
 from vigil.campaign.spec import read_campaign
-from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
+from vigil.cli_support import LazyProgress, did_you_mean, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.plots import budget_plot, hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
-from vigil.export.windows_csv import write_windows_csv
+from vigil.export.windows_csv import write_windows_csv_pieces
+from vigil.hosts import host_of, mark_shared
+from vigil.target_source import CatalogueOptions
 from vigil.journal_cli import journal_app
 from vigil.constraints import Constraints
-from vigil.sweep import plan_windows_chunked
+from vigil.cluster import workers_for
+from vigil.sweep import iter_windows
+from vigil.tally import add_tallies, coverage_tally
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
                        "how uncertain their times are, what a multi-year campaign collects and when the stacked "
@@ -43,29 +50,43 @@ def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dic
         return sites
     unknown = [n for n in names if n not in sites]
     if unknown:
-        raise InputError(f"{sites_file}: no site named {unknown[0]!r}; sites are {', '.join(sites)}")
+        raise InputError(f"{sites_file}: no site named {unknown[0]!r}{did_you_mean(unknown[0], sites)} "
+                         f"(sites are {', '.join(sites)})")
     return {n: sites[n] for n in names}
 
 
-def _print_summary(windows, title: str) -> None:
-    if windows.empty:
+def _print_summary(tally, title: str) -> None:
+    """Print a coverage tally (vigil.tally) as a table."""
+    if tally.empty:
         out.print(f"{title}: no observable transits.")
         return
     table = Table(title=title, title_justify="left")
     for column in ("target", "site", "full", "ingress", "egress", "partial", "next full window (UTC)"):
         table.add_column(column, justify="left" if column in ("target", "site") else "right")
-    for (target, site), group in windows.groupby(["target", "site"], sort=True):
-        counts = group["coverage"].value_counts()
-        full = group[group["coverage"] == "full"]
-        first = iso_utc(full["window_start_jd_utc"].to_numpy()[:1])[0][:16].replace("T", " ") if len(full) else "-"
-        table.add_row(target, site, *(str(counts.get(c, 0)) for c in ("full", "ingress", "egress", "partial")), first)
+    for row in tally.itertuples(index=False):
+        first = iso_utc([row.first_full_jd_utc])[0][:16].replace("T", " ") or "-"
+        table.add_row(row.target, row.site, *(str(getattr(row, c)) for c in ("full", "ingress", "egress", "partial")),
+                      first)
     out.print(table)
     out.print(f"[dim]{SAFETY_NOTE}[/dim]")
 
 
-JOBS_HELP = "Worker processes for the windows computation (targets are split into chunks) [default 1]."
+JOBS_HELP = ("Worker processes for the windows computation (the targets and the span are split into chunks); "
+             "with --scheduler local, the cluster's workers [default 1].")
+SCHEDULER_HELP = ("Run the windows computation on a dask cluster (optional extra vigil[dask]): 'local' starts "
+                  "one on this machine, tcp://HOST:PORT joins a running scheduler and its workers.")
+CHUNK_DIR_HELP = ("With --scheduler: folder where workers leave their results as Parquet files; workers on "
+                  "other machines must see it too [default: a temporary folder here].")
 EXACT_HELP = ("Use the exact astropy engine (samples every 5 min; about 100x slower) instead of the fast "
               "analytic one (edges within about a minute of it).")
+
+
+FORMAT_OPTION = typer.Option(None, "--format", metavar="FORMAT", help="Targets file format: csv, ecsv, votable or "
+                             "ipac [default by extension: .csv, .ecsv, .xml/.vot, .tbl]; any case.")
+COLUMNS_OPTION = typer.Option(None, "--columns", metavar="MAP.toml", help="Column mapping: which column of your "
+                              "catalogue holds each vigil field, in which unit (see examples/).")
+STRICT_OPTION = typer.Option(False, "--strict", help="Refuse a targets file with a row that lacks a required value "
+                             "(otherwise such rows are left out with a warning).")
 
 
 OPTION_OF = {"min_altitude_deg": "--min-altitude", "twilight": "--twilight", "baseline_h": "--baseline",
@@ -88,19 +109,35 @@ def _engine(exact: bool) -> str:
 
 def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
                  include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast",
-                 event: str = "transit", local_time: bool = False, jobs: int = 1):
-    targets = catalog.read_targets(targets_file)
+                 event: str = "transit", local_time: bool = False, jobs: int = 1, scheduler: str | None = None,
+                 chunk_dir: Path | None = None, catalogue: CatalogueOptions = CatalogueOptions()):
+    """Plan, write the CSV piece by piece and the calendar; return the coverage tally."""
+    targets = catalog.read_targets(targets_file, catalogue)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
-    with LazyProgress("windows (targets)") as progress:
-        windows = plan_windows_chunked(targets, sites, overrides, _parse_date(start, "--start"),
-                                       _parse_date(end, "--end"), jobs=jobs, engine=engine,
-                                       include_unobservable=include_all, event=event,
-                                       on_chunk=lambda _, done, total: progress.advance(done, total))
-    if csv_path is not None:
-        write_windows_csv(windows, csv_path, {n: s.timezone for n, s in sites.items()} if local_time else None)
+    start_time, end_time = _parse_date(start, "--start"), _parse_date(end, "--end")
+    tallies, kept = [], []
+
+    def tallied(pieces):
+        for piece in pieces:
+            tallies.append(coverage_tally(piece))
+            if ics_path is not None:
+                kept.append(piece)
+            yield piece
+
+    with LazyProgress("windows (chunks)") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
+        pieces = tallied(mark_shared(iter_windows(targets, sites, overrides, start_time, end_time, jobs=workers.count,
+                                                  engine=engine, include_unobservable=include_all, event=event,
+                                                  on_chunk=lambda _, done, total: progress.advance(done, total),
+                                                  executor=workers.executor, chunk_dir=workers.chunk_dir),
+                                     host_of(targets)))
+        if csv_path is not None:
+            write_windows_csv_pieces(pieces, csv_path,
+                                     {n: s.timezone for n, s in sites.items()} if local_time else None)
+        else:
+            collections.deque(pieces, maxlen=0)
     if ics_path is not None:
-        write_windows_ics(windows, ics_path, {n: s.timezone for n, s in sites.items()})
-    return windows
+        write_windows_ics(pd.concat(kept, ignore_index=True), ics_path, {n: s.timezone for n, s in sites.items()})
+    return add_tallies(tallies)
 
 
 @app.command()
@@ -128,6 +165,11 @@ def windows(
     local_time: bool = typer.Option(False, "--local-time", help="Add local civil times (each site's IANA timezone, "
                                     "with UTC offset) to the CSV."),
     jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
+    chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
+    fmt: Optional[str] = FORMAT_OPTION,
+    columns: Optional[Path] = COLUMNS_OPTION,
+    strict: bool = STRICT_OPTION,
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -141,7 +183,8 @@ def windows(
         _check_options(overrides)
         refuse_overwrite((csv_path, ics_path), force)
         result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
-                              _engine(exact), event, local_time, jobs)
+                              _engine(exact), event.lower(), local_time, jobs, scheduler, chunk_dir,
+                              CatalogueOptions(fmt, columns, strict))
     _print_summary(result, f"Transit windows {start} to {end}")
     for path in (csv_path, ics_path):
         if path is not None:
@@ -211,12 +254,13 @@ def _verdict(row, spec) -> str:
     return f"{row.target}: not within {spec.horizon_years:g} years in scenario {row.scenario}: {why}{largest}{others}."
 
 
-def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1):
+def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1,
+                  scheduler: str | None = None, chunk_dir: Path | None = None, strict: bool = False):
     spec = read_campaign(campaign_file)
-    targets = catalog.read_targets(spec.targets_file)
+    targets = catalog.read_targets(spec.targets_file, replace(spec.targets_options, strict=strict))
     if target is not None:
         if target not in set(targets["name"]):
-            raise InputError(f"{spec.targets_file}: no target named {target!r}")
+            raise InputError(f"{spec.targets_file}: no target named {target!r}{did_you_mean(target, targets['name'])}")
         targets = targets[targets["name"] == target].reset_index(drop=True)
     sites = catalog.read_sites(spec.sites_file)
     done = [0]
@@ -225,8 +269,9 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
         done[0] += count
         progress.advance(done[0], spec.trials)
 
-    with LazyProgress("weather trials") as progress:
-        result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=jobs)
+    with LazyProgress("weather trials") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
+        result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=workers.count,
+                              executor=workers.executor, chunk_dir=workers.chunk_dir)
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")
@@ -244,6 +289,9 @@ def campaign_command(
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
     jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
+    chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
+    strict: bool = STRICT_OPTION,
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
@@ -254,7 +302,8 @@ def campaign_command(
     setup_logging()
     with user_errors():
         refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs)
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs, scheduler, chunk_dir,
+                                            strict)
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
     else:
@@ -271,13 +320,16 @@ def refit(
                                                 help="Catalog whose coordinates, durations and ephemerides (to number "
                                                      "the epochs) carry over."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs (otherwise vigil refuses)."),
+    fmt: Optional[str] = FORMAT_OPTION,
+    columns: Optional[Path] = COLUMNS_OPTION,
+    strict: bool = STRICT_OPTION,
 ):
     """Refit each target's linear ephemeris from measured transit times (weighted least squares).
 
     Also writes the O-C table (FILE stem + _o_minus_c.csv, minutes) and its plot (.png).
     Timings more than 5 sigma off the fit are flagged and left out of it.
     """
-    from vigil.refit import plot_o_minus_c, refit_targets
+    from vigil.ephemeris.refit import plot_o_minus_c, refit_targets
 
     setup_logging()
     oc_path = out_path.with_name(out_path.stem + "_o_minus_c.csv")
@@ -285,7 +337,8 @@ def refit(
     with user_errors():
         refuse_overwrite((out_path, oc_path, plot_path), force)
         timings = catalog.read_timings(timings_file)
-        targets = catalog.read_targets(targets_file) if targets_file is not None else None
+        targets = (catalog.read_targets(targets_file, CatalogueOptions(fmt, columns, strict))
+                   if targets_file is not None else None)
         try:
             refitted, o_minus_c = refit_targets(timings, targets)
         except InputError as exc:
@@ -311,6 +364,9 @@ def space_seasons(
     csv_path: Optional[Path] = typer.Option(None, "--csv", metavar="FILE", help="Write the date ranges here (CSV, UTC)."),
     plot_path: Optional[Path] = typer.Option(None, "--plot", metavar="FILE", help="Write the chart here (PNG)."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs (otherwise vigil refuses)."),
+    fmt: Optional[str] = FORMAT_OPTION,
+    columns: Optional[Path] = COLUMNS_OPTION,
+    strict: bool = STRICT_OPTION,
 ):
     """Date ranges in each year when a space observatory's Sun-angle band admits each target.
 
@@ -325,7 +381,7 @@ def space_seasons(
     setup_logging()
     with user_errors():
         refuse_overwrite((csv_path, plot_path), force)
-        targets = catalog.read_targets(targets_file)
+        targets = catalog.read_targets(targets_file, CatalogueOptions(fmt, columns, strict))
         site = _select_sites(catalog.read_sites(sites_file), [site_name], sites_file)[site_name]
         if site.kind != "space":
             raise InputError(f"{sites_file}: [sites.{site_name}] is a ground site; space-seasons needs kind = \"space\"")

@@ -12,12 +12,11 @@ import pandas as pd
 
 from vigil import intervals
 from vigil.constraints import Constraints
+from vigil.ephemeris.staleness import stale_flags
+from vigil.errors import InputError
 from vigil.schema import COVERAGE_CLASSES
 
 HOURS_PER_DAY = 24.0
-# A transit is flagged stale when K sigma exceeds this fraction of its duration (a planning
-# convention; staleness.py dates it) or exceeds the baseline wanted.
-STALE_DURATION_FRACTION = 0.25
 
 
 def pad_windows(transits: pd.DataFrame, constraints: Constraints) -> pd.DataFrame:
@@ -29,8 +28,7 @@ def pad_windows(transits: pd.DataFrame, constraints: Constraints) -> pd.DataFram
     out["egress_jd_utc"] = out["mid_jd_utc"] + half
     out["window_start_jd_utc"] = out["ingress_jd_utc"] - pad
     out["window_end_jd_utc"] = out["egress_jd_utc"] + pad
-    timing_pad_h = constraints.sigma_k * out["mid_sigma_d"] * HOURS_PER_DAY
-    out["stale"] = (timing_pad_h > STALE_DURATION_FRACTION * out["duration_h"]) | (timing_pad_h > constraints.baseline_h)
+    out["stale"] = stale_flags(out["mid_sigma_d"], out["duration_h"], constraints.sigma_k, constraints.baseline_h)
     return out
 
 

@@ -10,10 +10,11 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil import ephemeris, schema, visibility
+from vigil import schema, visibility
 from vigil.constraints import Constraints, resolve_constraints
 from vigil.engines import engine_for, reference
 from vigil.engines.protocol import Engine
+from vigil.ephemeris.projection import project_transits
 from vigil.errors import InputError
 from vigil.sites import Site
 
@@ -48,7 +49,7 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
     [start, end], sorted by time then target."""
     if not end > start:
         raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
-    transits = ephemeris.project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
+    transits = project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
                                           end.tdb.jd + _LIGHT_TIME_MARGIN_D, event)
     tables = [site_windows(transits, site, resolve_constraints(site.defaults, overrides), start, end, engine)
               for site in sites.values() if not transits.empty]

@@ -3,19 +3,23 @@
 from __future__ import annotations
 
 import functools
+from concurrent.futures import Executor
+from pathlib import Path
 from typing import Callable
 
 import numpy as np
 import pandas as pd
 
-from vigil import bodies, forecast, upkeep
+from vigil import bodies, forecast
 from vigil.campaign import schedule, weather
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.spec import CampaignSpec
+from vigil.ephemeris import upkeep
 from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.journal import open_journal
 from vigil.sweep import plan_windows_chunked
+from vigil.textfile import line_of
 
 TRIAL_CHUNK = 50
 
@@ -25,16 +29,18 @@ def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
     lines = targets.attrs.get("source_lines", {})  # file line of each target, kept by read_targets
     for row in targets.to_dict("records"):
         line = lines.get(row["name"])
-        where = f"{spec.targets_file}: line {line}" if line else str(spec.targets_file)
+        where = line_of(spec.targets_file, line) if line else str(spec.targets_file)
         planet, star = bodies.target_bodies(pd.Series(row), where)
         found[row["name"]] = forecast.Body(planet, star)
         priority[row["name"]] = bodies.priority_of(pd.Series(row), where)
     return found, priority
 
 
-def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str, jobs: int = 1) -> pd.DataFrame:
+def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str, jobs: int = 1,
+                executor: Executor | None = None, chunk_dir: Path | None = None) -> pd.DataFrame:
     """Counted windows over the horizon, each stretch between planned refreshes with its own sigma."""
-    pieces = [plan_windows_chunked(part, sites, constraints, lo, hi, jobs=jobs, engine=engine)
+    pieces = [plan_windows_chunked(part, sites, constraints, lo, hi, jobs=jobs, engine=engine, executor=executor,
+                                   chunk_dir=chunk_dir)
               for lo, hi, part in upkeep.segments(targets, spec.start, spec.end, spec.refresh_every_years,
                                                    spec.refresh_timing_err_d)]
     windows = pd.concat([p for p in pieces if len(p)] or pieces[:1], ignore_index=True)
@@ -66,15 +72,19 @@ def _trials(scheduled: pd.DataFrame, spec: CampaignSpec, on_progress: Callable[[
 
 
 def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Site], engine: str = "fast",
-                 on_progress: Callable[[int], None] | None = None, jobs: int = 1) -> CampaignResult:
-    """Simulate the campaign: summary per target, yearly forecast, ledger of trial 0."""
+                 on_progress: Callable[[int], None] | None = None, jobs: int = 1, executor: Executor | None = None,
+                 chunk_dir: Path | None = None) -> CampaignResult:
+    """Simulate the campaign: summary per target, yearly forecast, ledger of trial 0.
+
+    jobs, executor and chunk_dir say where the windows step runs (vigil.sweep.iter_windows).
+    """
     missing = [s for s in spec.site_names if s not in sites]
     if missing:
         raise InputError(f"{spec.sites_file}: campaign site {missing[0]!r} not found; sites are {', '.join(sites)}")
     sites = {n: sites[n] for n in spec.site_names}
     found, priority = _bodies(targets, spec)
     targets, stacked = _from_journal(spec, targets)
-    candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs)
+    candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs, executor, chunk_dir)
     ground = any(site.kind != "space" for site in sites.values())
     gain = {name: forecast.snr2_per_hour(body, spec, candidates[candidates["target"] == name], ground)
             for name, body in found.items()}

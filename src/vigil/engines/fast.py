@@ -18,7 +18,8 @@ rate (and a shortening of the vector, removed by normalising). Bounds, checked i
 - `SKY_TABLE` (3 h, JD UTC): precession-nutation matrix, annual aberration and equation of
   the equinoxes at the nearest node (< 0.05": the place of date moves < 0.7"/day), and the
   Sun's direction, interpolated (< 0.01").
-- `MOON_TABLE` (1 h, JD UTC): the geocentric Moon (< 1", and < 7 km in distance).
+- `MOON_TABLE` (1 h, JD UTC): the geocentric Moon (< 1", and < 7 km in distance) and its
+  illuminated fraction (< 1e-5: the phase angle turns by < 0.6 deg/h).
 Error budget of the engine (checked against the reference path in the tests): place of date
 ~0.5", UT1 taken as UTC < 0.004 deg in hour angle, Sun ~0.003 deg, refraction model ~0.01 deg:
 window edges within about a minute. Each row's results depend on that row alone (the tables
@@ -72,16 +73,18 @@ def _sky_block(block: int) -> np.ndarray:
 
 @lru_cache(maxsize=BLOCKS_KEPT)
 def _moon_block(block: int) -> np.ndarray:
-    """The geocentric Moon (km, true equator and equinox of date) at nodes of JD UTC."""
+    """Columns `MOON_XYZ` (the geocentric Moon, km, true equator and equinox of date) and
+    `MOON_ILLUMINATION` (its illuminated fraction) at nodes of JD UTC."""
     jd_tt = jd_tt_from_utc(block_nodes(block, MOON_STEP_D))
-    return np.column_stack(places_of_date.moon_geocentric_km(jd_tt))
+    return np.column_stack([*places_of_date.moon_geocentric_km(jd_tt), places_of_date.moon_illuminated_fraction(jd_tt)])
 
 
 SKY_TABLE = Table(SKY_STEP_D, 16, _sky_block)
-MOON_TABLE = Table(MOON_STEP_D, 3, _moon_block)
+MOON_TABLE = Table(MOON_STEP_D, 4, _moon_block)
 # SKY_TABLE columns: matrix row by row (9) and aberration (3), equation of the equinoxes, Sun
 SKY_STAR_OF_DATE, SKY_EQUATION_OF_EQUINOXES, SKY_SUN = slice(0, 12), slice(12, 13), slice(13, 16)
 _POINTING = slice(0, 13)  # star of date and equation of the equinoxes, fetched together
+MOON_XYZ, MOON_ILLUMINATION = slice(0, 3), slice(3, 4)
 
 
 class _Latest:
@@ -195,7 +198,7 @@ def _moon_separation_deg(jd_utc, target: np.ndarray, site: Site, lst_deg=None) -
     """
     if lst_deg is None:
         lst_deg = _local_sidereal_deg(jd_utc, SKY_TABLE.nearest(jd_utc, SKY_EQUATION_OF_EQUINOXES)[:, 0], site)
-    mx, my, mz = MOON_TABLE.at(jd_utc).T
+    mx, my, mz = MOON_TABLE.at(jd_utc, MOON_XYZ).T
     rho_cos, rho_sin = local_sky.observer_geocentric_km(site.latitude_deg, site.elevation_m)
     lst_rad = np.radians(lst_deg)
     mx = mx - rho_cos * np.cos(lst_rad)
@@ -224,7 +227,7 @@ def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, poi
     clear = np.flatnonzero(margin_mid > reach_deg)
     sample_row, jd = intervals.sample_grid(lo[near], hi[near], MOON_STEP_MIN / 1440.0)
     separation = _moon_separation_deg(jd, pointing.target[:, near[sample_row]], site)
-    limit = facility.moon_limit_deg(places_of_date.moon_illuminated_fraction(jd_tt_from_utc(jd)),
+    limit = facility.moon_limit_deg(MOON_TABLE.at(jd, MOON_ILLUMINATION)[:, 0],
                                     constraints.moon_sep_deg)
     row, start, end = intervals.from_samples(sample_row, jd, separation - limit)
     row = np.concatenate([near[row], clear])
@@ -308,5 +311,5 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site, pointing: _Pointing | N
         "airmass_mid": airmass_kasten_young(geometric),
         "sun_alt_mid_deg": np.degrees(np.arcsin(np.clip(sin_sun_alt, -1.0, 1.0))),
         "moon_sep_deg": _moon_separation_deg(mid, pointing.target, site, pointing.lst_deg),
-        "moon_illumination": places_of_date.moon_illuminated_fraction(jd_tt_from_utc(mid)),
+        "moon_illumination": MOON_TABLE.at(mid, MOON_ILLUMINATION)[:, 0],
     }, index=windows.index)

@@ -2,7 +2,8 @@
 
 Each listed window is one VEVENT from window start to window end (UTC). The UID is derived
 from target, site and epoch, so importing a newer calendar updates events instead of
-duplicating them. DTSTAMP is the moment of the run, or the instant given by the
+duplicating them. Transits of planets of one host whose windows overlap at a site (the
+`shared_with` column) are one pointing and one VEVENT naming every planet. DTSTAMP is the moment of the run, or the instant given by the
 SOURCE_DATE_EPOCH environment variable (the reproducible-builds convention) when set.
 """
 
@@ -13,20 +14,23 @@ import uuid
 from datetime import datetime, timezone
 
 import icalendar
+import numpy as np
 import pandas as pd
 from astropy.time import Time
 
 from vigil.export.files import write_atomic
 from vigil.export.table import iso_utc
+from vigil.hosts import overlap_groups
 
 _UID_NAMESPACE = uuid.UUID("5f1c2b9e-3d4a-4e8f-9b6c-7a1d2e3f4b5c")
 SAFETY_NOTE = ("Plan only within the observatory's own rules for night work and Sun avoidance; "
                "times are predictions, not a substitute for them.")
 
 
-def event_uid(target: str, site: str, epoch: int, kind: str = "transit") -> str:
-    """Stable identifier of one transit (or occultation) at one site."""
-    key = f"{target}|{site}|{int(epoch)}" + ("" if kind == "transit" else f"|{kind}")
+def event_uid(target: str, site: str, epoch, kind: str = "transit") -> str:
+    """Stable identifier of one transit (or occultation) at one site; for a shared pointing,
+    target is "b + c" and epoch "12+7" (each planet's epoch)."""
+    key = f"{target}|{site}|{epoch if isinstance(epoch, str) else int(epoch)}" + ("" if kind == "transit" else f"|{kind}")
     return f"{uuid.uuid5(_UID_NAMESPACE, key)}@vigil"
 
 
@@ -51,17 +55,40 @@ def _conditions(w) -> str:
     return f"At mid: altitude {w.alt_mid_deg:.1f}°, airmass {w.airmass_mid:.2f}, {moon}"
 
 
-def _describe(w, timezone_name: str | None = None) -> str:
+def _transit_lines(w) -> list[str]:
     mid = Time(w.mid_jd_utc, format="jd", scale="utc", precision=0).isot
-    lines = [
+    return [
         f"Mid-transit {mid}Z ± {w.mid_sigma_d * 1440:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
         f"Ingress {Time(w.ingress_jd_utc, format='jd', precision=0).isot}Z, egress {Time(w.egress_jd_utc, format='jd', precision=0).isot}Z",
         f"Coverage {w.coverage}, {100 * w.observable_fraction:.0f}% of the transit observable",
         _conditions(w),
-        *([f"Times are UTC; the site's time zone is {timezone_name}"] if timezone_name else []),
-        SAFETY_NOTE,
     ]
-    return "\n".join(lines)
+
+
+def _describe(rows, timezone_name: str | None = None) -> str:
+    """The description of one event: one window, or each planet's window of a shared pointing."""
+    lines = _transit_lines(rows[0]) if len(rows) == 1 else [
+        line for w in rows for line in (f"{w.target}:", *(f"  {text}" for text in _transit_lines(w)))]
+    lines += [f"Times are UTC; the site's time zone is {timezone_name}"] if timezone_name else []
+    return "\n".join([*lines, SAFETY_NOTE])
+
+
+def _pointing_key(w) -> str:
+    """Rows with one key whose windows overlap are one pointing (hosts.overlap_groups)."""
+    shared = getattr(w, "shared_with", "")
+    if not (isinstance(shared, str) and shared):
+        return f"{w.site}|{w.target}|{w.epoch}"
+    return f"{w.site}|" + "; ".join(sorted({w.target, *shared.split("; ")}))
+
+
+def _pointings(windows: pd.DataFrame) -> list[list]:
+    """Window rows grouped by pointing: alone, or with the planets of its host it is shared with."""
+    rows = list(windows.itertuples(index=False))
+    if not rows:
+        return []
+    groups = overlap_groups([_pointing_key(w) for w in rows], windows["window_start_jd_utc"],
+                            windows["window_end_jd_utc"])
+    return [[rows[i] for i in np.flatnonzero(groups == g)] for g in range(int(groups.max()) + 1)]
 
 
 def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None) -> icalendar.Calendar:
@@ -71,17 +98,20 @@ def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None) -> ic
     calendar.add("version", "2.0")
     calendar.add("calscale", "GREGORIAN")
     stamp = run_stamp()
-    for w in windows.itertuples(index=False):
+    for rows in _pointings(windows):
+        w = rows[0]
         event = icalendar.Event()
         kind = getattr(w, "event", "transit")
-        event.add("uid", event_uid(w.target, w.site, w.epoch, kind))
+        names = " + ".join(r.target for r in rows)
+        event.add("uid", event_uid(names, w.site, "+".join(str(int(r.epoch)) for r in rows), kind))
         event.add("dtstamp", stamp)
-        event.add("dtstart", _utc(w.window_start_jd_utc))
-        event.add("dtend", _utc(w.window_end_jd_utc))
-        event.add("summary", f"{w.target} {kind}, {w.coverage} ({w.site})")
+        event.add("dtstart", _utc(min(r.window_start_jd_utc for r in rows)))
+        event.add("dtend", _utc(max(r.window_end_jd_utc for r in rows)))
+        coverage = ", ".join(str(r.coverage) for r in rows)
+        event.add("summary", f"{names} {kind}{'s' if len(rows) > 1 else ''}, {coverage} ({w.site})")
         event.add("location", str(w.site))
-        event.add("description", _describe(w, (timezones or {}).get(w.site)))
-        event.add("categories", [kind, str(w.coverage)])
+        event.add("description", _describe(rows, (timezones or {}).get(w.site)))
+        event.add("categories", [kind, *dict.fromkeys(str(r.coverage) for r in rows)])
         event.add("transp", "TRANSPARENT")
         calendar.add_component(event)
     return calendar

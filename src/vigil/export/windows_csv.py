@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+from typing import Iterable
 from zoneinfo import ZoneInfo
 
 import pandas as pd
 
-from vigil.export.table import iso_utc, write_csv
+from vigil.export.files import atomic_stream
+from vigil.export.table import csv_bytes, iso_utc
 
 MINUTES_PER_DAY = 1440.0
 TIME_COLUMNS = {
@@ -20,7 +22,7 @@ TIME_COLUMNS = {
 }
 COLUMNS = ["target", "site", "event", "epoch", "mid_bjd_tdb", "mid_utc", "mid_sigma_min", "ingress_utc", "egress_utc",
            "window_start_utc", "window_end_utc", "coverage", "observable_fraction", "observable_start_utc",
-           "observable_end_utc", "alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale"]
+           "observable_end_utc", "alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale", "shared_with"]
 DECIMALS = {"mid_bjd_tdb": 6, "mid_sigma_min": 2, "observable_fraction": 4, "alt_mid_deg": 2,
             "airmass_mid": 3, "sun_alt_mid_deg": 2, "moon_sep_deg": 2, "moon_illumination": 3}
 
@@ -31,6 +33,7 @@ def windows_for_export(windows: pd.DataFrame) -> pd.DataFrame:
                                                  "observable_fraction", "alt_mid_deg", "airmass_mid",
                                                  "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale")})
     out["mid_sigma_min"] = windows["mid_sigma_d"] * MINUTES_PER_DAY
+    out["shared_with"] = windows["shared_with"] if "shared_with" in windows.columns else ""
     for name, source in TIME_COLUMNS.items():
         out[name] = iso_utc(windows[source].to_numpy())
     return out[COLUMNS].round(DECIMALS)
@@ -52,7 +55,20 @@ def local_times(windows: pd.DataFrame, timezones: dict) -> pd.DataFrame:
 
 def write_windows_csv(windows: pd.DataFrame, path, timezones: dict | None = None) -> None:
     """Write the windows CSV atomically; with `timezones` (site -> IANA zone) add local-time columns."""
-    table = windows_for_export(windows)
-    if timezones is not None:
-        table = pd.concat([table, local_times(windows, timezones)], axis=1)
-    write_csv(table, path, text_columns=("target", "site"))
+    write_windows_csv_pieces([windows], path, timezones)
+
+
+def write_windows_csv_pieces(pieces: Iterable[pd.DataFrame], path, timezones: dict | None = None) -> None:
+    """Write the windows CSV from consecutive pieces of the table (vigil.sweep.iter_windows),
+    holding one piece at a time; the file appears only once every piece is written.
+
+    Examples
+    --------
+    >>> write_windows_csv_pieces(iter_windows(targets, sites, {}, start, end), "windows.csv")  # doctest: +SKIP
+    """
+    with atomic_stream(path) as stream:
+        for number, windows in enumerate(pieces):
+            table = windows_for_export(windows)
+            if timezones is not None:
+                table = pd.concat([table, local_times(windows, timezones)], axis=1)
+            stream.write(csv_bytes(table, text_columns=("target", "site", "shared_with"), header=number == 0))
