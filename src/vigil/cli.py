@@ -28,6 +28,7 @@ from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.hosts import host_of, mark_shared
 from vigil.target_source import CatalogueOptions
 from vigil.journal_cli import journal_app
+from vigil.refit_cli import run_refit
 from vigil.constraints import Constraints
 from vigil.cluster import workers_for
 from vigil.sweep import iter_windows
@@ -317,41 +318,25 @@ def refit(
                                         "mid_err_d (days), optional note."),
     out_path: Path = typer.Option(..., "--out", metavar="FILE", help="Refitted targets CSV (readable by every vigil command)."),
     targets_file: Optional[Path] = typer.Option(None, "--targets", metavar="TARGETS.csv",
-                                                help="Catalog whose coordinates, durations and ephemerides (to number "
-                                                     "the epochs) carry over."),
+                                                help="Catalogue: its ephemerides number the epochs and are the prior "
+                                                     "of the fit; coordinates and durations carry over."),
+    no_prior: bool = typer.Option(False, "--no-prior", help="Fit the timings alone (the catalogue only numbers epochs)."),
+    sigma_k: float = typer.Option(1.0, "--sigma", metavar="K", min=0.1, max=10.0,
+                                  help="Timing padding K for the stale threshold [default 1]."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs (otherwise vigil refuses)."),
     fmt: Optional[str] = FORMAT_OPTION,
     columns: Optional[Path] = COLUMNS_OPTION,
     strict: bool = STRICT_OPTION,
 ):
-    """Refit each target's linear ephemeris from measured transit times (weighted least squares).
+    """Update each target's ephemeris with measured transit times (weighted least squares).
 
-    Also writes the O-C table (FILE stem + _o_minus_c.csv, minutes) and its plot (.png).
-    Timings more than 5 sigma off the fit are flagged and left out of it.
+    The catalogue ephemeris is the prior unless --no-prior; outliers are removed one at a time
+    when more than 5 sigma from the prediction of all the other timings; linear and quadratic
+    models are compared by BIC. Epochs keep the catalogue's numbering. Also writes the O-C table
+    (FILE stem + _o_minus_c.csv, minutes) and its picture (.png).
     """
-    from vigil.ephemeris.refit import plot_o_minus_c, refit_targets
-
-    setup_logging()
-    oc_path = out_path.with_name(out_path.stem + "_o_minus_c.csv")
-    plot_path = oc_path.with_suffix(".png")
-    with user_errors():
-        refuse_overwrite((out_path, oc_path, plot_path), force)
-        timings = catalog.read_timings(timings_file)
-        targets = (catalog.read_targets(targets_file, CatalogueOptions(fmt, columns, strict))
-                   if targets_file is not None else None)
-        try:
-            refitted, o_minus_c = refit_targets(timings, targets)
-        except InputError as exc:
-            raise InputError(f"{timings_file}: {exc}") from None
-        write_csv(refitted, out_path, text_columns=("name",))
-        write_csv(o_minus_c, oc_path, text_columns=("target",))
-        plot_o_minus_c(o_minus_c, plot_path)
-    fitted = refitted[refitted["n_timings"] > 0]
-    for row in fitted.itertuples(index=False):
-        out.print(f"{row.name}: P = {row.period_d:.8f} ± {row.period_err_d:.8f} d, T0 = {row.t0_bjd_tdb:.6f} ± "
-                  f"{row.t0_err_d * 1440:.2f} min (BJD_TDB), reduced chi2 {row.reduced_chi2:.2f}, "
-                  f"{row.n_timings} timings, {row.n_outliers} flagged")
-    out.print(f"wrote {out_path}, {oc_path}, {plot_path}")
+    run_refit(timings_file, out_path, targets_file, CatalogueOptions(fmt, columns, strict), not no_prior, sigma_k,
+              force)
 
 
 @app.command("space-seasons")

@@ -19,6 +19,11 @@ def _save(figure: Figure, axes, xlabel: str, ylabel: str, title: str, path) -> N
     axes.set_title(title)
     axes.legend(fontsize=7, ncol=2)
     axes.grid(alpha=0.3)
+    save_png(figure, path)
+
+
+def save_png(figure: Figure, path) -> None:
+    """Write the figure as PNG, atomically and without timestamp metadata (reproducible bytes)."""
     FigureCanvasAgg(figure)
     buffer = io.BytesIO()
     figure.savefig(buffer, format="png", dpi=110, metadata={"Software": None})
