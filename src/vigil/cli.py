@@ -14,11 +14,11 @@ import typer
 from astropy.time import Time
 from rich.table import Table
 
-from vigil import catalog
+from vigil import catalog, notes
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.run import run_campaign
 from vigil.campaign.spec import read_campaign
-from vigil.cli_support import LazyProgress, did_you_mean, out, refuse_overwrite, setup_logging, user_errors
+from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
@@ -27,6 +27,7 @@ from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.hosts import host_of, mark_shared
 from vigil.target_source import CatalogueOptions
+from vigil.textfile import did_you_mean
 from vigil.journal_cli import journal_app
 from vigil.refit_cli import run_refit
 from vigil.constraints import Constraints
@@ -116,7 +117,12 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
     targets = catalog.read_targets(targets_file, catalogue)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
     start_time, end_time = _parse_date(start, "--start"), _parse_date(end, "--end")
-    tallies, kept = [], []
+    tallies, kept, found = [], [], []
+
+    def noted(pieces):
+        for piece in pieces:
+            found.append(notes.of(piece))
+            yield piece
 
     def tallied(pieces):
         for piece in pieces:
@@ -126,16 +132,18 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
             yield piece
 
     with LazyProgress("windows (chunks)") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
-        pieces = tallied(mark_shared(iter_windows(targets, sites, overrides, start_time, end_time, jobs=workers.count,
-                                                  engine=engine, include_unobservable=include_all, event=event,
-                                                  on_chunk=lambda _, done, total: progress.advance(done, total),
-                                                  executor=workers.executor, chunk_dir=workers.chunk_dir),
+        pieces = tallied(mark_shared(noted(iter_windows(targets, sites, overrides, start_time, end_time,
+                                                        jobs=workers.count, engine=engine,
+                                                        include_unobservable=include_all, event=event,
+                                                        on_chunk=lambda _, done, total: progress.advance(done, total),
+                                                        executor=workers.executor, chunk_dir=workers.chunk_dir)),
                                      host_of(targets)))
         if csv_path is not None:
             write_windows_csv_pieces(pieces, csv_path,
                                      {n: s.timezone for n, s in sites.items()} if local_time else None)
         else:
             collections.deque(pieces, maxlen=0)
+    notes.report(notes.merged(*found))
     if ics_path is not None:
         write_windows_ics(pd.concat(kept, ignore_index=True), ics_path, {n: s.timezone for n, s in sites.items()})
     return add_tallies(tallies)
@@ -273,6 +281,7 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
     with LazyProgress("weather trials") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
         result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=workers.count,
                               executor=workers.executor, chunk_dir=workers.chunk_dir)
+    notes.report(result.notes)
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png")

@@ -234,7 +234,7 @@ def dominant_term(budget: pd.DataFrame) -> str:
 
 
 def limiting_factor(row: dict, goal_snr: float, scheduled_h: float, candidate_h: float,
-                    candidate_h_without_padding, dominant: str) -> str:
+                    candidate_h_without_padding: float | None, dominant: str) -> str:
     """Why a scenario misses its goal within the horizon ('' when it is reachable).
 
     noise floor: the goal SNR exceeds what the floor allows at any resolution; weather: the
@@ -242,8 +242,10 @@ def limiting_factor(row: dict, goal_snr: float, scheduled_h: float, candidate_h:
     counted window together would suffice, the caps and clashes do not let them all in;
     ephemeris too stale: the windows lost to timing padding would have sufficed; too few
     windows: even all counted windows, attempted, fall short. The noise term that dominates
-    the stacked variance follows in brackets. Hours are expectations over the weather;
-    `candidate_h_without_padding` is called only when needed (it recomputes windows).
+    the stacked variance (``dominant``) follows in brackets. Hours are expectations over the
+    weather, compared with ``row["hours_needed"]``. `candidate_h_without_padding` (the windows
+    again with K = 0) may be None when not computed: the verdict is then "too few windows"
+    where it could be "ephemeris too stale", and the campaign runner computes it and asks again.
     """
     if row["reachable"]:
         return ""
@@ -254,7 +256,7 @@ def limiting_factor(row: dict, goal_snr: float, scheduled_h: float, candidate_h:
         reason = "weather"
     elif candidate_h >= need:
         reason = "allocation"
-    elif candidate_h_without_padding() >= need:
+    elif candidate_h_without_padding is not None and candidate_h_without_padding >= need:
         reason = "ephemeris too stale"
     else:
         reason = "too few windows"

@@ -7,6 +7,8 @@ from dataclasses import dataclass
 
 import pandas as pd
 
+from vigil.notes import Note
+
 
 @dataclass
 class CampaignResult:
@@ -18,3 +20,4 @@ class CampaignResult:
     years_to_goal: dict  # target -> per-trial years (inf if never), reference scenario
     scenarios: pd.DataFrame  # one row per target and atmosphere scenario
     budget: pd.DataFrame  # one row per target and noise term (median visit)
+    notes: tuple[Note, ...] = ()  # for the user (vigil.notes), each once

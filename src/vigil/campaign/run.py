@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import functools
 from concurrent.futures import Executor
 from pathlib import Path
 from typing import Callable
@@ -10,7 +9,7 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from vigil import bodies, forecast
+from vigil import bodies, forecast, notes
 from vigil.campaign import schedule, weather
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.spec import CampaignSpec
@@ -19,6 +18,7 @@ from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.journal import open_journal
 from vigil.sweep import plan_windows_chunked
+from vigil.hosts import host_of
 from vigil.textfile import line_of
 
 TRIAL_CHUNK = 50
@@ -38,14 +38,16 @@ def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
 
 def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str, jobs: int = 1,
                 executor: Executor | None = None, chunk_dir: Path | None = None) -> pd.DataFrame:
-    """Counted windows over the horizon, each stretch between planned refreshes with its own sigma."""
+    """Counted windows over the horizon, each stretch between planned refreshes with its own
+    sigma, as visits; the table carries the windows' notes (`vigil.notes.of`)."""
     pieces = [plan_windows_chunked(part, sites, constraints, lo, hi, jobs=jobs, engine=engine, executor=executor,
                                    chunk_dir=chunk_dir)
               for lo, hi, part in upkeep.segments(targets, spec.start, spec.end, spec.refresh_every_years,
                                                    spec.refresh_timing_err_d)]
     windows = pd.concat([p for p in pieces if len(p)] or pieces[:1], ignore_index=True)
     windows = windows.drop_duplicates(["target", "site", "epoch"])  # a transit on a segment edge
-    return schedule.visits_from_windows(windows, sites, spec.coverage, spec.min_fraction, spec.overhead_h)
+    visits = schedule.visits_from_windows(windows, sites, spec.coverage, spec.min_fraction, spec.overhead_h)
+    return notes.attach(visits, notes.merged(*(notes.of(p) for p in pieces)))
 
 
 def _from_journal(spec: CampaignSpec, targets: pd.DataFrame) -> tuple[pd.DataFrame, dict]:
@@ -89,15 +91,13 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
     gain = {name: forecast.snr2_per_hour(body, spec, candidates[candidates["target"] == name], ground)
             for name, body in found.items()}
     scheduled = schedule.schedule(candidates, gain, priority, spec.per_target_per_semester,
-                                  spec.per_site_per_semester)
+                                  spec.per_site_per_semester, host_of(targets))
     clear = _trials(scheduled, spec, on_progress)
-    rows, per_scenario, yearly, budgets, years = [], [], [], [], {}
+    rows, per_scenario, yearly, budgets, years, found_notes = [], [], [], [], {}, [notes.of(candidates)]
     for name, body in found.items():
         result = forecast.target_forecast(name, body, spec, scheduled, clear, ground, stacked.get(name, (0.0, 0.0)))
-        limits = _limits(name, spec, scheduled, candidates, targets, sites, engine, stacked.get(name, (0.0, 0.0))[0])
-        dominant = forecast.dominant_term(result.budget)
-        for row in result.rows:
-            row["limited_by"] = forecast.limiting_factor(row, spec.goal_snr, *limits, dominant)
+        found_notes.append(_limit(result, spec, scheduled, candidates, targets, sites, engine,
+                                  stacked.get(name, (0.0, 0.0))[0]))
         reachable = [row["scenario"] for row in result.rows if row["reachable"]]
         rows.append({**result.rows[0], "reachable_scenarios": " ".join(reachable)})
         per_scenario.extend(result.rows)
@@ -105,26 +105,36 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
         budgets.append(result.budget)
         years[name] = result.years_to_goal
     return CampaignResult(pd.DataFrame(rows), pd.concat(yearly, ignore_index=True), _ledger(scheduled, clear), years,
-                          pd.DataFrame(per_scenario), pd.concat(budgets, ignore_index=True))
+                          pd.DataFrame(per_scenario), pd.concat(budgets, ignore_index=True), notes.merged(*found_notes))
 
 
-def _limits(name, spec, scheduled, candidates, targets, sites, engine, prior_in_h: float):
-    """Expected in-transit hours of the schedule, of every counted window, and (a function,
-    computed once when first needed) of every window without timing padding; hours already
-    stacked (journal) count towards each."""
-
-    @functools.cache
-    def without_padding() -> float:
-        unpadded = _candidates(targets[targets["name"] == name], sites, spec, {**spec.constraints, "sigma_k": 0.0}, engine)
-        return prior_in_h + forecast.expected_in_transit_h(unpadded, spec.clear_fraction, name)
-
-    return (prior_in_h + forecast.expected_in_transit_h(scheduled, spec.clear_fraction, name),
-            prior_in_h + forecast.expected_in_transit_h(candidates, spec.clear_fraction, name), without_padding)
+def _limit(result: forecast.TargetForecast, spec, scheduled, candidates, targets, sites, engine, prior_in_h: float):
+    """Set limited_by on each scenario row of one target and return the notes of any windows
+    computed for it; hours already stacked (journal) count towards every option. Where even
+    every counted window falls short, the windows are computed again with K = 0 (no timing
+    padding) to tell "ephemeris too stale" from "too few windows"."""
+    name = result.rows[0]["target"]
+    scheduled_h = prior_in_h + forecast.expected_in_transit_h(scheduled, spec.clear_fraction, name)
+    candidate_h = prior_in_h + forecast.expected_in_transit_h(candidates, spec.clear_fraction, name)
+    dominant = forecast.dominant_term(result.budget)
+    verdicts = [forecast.limiting_factor(row, spec.goal_snr, scheduled_h, candidate_h, None, dominant)
+                for row in result.rows]
+    found = ()
+    if any(v.startswith("too few windows") for v in verdicts):
+        unpadded = _candidates(targets[targets["name"] == name], sites, spec, {**spec.constraints, "sigma_k": 0.0},
+                               engine)
+        unpadded_h = prior_in_h + forecast.expected_in_transit_h(unpadded, spec.clear_fraction, name)
+        verdicts = [forecast.limiting_factor(row, spec.goal_snr, scheduled_h, candidate_h, unpadded_h, dominant)
+                    for row in result.rows]
+        found = notes.of(unpadded)
+    for row, verdict in zip(result.rows, verdicts):
+        row["limited_by"] = verdict
+    return found
 
 
 def _ledger(scheduled: pd.DataFrame, clear: np.ndarray) -> pd.DataFrame:
     columns = ["target", "site", "epoch", "coverage", "mid_jd_utc", "start_jd_utc", "end_jd_utc",
-               "in_transit_h", "baseline_h", "telescope_h"]
+               "in_transit_h", "baseline_h", "telescope_h", "shared_with"]
     ledger = scheduled[columns].copy()
     ledger["weather"] = np.where(clear[0], "clear", "lost") if clear.size else []
     ledger["clear_share"] = clear.mean(axis=0) if clear.size else []

@@ -35,6 +35,6 @@ def write_campaign_csvs(result: CampaignResult, folder: Path) -> list[Path]:
                                                                   "reachable_scenarios"))
     write_csv(_verdicts(result.scenarios), paths[1], text_columns=("target", "scenario", "limited_by"))
     write_csv(result.yearly.round(3), paths[2], text_columns=("target",))
-    write_csv(_ledger(result.ledger), paths[3], text_columns=("target", "site"))
+    write_csv(_ledger(result.ledger), paths[3], text_columns=("target", "site", "shared_with"))
     write_csv(result.budget.round(4), paths[4], text_columns=("target", "term"))
     return paths
