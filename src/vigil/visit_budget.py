@@ -53,8 +53,8 @@ def term_variances(flux_w_m2_um: np.ndarray, instrument: Instrument, noise: Nois
     """Variance of the depth per term (module docstring), arrays (visits, wavelengths).
 
     ``visits`` needs in_transit_h, baseline_h, airmass, moon_illumination, moon_sep_deg,
-    elevation_m and ground (bool: the atmosphere's terms apply); ``flux_w_m2_um`` is the
-    star's F_lambda on ``stars.GRID_UM``.
+    elevation_m and ground (bool: the atmosphere's terms apply; an unknown airmass counts as
+    1, an unknown Moon as new); ``flux_w_m2_um`` is the star's F_lambda on ``stars.GRID_UM``.
 
     Examples
     --------
@@ -70,7 +70,7 @@ def term_variances(flux_w_m2_um: np.ndarray, instrument: Instrument, noise: Nois
     """
     wavelength_um = np.asarray(wavelength_um, dtype=float)
     ground = visits["ground"].to_numpy(dtype=bool)[:, None]
-    airmass = np.where(ground[:, 0], visits["airmass"].to_numpy(dtype=float), 0.0)
+    airmass = np.where(ground[:, 0], np.nan_to_num(visits["airmass"].to_numpy(dtype=float), nan=1.0), 0.0)
     duty = noise_terms.duty_cycle(noise.exposure_s, noise.readout_s)
     light = collecting_area_m2(instrument) * instrument.throughput * duty * wavelength_um / resolution
     transmission = noise_terms.atmospheric_transmission(wavelength_um[None, :], airmass[:, None]) \

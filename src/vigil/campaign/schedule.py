@@ -22,6 +22,8 @@ from vigil.hosts import overlap_groups
 
 
 HOURS_PER_DAY = 24.0
+#: Visit column <- windows column, conditions at mid-transit for the noise budget.
+CONDITIONS = {"airmass": "airmass_mid", "moon_illumination": "moon_illumination", "moon_sep_deg": "moon_sep_deg"}
 
 
 def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str, ...], min_fraction: float,
@@ -31,8 +33,8 @@ def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str,
     Counted are the windows of the `coverage` classes observable for at least `min_fraction`
     of the transit. A visit spans the window's observable stretch; in-transit hours are its
     overlap with [ingress, egress], baseline hours the rest of it; telescope hours add
-    `overhead_h`. The conditions at mid-transit (airmass, Moon) and the site's elevation and
-    kind are kept for the noise budget.
+    `overhead_h`. The conditions at mid-transit (airmass, Moon; NaN when the windows table has
+    none) and the site's elevation and kind are kept for the noise budget.
     """
     counted = windows["coverage"].isin(coverage) & (windows["observable_fraction"] >= min_fraction)
     w = windows[counted].reset_index(drop=True)
@@ -51,9 +53,13 @@ def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str,
         "baseline_h": (end - start - inside) * HOURS_PER_DAY,
         "telescope_h": (end - start) * HOURS_PER_DAY + overhead_h,
         "night": local_day.astype(np.int64), "month": months, "half_year": years * 2 + (months > 6),
-        "airmass": w["airmass_mid"].astype(float), "moon_illumination": w["moon_illumination"].astype(float),
-        "moon_sep_deg": w["moon_sep_deg"].astype(float), "elevation_m": elevation.astype(float), "ground": ground,
+        **{name: _conditions(w, column) for name, column in CONDITIONS.items()},
+        "elevation_m": elevation.astype(float), "ground": ground,
     })
+
+
+def _conditions(windows: pd.DataFrame, column: str) -> np.ndarray:
+    return windows[column].to_numpy(dtype=float) if column in windows else np.full(len(windows), np.nan)
 
 
 def _month_year(jd_utc: np.ndarray):
