@@ -9,7 +9,7 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from vigil import bodies, forecast, notes
+from vigil import bodies, forecast, notes, schema
 from vigil.campaign import schedule, weather
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.spec import CampaignSpec
@@ -98,14 +98,17 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
         result = forecast.target_forecast(name, body, spec, scheduled, clear, ground, stacked.get(name, (0.0, 0.0)))
         found_notes.append(_limit(result, spec, scheduled, candidates, targets, sites, engine,
                                   stacked.get(name, (0.0, 0.0))[0]))
-        reachable = [row["scenario"] for row in result.rows if row["reachable"]]
-        rows.append({**result.rows[0], "reachable_scenarios": " ".join(reachable)})
-        per_scenario.extend(result.rows)
+        in_order = [{**{name: row[name] for name in schema.SCENARIOS.names}, **row} for row in result.rows]
+        reachable = [row["scenario"] for row in in_order if row["reachable"]]
+        rows.append({**in_order[0], "reachable_scenarios": " ".join(reachable)})
+        per_scenario.extend(in_order)
         yearly.append(result.yearly)
         budgets.append(result.budget)
         years[name] = result.years_to_goal
-    return CampaignResult(pd.DataFrame(rows), pd.concat(yearly, ignore_index=True), _ledger(scheduled, clear), years,
-                          pd.DataFrame(per_scenario), pd.concat(budgets, ignore_index=True), notes.merged(*found_notes))
+    return CampaignResult(schema.SUMMARY.check(pd.DataFrame(rows)),
+                          schema.FORECAST.check(pd.concat(yearly, ignore_index=True)), _ledger(scheduled, clear), years,
+                          schema.SCENARIOS.check(pd.DataFrame(per_scenario)),
+                          schema.BUDGET.check(pd.concat(budgets, ignore_index=True)), notes.merged(*found_notes))
 
 
 def _limit(result: forecast.TargetForecast, spec, scheduled, candidates, targets, sites, engine, prior_in_h: float):
@@ -133,9 +136,9 @@ def _limit(result: forecast.TargetForecast, spec, scheduled, candidates, targets
 
 
 def _ledger(scheduled: pd.DataFrame, clear: np.ndarray) -> pd.DataFrame:
-    columns = ["target", "site", "epoch", "coverage", "mid_jd_utc", "start_jd_utc", "end_jd_utc",
-               "in_transit_h", "baseline_h", "telescope_h", "shared_with"]
-    ledger = scheduled[columns].copy()
-    ledger["weather"] = np.where(clear[0], "clear", "lost") if clear.size else []
-    ledger["clear_share"] = clear.mean(axis=0) if clear.size else []
-    return ledger
+    """The visits of trial 0 with their weather, and the share of trials in which each was clear."""
+    ledger = scheduled[[c for c in schema.LEDGER.names if c in scheduled.columns]].copy()
+    first = clear[0] if clear.size else np.zeros(len(ledger), dtype=bool)
+    ledger["weather"] = pd.Categorical(np.where(first, "clear", "lost"), categories=("clear", "lost"))
+    ledger["clear_share"] = clear.mean(axis=0) if clear.size else np.zeros(len(ledger))
+    return schema.LEDGER.check(ledger)

@@ -18,6 +18,7 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
+from vigil import schema
 from vigil.hosts import overlap_groups
 
 
@@ -46,7 +47,7 @@ def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str,
     local_day = np.floor(w["mid_jd_utc"].to_numpy() + w["site"].map(east_deg).to_numpy() / 360.0)
     ground = w["site"].map({name: site.kind != "space" for name, site in sites.items()}).astype(bool)
     elevation = w["site"].map({name: site.elevation_m for name, site in sites.items()})
-    return pd.DataFrame({
+    return schema.VISITS.check(pd.DataFrame({
         "target": w["target"], "site": w["site"], "epoch": w["epoch"], "coverage": w["coverage"],
         "mid_jd_utc": w["mid_jd_utc"], "start_jd_utc": start, "end_jd_utc": end,
         "in_transit_h": inside * HOURS_PER_DAY,
@@ -55,7 +56,7 @@ def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str,
         "night": local_day.astype(np.int64), "month": months, "half_year": years * 2 + (months > 6),
         **{name: _conditions(w, column) for name, column in CONDITIONS.items()},
         "elevation_m": elevation.astype(float), "ground": ground,
-    })
+    }))
 
 
 def _conditions(windows: pd.DataFrame, column: str) -> np.ndarray:

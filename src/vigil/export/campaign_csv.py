@@ -8,6 +8,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from vigil import schema
 from vigil.export.table import iso_utc, write_csv
 from vigil.campaign.result import CampaignResult
 
@@ -31,10 +32,10 @@ def write_campaign_csvs(result: CampaignResult, folder: Path) -> list[Path]:
     """summary.csv, scenarios.csv, forecast.csv, ledger.csv and budget.csv in `folder` (atomic
     writes)."""
     paths = [folder / name for name in ("summary.csv", "scenarios.csv", "forecast.csv", "ledger.csv", "budget.csv")]
-    write_csv(_verdicts(result.summary), paths[0], text_columns=("target", "scenario", "limited_by",
+    write_csv(_verdicts(schema.SUMMARY.check(result.summary)), paths[0], text_columns=("target", "scenario", "limited_by",
                                                                   "reachable_scenarios"))
-    write_csv(_verdicts(result.scenarios), paths[1], text_columns=("target", "scenario", "limited_by"))
-    write_csv(result.yearly.round(3), paths[2], text_columns=("target",))
-    write_csv(_ledger(result.ledger), paths[3], text_columns=("target", "site", "shared_with"))
-    write_csv(result.budget.round(4), paths[4], text_columns=("target", "term"))
+    write_csv(_verdicts(schema.SCENARIOS.check(result.scenarios)), paths[1], text_columns=("target", "scenario", "limited_by"))
+    write_csv(schema.FORECAST.check(result.yearly).round(3), paths[2], text_columns=("target",))
+    write_csv(_ledger(schema.LEDGER.check(result.ledger)), paths[3], text_columns=("target", "site", "shared_with"))
+    write_csv(schema.BUDGET.check(result.budget).round(4), paths[4], text_columns=("target", "term"))
     return paths
