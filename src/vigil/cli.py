@@ -11,30 +11,25 @@ from typing import Optional
 
 import pandas as pd
 import typer
-from astropy.time import Time
 from rich.table import Table
+from typer.core import TyperCommand
 
-from vigil import catalog, notes
+from vigil import __version__, api, catalog, notes
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.run import run_campaign
 from vigil.campaign.spec import read_campaign
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
-from vigil.ephemeris.projection import with_models
-from vigil.ephemeris.table import read_ephemeris_table
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.plots import budget_plot, hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv_pieces
-from vigil.hosts import host_of, mark_shared
 from vigil.target_source import CatalogueOptions
 from vigil.textfile import did_you_mean
 from vigil.journal_cli import journal_app
 from vigil.refit_cli import run_refit
-from vigil.constraints import Constraints
 from vigil.cluster import workers_for
-from vigil.sweep import iter_windows
 from vigil.tally import add_tallies, coverage_tally
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
@@ -42,21 +37,23 @@ app = typer.Typer(help="Plan transit observations: which transits you can observ
                        "spectrum reaches your goal. Angles are in degrees, durations in hours, dates and times in "
                        "UTC (mid-times also in BJD_TDB); site longitudes are east positive.",
                   no_args_is_help=True, add_completion=False, rich_markup_mode=None)
-def _parse_date(text: str, option: str) -> Time:
-    try:
-        return Time(text, scale="utc")
-    except ValueError:
-        raise InputError(f"{option}: expected a UTC date such as 2027-01-01 or 2027-01-01T18:00, got {text!r}") from None
+class _Command(TyperCommand):
+    """Usage lines show arguments as TARGETS.csv, not {TARGETS.csv}."""
+
+    def collect_usage_pieces(self, ctx) -> list[str]:
+        return [p[1:-1] if p.startswith("{") and p.endswith("}") else p for p in super().collect_usage_pieces(ctx)]
 
 
-def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dict:
-    if not names:
-        return sites
-    unknown = [n for n in names if n not in sites]
-    if unknown:
-        raise InputError(f"{sites_file}: no site named {unknown[0]!r}{did_you_mean(unknown[0], sites)} "
-                         f"(sites are {', '.join(sites)})")
-    return {n: sites[n] for n in names}
+def _version(value: bool) -> None:
+    if value:
+        out.print(f"vigil {__version__}", highlight=False)
+        raise typer.Exit()
+
+
+@app.callback()
+def _main(version: bool = typer.Option(False, "--version", callback=_version, is_eager=True,
+                                       help="Print vigil's version and exit.")):
+    """Plan transit observations (see `vigil COMMAND --help`)."""
 
 
 def _print_summary(tally, title: str) -> None:
@@ -68,7 +65,7 @@ def _print_summary(tally, title: str) -> None:
     for column in ("target", "site", "full", "ingress", "egress", "partial", "next full window (UTC)"):
         table.add_column(column, justify="left" if column in ("target", "site") else "right")
     for row in tally.itertuples(index=False):
-        first = iso_utc([row.first_full_jd_utc])[0][:16].replace("T", " ") or "-"
+        first = "-" if pd.isna(row.first_full_utc) else row.first_full_utc.strftime("%Y-%m-%d %H:%M")
         table.add_row(row.target, row.site, *(str(getattr(row, c)) for c in ("full", "ingress", "egress", "partial")),
                       first)
     out.print(table)
@@ -76,7 +73,7 @@ def _print_summary(tally, title: str) -> None:
 
 
 JOBS_HELP = ("Worker processes for the windows computation (the targets and the span are split into chunks); "
-             "with --scheduler local, the cluster's workers [default 1].")
+             "with --scheduler local, the cluster's workers; at least 1 [default 1].")
 SCHEDULER_HELP = ("Run the windows computation on a dask cluster (optional extra vigil[dask]): 'local' starts "
                   "one on this machine, tcp://HOST:PORT joins a running scheduler and its workers.")
 CHUNK_DIR_HELP = ("With --scheduler: folder where workers leave their results as Parquet files; workers on "
@@ -93,35 +90,18 @@ STRICT_OPTION = typer.Option(False, "--strict", help="Refuse a targets file with
                              "(otherwise such rows are left out with a warning).")
 
 
-OPTION_OF = {"min_altitude_deg": "--min-altitude", "twilight": "--twilight", "baseline_h": "--baseline",
-             "sigma_k": "--sigma", "moon_sep_deg": "--moon-sep"}
-
-
-def _check_options(overrides: dict) -> None:
-    """Check each constraint option on its own so an error names the option."""
-    for key, value in overrides.items():
-        if value is not None:
-            try:
-                Constraints(**{key: value})
-            except InputError as exc:
-                raise InputError(f"{OPTION_OF[key]}: {str(exc).split(': ', 1)[1]}") from None
-
-
-def _engine(exact: bool) -> str:
-    return "reference" if exact else "fast"
-
-
-def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
-                 include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast",
+def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, constraints: dict,
+                 include_all: bool, csv_path: Path | None, ics_path: Path | None, exact: bool = False,
                  event: str = "transit", local_time: bool = False, jobs: int = 1, scheduler: str | None = None,
                  chunk_dir: Path | None = None, catalogue: CatalogueOptions = CatalogueOptions(),
-                 tables: dict | None = None):
-    """Plan, write the CSV piece by piece and the calendar; return the coverage tally."""
-    targets = catalog.read_targets(targets_file, catalogue)
-    if tables:
-        targets = with_models(targets, tables)
-    sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
-    start_time, end_time = _parse_date(start, "--start"), _parse_date(end, "--end")
+                 ephemeris_table: Path | None = None, extrapolate_table: bool = False):
+    """Plan through vigil.iter_windows, write the CSV piece by piece and the calendar; return
+    the coverage tally."""
+    api.constraint_overrides(constraints)  # option errors before any file is read
+    targets = api.read_targets(targets_file, format=catalogue.format, columns=catalogue.columns,
+                               strict=catalogue.strict, ephemeris_table=ephemeris_table,
+                               extrapolate_table=extrapolate_table)
+    sites = api.read_sites(sites_file, site_names or None)
     tallies, kept, found = [], [], []
 
     def noted(pieces):
@@ -136,13 +116,10 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
                 kept.append(piece)
             yield piece
 
-    with LazyProgress("windows (chunks)") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
-        pieces = tallied(mark_shared(noted(iter_windows(targets, sites, overrides, start_time, end_time,
-                                                        jobs=workers.count, engine=engine,
-                                                        include_unobservable=include_all, event=event,
-                                                        on_chunk=lambda _, done, total: progress.advance(done, total),
-                                                        executor=workers.executor, chunk_dir=workers.chunk_dir)),
-                                     host_of(targets)))
+    with LazyProgress("windows (chunks)") as progress:
+        pieces = tallied(noted(api.iter_windows(targets, sites, start, end, include_unobservable=include_all,
+                                                event=event, exact=exact, jobs=jobs, scheduler=scheduler,
+                                                chunk_dir=chunk_dir, on_progress=progress.advance, **constraints)))
         if csv_path is not None:
             write_windows_csv_pieces(pieces, csv_path,
                                      {n: s.timezone for n, s in sites.items()} if local_time else None)
@@ -154,8 +131,9 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
     return add_tallies(tallies)
 
 
-@app.command()
+@app.command(cls=_Command)
 def windows(
+    context: typer.Context,
     targets_file: Path = typer.Argument(..., metavar="TARGETS.csv", help="Targets CSV: name, ra_deg, dec_deg (or ra/dec sexagesimal), "
                                         "t0_bjd_tdb, t0_err_d, period_d, period_err_d, duration_h."),
     sites_file: Path = typer.Option(..., "--sites", metavar="SITES.toml", help="Sites TOML with [sites.NAME] tables."),
@@ -173,12 +151,12 @@ def windows(
     include_all: bool = typer.Option(False, "--all", help="List unobservable transits too (coverage 'none')."),
     force: bool = typer.Option(False, "--force", help="Replace existing --csv/--ics files (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
-    event: str = typer.Option("transit", "--event", metavar="KIND",
+    event: str = typer.Option("transit", "--event", metavar="KIND", show_default=False,
                               help="transit, or occultation (secondary eclipse; uses the optional target columns "
                                    "eccentricity, omega_deg, inclination_deg) [default transit]."),
     local_time: bool = typer.Option(False, "--local-time", help="Add local civil times (each site's IANA timezone, "
                                     "with UTC offset) to the CSV."),
-    jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    jobs: int = typer.Option(1, "--jobs", metavar="N", show_default=False, help=JOBS_HELP),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
     chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
     fmt: Optional[str] = FORMAT_OPTION,
@@ -196,15 +174,13 @@ def windows(
     also in BJD_TDB. Longitudes in the sites file are east positive.
     """
     setup_logging()
-    overrides = {"min_altitude_deg": min_altitude, "twilight": twilight, "baseline_h": baseline,
-                 "sigma_k": sigma, "moon_sep_deg": moon_sep}
-    with user_errors():
-        _check_options(overrides)
+    constraints = {"min_altitude": min_altitude, "twilight": twilight, "baseline": baseline, "sigma": sigma,
+                   "moon_sep": moon_sep}
+    with user_errors(context):
         refuse_overwrite((csv_path, ics_path), force)
-        tables = read_ephemeris_table(ephemeris_table, extrapolate_table) if ephemeris_table is not None else None
-        result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
-                              _engine(exact), event.lower(), local_time, jobs, scheduler, chunk_dir,
-                              CatalogueOptions(fmt, columns, strict), tables)
+        result = _run_windows(targets_file, sites_file, site, start, end, constraints, include_all, csv_path, ics_path,
+                              exact, event.lower(), local_time, jobs, scheduler, chunk_dir,
+                              CatalogueOptions(fmt, columns, strict), ephemeris_table, extrapolate_table)
     _print_summary(result, f"Transit windows {start} to {end}")
     for path in (csv_path, ics_path):
         if path is not None:
@@ -323,7 +299,7 @@ def campaign_command(
     setup_logging()
     with user_errors():
         refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs, scheduler, chunk_dir,
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, "reference" if exact else "fast", jobs, scheduler, chunk_dir,
                                             strict)
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
@@ -386,8 +362,8 @@ def space_seasons(
     setup_logging()
     with user_errors():
         refuse_overwrite((csv_path, plot_path), force)
-        targets = catalog.read_targets(targets_file, CatalogueOptions(fmt, columns, strict))
-        site = _select_sites(catalog.read_sites(sites_file), [site_name], sites_file)[site_name]
+        targets = api.read_targets(targets_file, format=fmt, columns=columns, strict=strict)
+        site = api.read_sites(sites_file, site_name)[site_name]
         if site.kind != "space":
             raise InputError(f"{sites_file}: [sites.{site_name}] is a ground site; space-seasons needs kind = \"space\"")
         rows = [{"target": t.name, "site": site_name, "start_jd": lo.utc.jd, "end_jd": hi.utc.jd}

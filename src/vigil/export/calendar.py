@@ -16,10 +16,9 @@ from datetime import datetime, timezone
 import icalendar
 import numpy as np
 import pandas as pd
-from astropy.time import Time
 
 from vigil.export.files import write_atomic
-from vigil.export.table import iso_utc
+from vigil.export.windows_csv import windows_table
 from vigil.hosts import overlap_groups
 
 _UID_NAMESPACE = uuid.UUID("5f1c2b9e-3d4a-4e8f-9b6c-7a1d2e3f4b5c")
@@ -42,9 +41,8 @@ def run_stamp() -> datetime:
     return datetime.now(timezone.utc).replace(microsecond=0)
 
 
-def _utc(jd_utc: float) -> datetime:
-    # Rounded to the second exactly as in the CSV, so both files show the same times.
-    return datetime.fromisoformat(iso_utc([jd_utc])[0])
+def _iso(when) -> str:
+    return when.strftime("%Y-%m-%dT%H:%M:%SZ")
 
 
 def _conditions(w) -> str:
@@ -56,10 +54,9 @@ def _conditions(w) -> str:
 
 
 def _transit_lines(w) -> list[str]:
-    mid = Time(w.mid_jd_utc, format="jd", scale="utc", precision=0).isot
     return [
-        f"Mid-transit {mid}Z ± {w.mid_sigma_d * 1440:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
-        f"Ingress {Time(w.ingress_jd_utc, format='jd', precision=0).isot}Z, egress {Time(w.egress_jd_utc, format='jd', precision=0).isot}Z",
+        f"Mid-transit {_iso(w.mid_utc)} ± {w.mid_sigma_min:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
+        f"Ingress {_iso(w.ingress_utc)}, egress {_iso(w.egress_utc)}",
         f"Coverage {w.coverage}, {100 * w.observable_fraction:.0f}% of the transit observable",
         _conditions(w),
     ]
@@ -86,13 +83,22 @@ def _pointings(windows: pd.DataFrame) -> list[list]:
     rows = list(windows.itertuples(index=False))
     if not rows:
         return []
-    groups = overlap_groups([_pointing_key(w) for w in rows], windows["window_start_jd_utc"],
-                            windows["window_end_jd_utc"])
+    groups = overlap_groups([_pointing_key(w) for w in rows], _ns(windows["window_start_utc"]),
+                            _ns(windows["window_end_utc"]))
     return [[rows[i] for i in np.flatnonzero(groups == g)] for g in range(int(groups.max()) + 1)]
 
 
+def _ns(times: pd.Series) -> np.ndarray:
+    return times.to_numpy(dtype="datetime64[ns]").astype(np.int64)
+
+
 def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None) -> icalendar.Calendar:
-    """One VEVENT per window row; `timezones` (site -> IANA zone) are named in the descriptions."""
+    """One VEVENT per window row; `timezones` (site -> IANA zone) are named in the descriptions.
+
+    `windows` is the table `vigil.plan_windows` returns (times as UTC datetimes, already
+    rounded to the second like the CSV, so both files show the same times).
+    """
+    windows = windows_table(windows)
     calendar = icalendar.Calendar()
     calendar.add("prodid", "-//vigil//transit windows//EN")
     calendar.add("version", "2.0")
@@ -105,8 +111,8 @@ def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None) -> ic
         names = " + ".join(r.target for r in rows)
         event.add("uid", event_uid(names, w.site, "+".join(str(int(r.epoch)) for r in rows), kind))
         event.add("dtstamp", stamp)
-        event.add("dtstart", _utc(min(r.window_start_jd_utc for r in rows)))
-        event.add("dtend", _utc(max(r.window_end_jd_utc for r in rows)))
+        event.add("dtstart", min(r.window_start_utc for r in rows).to_pydatetime())
+        event.add("dtend", max(r.window_end_utc for r in rows).to_pydatetime())
         coverage = ", ".join(str(r.coverage) for r in rows)
         event.add("summary", f"{names} {kind}{'s' if len(rows) > 1 else ''}, {coverage} ({w.site})")
         event.add("location", str(w.site))
