@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 import collections
+import math
 import sys
-from dataclasses import replace
 from importlib import resources
 from pathlib import Path
 from typing import Optional
@@ -14,22 +14,16 @@ import typer
 from rich.table import Table
 from typer.core import TyperCommand
 
-from vigil import __version__, api, catalog, notes
-from vigil.campaign.result import CampaignResult
-from vigil.campaign.run import run_campaign
-from vigil.campaign.spec import read_campaign
+from vigil import __version__, api, notes
+from vigil.campaign.outcome import CampaignOutcome
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
-from vigil.export.campaign_csv import write_campaign_csvs
-from vigil.export.plots import budget_plot, hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.target_source import CatalogueOptions
-from vigil.textfile import did_you_mean
 from vigil.journal_cli import journal_app
 from vigil.refit_cli import run_refit
-from vigil.cluster import workers_for
 from vigil.tally import add_tallies, coverage_tally
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
@@ -134,7 +128,7 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
 @app.command(cls=_Command)
 def windows(
     context: typer.Context,
-    targets_file: Path = typer.Argument(..., metavar="TARGETS.csv", help="Targets CSV: name, ra_deg, dec_deg (or ra/dec sexagesimal), "
+    targets_file: Path = typer.Argument(..., metavar="TARGETS.csv", help="Targets (CSV, ECSV, VOTable or IPAC): name, ra_deg, dec_deg (or ra/dec sexagesimal), "
                                         "t0_bjd_tdb, t0_err_d, period_d, period_err_d, duration_h."),
     sites_file: Path = typer.Option(..., "--sites", metavar="SITES.toml", help="Sites TOML with [sites.NAME] tables."),
     site: Optional[list[str]] = typer.Option(None, "--site", metavar="NAME", help="Site name to use (repeatable); default every site in the file."),
@@ -214,10 +208,10 @@ CAMPAIGN_FILES = ("summary.csv", "scenarios.csv", "forecast.csv", "ledger.csv", 
 
 
 def _years(value: float) -> str:
-    return f"{value:.1f}" if value != float("inf") else "never"
+    return f"{value:.1f}" if math.isfinite(value) else "never"
 
 
-def _print_campaign(result: CampaignResult, spec) -> None:
+def _print_campaign(result: CampaignOutcome, spec) -> None:
     table = Table(title=f"Campaign {spec.start.utc.iso[:10]} + {spec.horizon_years:g} yr: goal R = "
                         f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
                   title_justify="left")
@@ -250,42 +244,32 @@ def _verdict(row, spec) -> str:
     return f"{row.target}: not within {spec.horizon_years:g} years in scenario {row.scenario}: {why}{largest}{others}."
 
 
-def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1,
+def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, exact: bool = False, jobs: int = 1,
                   scheduler: str | None = None, chunk_dir: Path | None = None, strict: bool = False):
-    spec = read_campaign(campaign_file)
-    targets = catalog.read_targets(spec.targets_file, replace(spec.targets_options, strict=strict))
-    if target is not None:
-        if target not in set(targets["name"]):
-            raise InputError(f"{spec.targets_file}: no target named {target!r}{did_you_mean(target, targets['name'])}")
-        targets = targets[targets["name"] == target].reset_index(drop=True)
-    sites = catalog.read_sites(spec.sites_file)
+    """Run vigil.run_campaign with a progress bar and write its files."""
+    spec = api.read_campaign(campaign_file)
     done = [0]
 
     def trials_done(count: int) -> None:
         done[0] += count
         progress.advance(done[0], spec.trials)
 
-    with LazyProgress("weather trials") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
-        result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=workers.count,
-                              executor=workers.executor, chunk_dir=workers.chunk_dir)
-    notes.report(result.notes)
-    paths = write_campaign_csvs(result, out_dir)
-    resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
-                    out_dir / "resolution.png")
-    hours_plot(result.yearly, out_dir / "hours.png")
-    budget_plot(result.budget, out_dir / "budget.png")
-    return spec, result, [*paths, out_dir / "resolution.png", out_dir / "hours.png", out_dir / "budget.png"]
+    with LazyProgress("weather trials") as progress:
+        outcome = api.run_campaign(spec, target=target, strict=strict, exact=exact, jobs=jobs, scheduler=scheduler,
+                                   chunk_dir=chunk_dir, on_progress=trials_done)
+    return spec, outcome, outcome.write(out_dir)
 
 
-@app.command("campaign")
+@app.command("campaign", cls=_Command)
 def campaign_command(
+    context: typer.Context,
     campaign_file: Path = typer.Argument(..., metavar="CAMPAIGN.toml", help="Campaign TOML: start, horizon (years), targets and sites files, "
                                          "weather, allocation, instrument, spectral goal, trials, seed."),
     target: Optional[str] = typer.Option(None, "--target", metavar="NAME", help="Answer for this one target only."),
     out_dir: Path = typer.Option(Path("vigil-campaign"), "--out", metavar="DIR", help="Output folder for CSVs and PNG plots."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
-    jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    jobs: int = typer.Option(1, "--jobs", metavar="N", show_default=False, help=JOBS_HELP),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
     chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
     strict: bool = STRICT_OPTION,
@@ -297,10 +281,9 @@ def campaign_command(
     budget.csv (noise terms of the median visit), resolution.png, hours.png and budget.png.
     """
     setup_logging()
-    with user_errors():
+    with user_errors(context):
         refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, "reference" if exact else "fast", jobs, scheduler, chunk_dir,
-                                            strict)
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, exact, jobs, scheduler, chunk_dir, strict)
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
     else:

@@ -12,14 +12,14 @@ from matplotlib.figure import Figure
 from vigil.export.files import write_atomic
 
 
-def _save(figure: Figure, axes, xlabel: str, ylabel: str, title: str, path) -> None:
-    """Label, add legend and grid, and write the figure as PNG (atomic, no timestamp metadata)."""
+def _labelled(figure: Figure, axes, xlabel: str, ylabel: str, title: str) -> Figure:
+    """Label, add legend and grid; the figure, for saving or showing."""
     axes.set_xlabel(xlabel)
     axes.set_ylabel(ylabel)
     axes.set_title(title)
     axes.legend(fontsize=7, ncol=2)
     axes.grid(alpha=0.3)
-    save_png(figure, path)
+    return figure
 
 
 def save_png(figure: Figure, path) -> None:
@@ -31,8 +31,18 @@ def save_png(figure: Figure, path) -> None:
 
 
 def resolution_plot(yearly: pd.DataFrame, goal_resolution: float, start_year: float, horizon_years: float, path) -> None:
+    """`resolution_figure` written as PNG."""
+    save_png(resolution_figure(yearly, goal_resolution, start_year, horizon_years), path)
+
+
+def resolution_figure(yearly: pd.DataFrame, goal_resolution: float, start_year: float, horizon_years: float) -> Figure:
     """Achievable resolution at the goal SNR at the end of each campaign year (decimal year from
-    the start's `start_year`), median with the 10-90 % band of trials, goal and horizon marked."""
+    the start's `start_year`), median with the 10-90 % band of trials, goal and horizon marked.
+
+    Examples
+    --------
+    >>> resolution_figure(result.forecast, 100, 2027.0, 30).savefig("resolution.png")  # doctest: +SKIP
+    """
     figure = Figure(figsize=(8, 5))
     axes = figure.add_subplot()
     for target, table in yearly.groupby("target", sort=False):
@@ -44,23 +54,39 @@ def resolution_plot(yearly: pd.DataFrame, goal_resolution: float, start_year: fl
     axes.axvline(start_year + horizon_years, color="grey", linestyle=":", linewidth=1, label="horizon")
     axes.set_yscale("symlog", linthresh=1.0)  # logarithmic, but 0 (goal out of reach) stays on the plot
     axes.set_ylim(bottom=0.0)
-    _save(figure, axes, "year (end of each campaign year)", "achievable resolution λ/Δλ at the goal SNR",
-          "Stacked transmission spectrum: resolution reached (median, 10–90 % of trials)", path)
+    return _labelled(figure, axes, "year (end of each campaign year)", "achievable resolution λ/Δλ at the goal SNR",
+                     "Stacked transmission spectrum: resolution reached (median, 10–90 % of trials)")
 
 
 def hours_plot(yearly: pd.DataFrame, path) -> None:
-    """In-transit hours collected in each campaign year (median over trials), one line per target."""
+    """`hours_figure` written as PNG."""
+    save_png(hours_figure(yearly), path)
+
+
+def hours_figure(yearly: pd.DataFrame) -> Figure:
+    """In-transit hours collected in each campaign year (median over trials), one line per target.
+
+    Examples
+    --------
+    >>> hours_figure(result.forecast).savefig("hours.png")  # doctest: +SKIP
+    """
     figure = Figure(figsize=(8, 5))
     axes = figure.add_subplot()
     for target, table in yearly.groupby("target", sort=False):
         per_year = table["in_transit_hours_p50"].diff().fillna(table["in_transit_hours_p50"])
         axes.step(table["calendar_year"], per_year, where="mid", label=target)
-    _save(figure, axes, "calendar year", "in-transit hours stacked that year (median)", "In-transit hours per year", path)
+    return _labelled(figure, axes, "calendar year", "in-transit hours stacked that year (median)",
+                     "In-transit hours per year")
 
 
-def budget_plot(budget: pd.DataFrame, path) -> None:
+def budget_figure(budget: pd.DataFrame) -> Figure:
     """Share of each noise term in the stacked variance of each target's deciding bin (median
-    visit, stacked as often as the median trial observes it), one stacked bar per target."""
+    visit, stacked as often as the median trial observes it), one stacked bar per target.
+
+    Examples
+    --------
+    >>> budget_figure(outcome.budget).savefig("budget.png")  # doctest: +SKIP
+    """
     figure = Figure(figsize=(8, 5))
     axes = figure.add_subplot()
     shares = budget.pivot(index="target", columns="term", values="share_of_variance")
@@ -71,5 +97,5 @@ def budget_plot(budget: pd.DataFrame, path) -> None:
         left += shares[term].to_numpy()
     axes.invert_yaxis()
     axes.set_xlim(0.0, 1.0)
-    _save(figure, axes, "share of the stacked variance in the deciding bin", "",
-          "Noise budget at the goal resolution (median visit)", path)
+    return _labelled(figure, axes, "share of the stacked variance in the deciding bin", "",
+                     "Noise budget at the goal resolution (median visit)")
