@@ -1,31 +1,47 @@
 """The windows table as an RFC 5545 iCalendar, written with the `icalendar` library.
 
-Each listed window is one VEVENT from window start to window end (UTC). The UID is derived
-from target, site and epoch, so importing a newer calendar updates events instead of
-duplicating them. DTSTAMP is the moment of the run, or the instant given by the
-SOURCE_DATE_EPOCH environment variable (the reproducible-builds convention) when set.
+Each observable window is one VEVENT spanning its observable stretch (UTC); the padded window
+and the transit's times are in the description, the safety note once in the calendar's own
+description (RFC 7986 DESCRIPTION, and X-WR-CALDESC which many programs read). Windows with
+nothing observable (coverage none) are never exported.
+
+The UID is derived from target, site, epoch and event kind, so importing a newer calendar
+updates events instead of duplicating them. When the file being replaced is an earlier vigil
+calendar, each event keeps its SEQUENCE and LAST-MODIFIED unless its times changed (the
+observable stretch, ingress, mid or egress), in which case SEQUENCE grows by one and
+LAST-MODIFIED is this run (RFC 5545 3.8.7.4: SEQUENCE increases on each significant revision).
+A change of the padding alone (the description's padded window) is not a new revision.
+DTSTAMP is the moment of the run, or SOURCE_DATE_EPOCH (the reproducible-builds convention) when set.
 """
 
 from __future__ import annotations
 
+import hashlib
+import logging
 import os
 import uuid
 from datetime import datetime, timezone
+from pathlib import Path
 
 import icalendar
 import pandas as pd
-from astropy.time import Time
 
 from vigil.export.files import write_atomic
 from vigil.export.table import iso_utc
 
+log = logging.getLogger("vigil")
 _UID_NAMESPACE = uuid.UUID("5f1c2b9e-3d4a-4e8f-9b6c-7a1d2e3f4b5c")
 SAFETY_NOTE = ("Plan only within the observatory's own rules for night work and Sun avoidance; "
                "times are predictions, not a substitute for them.")
+TIMES_KEY = "X-VIGIL-TIMES"  # digest of the event's times, to tell a revision from a rerun
+_TIME_COLUMNS = ("observable_start_jd_utc", "observable_end_jd_utc", "ingress_jd_utc", "mid_jd_utc", "egress_jd_utc")
 
 
 def event_uid(target: str, site: str, epoch: int, kind: str = "transit") -> str:
-    """Stable identifier of one transit (or occultation) at one site."""
+    """Stable identifier of one transit (or occultation) at one site.
+
+    Example: ``event_uid("Tamsin-7 b", "mirador_sur", 1567)`` ends in ``@vigil``.
+    """
     key = f"{target}|{site}|{int(epoch)}" + ("" if kind == "transit" else f"|{kind}")
     return f"{uuid.uuid5(_UID_NAMESPACE, key)}@vigil"
 
@@ -38,55 +54,106 @@ def run_stamp() -> datetime:
     return datetime.now(timezone.utc).replace(microsecond=0)
 
 
+def _iso(jd_utc) -> str:
+    return iso_utc([jd_utc])[0]
+
+
 def _utc(jd_utc: float) -> datetime:
     # Rounded to the second exactly as in the CSV, so both files show the same times.
-    return datetime.fromisoformat(iso_utc([jd_utc])[0])
+    return datetime.fromisoformat(_iso(jd_utc))
+
+
+def _times_digest(w) -> str:
+    return hashlib.sha256("|".join(_iso(getattr(w, c)) for c in _TIME_COLUMNS).encode()).hexdigest()[:16]
 
 
 def _conditions(w) -> str:
-    """Conditions at mid-transit; a space site has no altitude or airmass."""
+    """Conditions at mid-event; a space site has no altitude or airmass."""
     moon = f"Moon {w.moon_sep_deg:.0f}° away" if w.moon_sep_deg == w.moon_sep_deg else "Moon not computed"
     if w.alt_mid_deg != w.alt_mid_deg:  # NaN
         return f"At mid: {moon}"
     return f"At mid: altitude {w.alt_mid_deg:.1f}°, airmass {w.airmass_mid:.2f}, {moon}"
 
 
-def _describe(w, timezone_name: str | None = None) -> str:
-    mid = Time(w.mid_jd_utc, format="jd", scale="utc", precision=0).isot
+def _meridian(w) -> list[str]:
+    meridian = getattr(w, "meridian_jd_utc", float("nan"))
+    if meridian != meridian:
+        return []
+    inside = " (inside the transit: a German equatorial mount flips during it)" if w.meridian_in_transit else ""
+    return [f"Meridian crossing {_iso(meridian)}{inside}"]
+
+
+def _describe(w, kind: str, timezone_name: str | None = None) -> str:
     lines = [
-        f"Mid-transit {mid}Z ± {w.mid_sigma_d * 1440:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
-        f"Ingress {Time(w.ingress_jd_utc, format='jd', precision=0).isot}Z, egress {Time(w.egress_jd_utc, format='jd', precision=0).isot}Z",
-        f"Coverage {w.coverage}, {100 * w.observable_fraction:.0f}% of the transit observable",
+        f"Observable {_iso(w.observable_start_jd_utc)} to {_iso(w.observable_end_jd_utc)}: coverage {w.coverage}, "
+        f"{100 * w.observable_fraction:.0f}% of the {kind} observable",
+        f"Mid-{kind} {_iso(w.mid_jd_utc)} ± {w.mid_sigma_d * 1440:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
+        f"Ingress {_iso(w.ingress_jd_utc)}, egress {_iso(w.egress_jd_utc)}",
+        f"Padded window (baseline and timing) {_iso(w.window_start_jd_utc)} to {_iso(w.window_end_jd_utc)}",
+        *_meridian(w),
         _conditions(w),
+        *(["Stale ephemeris: the timing padding exceeds the limit; refresh it (vigil refit)"] if w.stale else []),
         *([f"Times are UTC; the site's time zone is {timezone_name}"] if timezone_name else []),
-        SAFETY_NOTE,
     ]
     return "\n".join(lines)
 
 
-def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None) -> icalendar.Calendar:
-    """One VEVENT per window row; `timezones` (site -> IANA zone) are named in the descriptions."""
+def _previous_revisions(path: Path | None) -> dict:
+    """UID -> (times digest, SEQUENCE, LAST-MODIFIED) from the vigil calendar being replaced."""
+    if path is None or not Path(path).is_file():
+        return {}
+    try:
+        old = icalendar.Calendar.from_ical(Path(path).read_bytes())
+    except ValueError:
+        log.info(f"{path}: not a readable calendar; event SEQUENCE numbers start again at 0")
+        return {}
+    return {str(e["UID"]): (str(e.get(TIMES_KEY, "")), int(e.get("SEQUENCE", 0)), e.decoded("LAST-MODIFIED", None))
+            for e in old.walk("VEVENT")}
+
+
+def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None, previous: dict | None = None
+                     ) -> icalendar.Calendar:
+    """One VEVENT per observable window row; `timezones` (site -> IANA zone) are named in the
+    descriptions; `previous` (from the calendar being replaced) carries SEQUENCE forward.
+
+    Example: ``windows_calendar(windows, {"mirador_sur": "America/Santiago"}).to_ical()``.
+    """
     calendar = icalendar.Calendar()
     calendar.add("prodid", "-//vigil//transit windows//EN")
     calendar.add("version", "2.0")
     calendar.add("calscale", "GREGORIAN")
+    calendar.add("name", "vigil observing windows")
+    calendar.add("description", SAFETY_NOTE)
+    calendar.add("x-wr-caldesc", SAFETY_NOTE)
     stamp = run_stamp()
-    for w in windows.itertuples(index=False):
+    observable = windows[(windows["coverage"].astype(str) != "none") & windows["observable_start_jd_utc"].notna()]
+    for w in observable.itertuples(index=False):
+        kind = str(getattr(w, "event", "transit"))
+        uid = event_uid(w.target, w.site, w.epoch, kind)
+        digest = _times_digest(w)
+        old_digest, sequence, modified = (previous or {}).get(uid, (digest, 0, None))
+        if old_digest != digest:
+            sequence, modified = sequence + 1, None
         event = icalendar.Event()
-        kind = getattr(w, "event", "transit")
-        event.add("uid", event_uid(w.target, w.site, w.epoch, kind))
+        event.add("uid", uid)
         event.add("dtstamp", stamp)
-        event.add("dtstart", _utc(w.window_start_jd_utc))
-        event.add("dtend", _utc(w.window_end_jd_utc))
-        event.add("summary", f"{w.target} {kind}, {w.coverage} ({w.site})")
+        event.add("sequence", sequence)
+        event.add("last-modified", modified or stamp)
+        event.add("dtstart", _utc(w.observable_start_jd_utc))
+        event.add("dtend", _utc(w.observable_end_jd_utc))
+        event.add("summary", f"{w.target} {kind}, {w.coverage} {100 * w.observable_fraction:.0f}% ({w.site})"
+                             + (" STALE ephemeris" if w.stale else ""))
         event.add("location", str(w.site))
-        event.add("description", _describe(w, (timezones or {}).get(w.site)))
-        event.add("categories", [kind, str(w.coverage)])
+        event.add("description", _describe(w, kind, (timezones or {}).get(w.site)))
+        event.add("categories", [kind, str(w.coverage)] + (["stale"] if w.stale else []))
         event.add("transp", "TRANSPARENT")
+        event.add(TIMES_KEY, digest)
         calendar.add_component(event)
     return calendar
 
 
 def write_windows_ics(windows: pd.DataFrame, path, timezones: dict | None = None) -> None:
-    """Write the windows calendar atomically (CRLF line ends, folded lines, escaped text)."""
-    write_atomic(path, windows_calendar(windows, timezones).to_ical())
+    """Write the windows calendar atomically (CRLF line ends, folded lines, escaped text); an
+    earlier vigil calendar at `path` carries each unchanged event's SEQUENCE forward."""
+    calendar = windows_calendar(windows, timezones, _previous_revisions(path))
+    write_atomic(path, calendar.to_ical())
