@@ -7,21 +7,27 @@ from importlib import resources
 from pathlib import Path
 from typing import Optional
 
+import astropy.units as u
 import typer
 from astropy.time import Time
-from rich.table import Table
 
 from vigil import catalog, pipeline
 from vigil.campaign_spec import read_campaign
+from vigil.cli_options import (BASELINE_OPTION, COVERAGE_OPTION, MIN_ALTITUDE_OPTION, MIN_FRACTION_OPTION,
+                               MOON_SEP_OPTION, SIGMA_OPTION, SITE_OPTION, SITES_OPTION, TWILIGHT_OPTION)
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
+from vigil.export.html_report import campaign_sections, html_page, windows_sections, write_html
+from vigil.export.terminal_tables import compact_table, windows_table
 from vigil.export.windows_csv import write_windows_csv
+from vigil.chart_cli import chart_app
 from vigil.journal_cli import journal_app
 from vigil.visibility import Constraints
+from vigil.window_filter import filter_windows, parse_coverage
 from vigil.sweep import plan_windows_chunked
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
@@ -36,6 +42,12 @@ def _parse_date(text: str, option: str) -> Time:
         raise InputError(f"{option}: expected a UTC date such as 2027-01-01 or 2027-01-01T18:00, got {text!r}") from None
 
 
+def _parse_end(text: str) -> Time:
+    """--end: a date alone is included whole (the window ends at 24:00 UTC of it); a time is exact."""
+    end = _parse_date(text, "--end")
+    return end + 1 * u.day if len(text.strip()) <= 10 else end
+
+
 def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dict:
     if not names:
         return sites
@@ -45,22 +57,25 @@ def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dic
     return {n: sites[n] for n in names}
 
 
+COUNTED = ("full", "ingress", "egress", "partial")
+
+
 def _print_summary(windows, title: str) -> None:
     if windows.empty:
         out.print(f"{title}: no observable transits.")
         return
-    table = Table(title=title, title_justify="left")
-    for column in ("target", "site", "full", "ingress", "egress", "partial", "next full window (UTC)"):
-        table.add_column(column, justify="left" if column in ("target", "site") else "right")
+    table = compact_table(title, [("target", "left"), ("site", "left"), *((c, "right") for c in COUNTED),
+                                  ("next full window, UTC", "left")])
     for (target, site), group in windows.groupby(["target", "site"], sort=True):
         counts = group["coverage"].value_counts()
         full = group[group["coverage"] == "full"]
         first = iso_utc(full["window_start_jd_utc"].to_numpy()[:1])[0][:16].replace("T", " ") if len(full) else "-"
-        table.add_row(target, site, *(str(counts.get(c, 0)) for c in ("full", "ingress", "egress", "partial")), first)
+        table.add_row(target, site, *(str(counts.get(c, 0)) for c in COUNTED), first)
     out.print(table)
     out.print(f"[dim]{SAFETY_NOTE}[/dim]")
 
 
+HTML_HELP = "Also write a self-contained HTML plan here (one file, no network: charts embedded)."
 JOBS_HELP = "Worker processes for the windows computation (targets are split into chunks) [default 1]."
 EXACT_HELP = ("Use the exact astropy engine (samples every 5 min; about 100x slower) instead of the fast "
               "analytic one (edges within about a minute of it).")
@@ -86,37 +101,40 @@ def _engine(exact: bool) -> str:
 
 def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
                  include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast",
-                 event: str = "transit", local_time: bool = False, jobs: int = 1):
+                 event: str = "transit", local_time: bool = False, jobs: int = 1, coverage: str | None = None,
+                 min_fraction: float | None = None):
+    chosen = parse_coverage(coverage)
     targets = catalog.read_targets(targets_file)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
     with LazyProgress("windows (targets)") as progress:
         windows = plan_windows_chunked(targets, sites, overrides, _parse_date(start, "--start"),
-                                       _parse_date(end, "--end"), jobs=jobs, engine=engine,
+                                       _parse_end(end), jobs=jobs, engine=engine,
                                        include_unobservable=include_all, event=event,
                                        on_chunk=lambda _, done, total: progress.advance(done, total))
+    windows = filter_windows(windows, chosen, min_fraction)
     if csv_path is not None:
         write_windows_csv(windows, csv_path, {n: s.timezone for n, s in sites.items()} if local_time else None)
     if ics_path is not None:
         write_windows_ics(windows, ics_path, {n: s.timezone for n, s in sites.items()})
-    return windows
+    return windows, sites
 
 
 @app.command()
 def windows(
     targets_file: Path = typer.Argument(..., metavar="TARGETS.csv", help="Targets CSV: name, ra_deg, dec_deg (or ra/dec sexagesimal), "
                                         "t0_bjd_tdb, t0_err_d, period_d, period_err_d, duration_h."),
-    sites_file: Path = typer.Option(..., "--sites", metavar="SITES.toml", help="Sites TOML with [sites.NAME] tables."),
-    site: Optional[list[str]] = typer.Option(None, "--site", metavar="NAME", help="Site name to use (repeatable); default every site in the file."),
+    sites_file: Path = SITES_OPTION,
+    site: Optional[list[str]] = SITE_OPTION,
     start: str = typer.Option(..., "--start", metavar="DATE", help="First date, UTC (e.g. 2027-01-01)."),
-    end: str = typer.Option(..., "--end", metavar="DATE", help="Last date, UTC (e.g. 2028-01-01)."),
+    end: str = typer.Option(..., "--end", metavar="DATE", help="Last date, UTC, included whole (e.g. 2027-12-31); "
+                            "a date with a time (2027-12-31T06:00) ends there."),
     csv_path: Optional[Path] = typer.Option(None, "--csv", metavar="FILE", help="Write the windows table here (CSV, times in UTC)."),
     ics_path: Optional[Path] = typer.Option(None, "--ics", metavar="FILE", help="Write the windows as an iCalendar file here."),
-    min_altitude: Optional[float] = typer.Option(None, "--min-altitude", metavar="DEG", help="Lowest target altitude, degrees [default 30]."),
-    twilight: Optional[str] = typer.Option(None, "--twilight", metavar="KIND", help="Darkness needed: civil, nautical or astronomical "
-                                           "(Sun's centre below -6, -12 or -18 degrees) [default astronomical]."),
-    baseline: Optional[float] = typer.Option(None, "--baseline", metavar="HOURS", help="Out-of-transit time wanted before ingress and after egress, hours [default 1]."),
-    sigma: Optional[float] = typer.Option(None, "--sigma", metavar="K", help="Pad each side by K times the 1-sigma mid-time uncertainty; 0 disables [default 1]."),
-    moon_sep: Optional[float] = typer.Option(None, "--moon-sep", metavar="DEG", help="Least Moon-target separation, degrees; 0 disables [default 0]."),
+    min_altitude: Optional[float] = MIN_ALTITUDE_OPTION,
+    twilight: Optional[str] = TWILIGHT_OPTION,
+    baseline: Optional[float] = BASELINE_OPTION,
+    sigma: Optional[float] = SIGMA_OPTION,
+    moon_sep: Optional[float] = MOON_SEP_OPTION,
     include_all: bool = typer.Option(False, "--all", help="List unobservable transits too (coverage 'none')."),
     force: bool = typer.Option(False, "--force", help="Replace existing --csv/--ics files (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
@@ -126,6 +144,9 @@ def windows(
     local_time: bool = typer.Option(False, "--local-time", help="Add local civil times (each site's IANA timezone, "
                                     "with UTC offset) to the CSV."),
     jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    coverage: Optional[str] = COVERAGE_OPTION,
+    min_fraction: Optional[float] = MIN_FRACTION_OPTION,
+    html_path: Optional[Path] = typer.Option(None, "--html", metavar="FILE", help=HTML_HELP),
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -137,11 +158,16 @@ def windows(
                  "sigma_k": sigma, "moon_sep_deg": moon_sep}
     with user_errors():
         _check_options(overrides)
-        refuse_overwrite((csv_path, ics_path), force)
-        result = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
-                              _engine(exact), event, local_time, jobs)
+        refuse_overwrite((csv_path, ics_path, html_path), force)
+        result, sites = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path,
+                                     ics_path, _engine(exact), event, local_time, jobs, coverage, min_fraction)
+        if html_path is not None:
+            write_html(html_path, html_page(f"Transit windows {start} to {end}",
+                                            windows_sections(result, sites, overrides)))
     _print_summary(result, f"Transit windows {start} to {end}")
-    for path in (csv_path, ics_path):
+    if csv_path is None and ics_path is None and html_path is None and not result.empty:
+        out.print(windows_table(result, {n: s.timezone for n, s in sites.items()}))
+    for path in (csv_path, ics_path, html_path):
         if path is not None:
             out.print(f"wrote {path}")
 
@@ -159,12 +185,15 @@ def demo(
     setup_logging()
     with user_errors():
         out_dir.mkdir(parents=True, exist_ok=True)
-        result = _run_windows(demo_file("targets.csv"), demo_file("sites.toml"), None, "2027-01-01", "2028-01-01", {},
-                              False, out_dir / "windows.csv", out_dir / "windows.ics")
+        result, sites = _run_windows(demo_file("targets.csv"), demo_file("sites.toml"), None, "2027-01-01",
+                                     "2027-12-31", {}, False, out_dir / "windows.csv", out_dir / "windows.ics")
         _print_summary(result, "Demo: transit windows in 2027")
         spec, campaign_result, paths = _run_campaign(demo_file("campaign.toml"), None, out_dir)
+        write_html(out_dir / "plan.html", html_page("vigil demo: windows of 2027 and a 30-year campaign",
+                                                    [*windows_sections(result, sites),
+                                                     *campaign_sections(campaign_result, spec)]))
     _print_campaign(campaign_result, spec)
-    names = ", ".join(p.name for p in [out_dir / "windows.csv", out_dir / "windows.ics", *paths])
+    names = ", ".join(p.name for p in [out_dir / "windows.csv", out_dir / "windows.ics", *paths, out_dir / "plan.html"])
     out.print(f"wrote into {out_dir}/: {names}")
 
 
@@ -176,15 +205,14 @@ def _years(value: float) -> str:
 
 
 def _print_campaign(result: pipeline.CampaignResult, spec) -> None:
-    table = Table(title=f"Campaign {spec.start.utc.iso[:10]} + {spec.horizon_years:g} yr: goal R = "
-                        f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
-                  title_justify="left")
-    for column in ("target", "transits/yr", "in-transit h/yr", "years to goal (p10 / p50 / p90)", "verdict"):
-        table.add_column(column, justify="left" if column in ("target", "verdict") else "right")
+    table = compact_table(f"Campaign {spec.start.utc.iso[:10]} + {spec.horizon_years:g} yr: goal R = "
+                          f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
+                          [("target", "left"), ("transits/yr", "right"), ("h/yr", "right"),
+                           ("years to goal p10/50/90", "right"), ("verdict", "left")])
     for row in result.summary.itertuples(index=False):
-        verdict = "[green]reachable[/green]" if row.reachable else f"[red]not reached[/red]: {row.limited_by}"
+        verdict = "[green]reachable[/green]" if row.reachable else f"[red]no[/red]: {row.limited_by}"
         table.add_row(row.target, f"{row.transits_per_year:.1f}", f"{row.in_transit_hours_per_year:.1f}",
-                      " / ".join(_years(v) for v in (row.years_to_goal_p10, row.years_to_goal_p50, row.years_to_goal_p90)),
+                      "/".join(_years(v) for v in (row.years_to_goal_p10, row.years_to_goal_p50, row.years_to_goal_p90)),
                       verdict)
     out.print(table)
 
@@ -221,8 +249,8 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
         result = pipeline.run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=jobs)
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
-                    out_dir / "resolution.png")
-    hours_plot(result.yearly, out_dir / "hours.png")
+                    out_dir / "resolution.png", result.summary)
+    hours_plot(result.yearly, out_dir / "hours.png", result.summary)
     return spec, result, [*paths, out_dir / "resolution.png", out_dir / "hours.png"]
 
 
@@ -235,6 +263,7 @@ def campaign_command(
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
     jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    html_path: Optional[Path] = typer.Option(None, "--html", metavar="FILE", help=HTML_HELP),
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
@@ -243,8 +272,11 @@ def campaign_command(
     """
     setup_logging()
     with user_errors():
-        refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES], force)
+        refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES] + [html_path], force)
         spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs)
+        if html_path is not None:
+            write_html(html_path, html_page(f"Campaign {campaign_file.name}", campaign_sections(result, spec)))
+            paths.append(html_path)
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
     else:
@@ -341,6 +373,7 @@ def space_seasons(
 
 
 app.add_typer(journal_app, name="journal")
+app.add_typer(chart_app, name="chart")
 
 
 def main() -> None:  # pragma: no cover - console entry point
