@@ -9,8 +9,10 @@ import time
 import warnings
 
 import vigil  # noqa: F401  (configures astropy offline before anything else)
-from vigil import campaign, catalog, pipeline
-from vigil.campaign_spec import read_campaign
+from vigil import catalog
+from vigil.campaign.run import run_campaign
+from vigil.campaign.schedule import visits_from_windows
+from vigil.campaign.spec import read_campaign
 from vigil.cli import demo_file
 from vigil.windows import plan_windows
 
@@ -23,9 +25,9 @@ def main() -> None:
     t0 = time.perf_counter()
     windows = plan_windows(targets, sites, spec.constraints, spec.start, spec.end)
     t1 = time.perf_counter()
-    visits = campaign.visits_from_windows(windows, spec, sites)
+    visits = visits_from_windows(windows, sites, spec.coverage, spec.min_fraction, spec.overhead_h)
     t2 = time.perf_counter()
-    result = pipeline.run_campaign(spec, targets, sites)
+    result = run_campaign(spec, targets, sites)
     t3 = time.perf_counter()
     print(f"windows over {spec.horizon_years:g} years: {len(windows)} rows in {t1 - t0:.2f} s")
     print(f"candidate visits: {len(visits)} in {t2 - t1:.2f} s")

@@ -39,8 +39,10 @@ import numpy as np
 import pandas as pd
 
 import vigil  # noqa: F401  (first: configures astropy offline before astroplan is imported)
-from vigil import ephemeris, fast_path, sweep, visibility, windows
+from vigil import ephemeris, sweep, visibility, windows
 from vigil.catalog import read_sites
+from vigil.constraints import resolve_constraints
+from vigil.engines import fast as fast_engine
 
 DEMO_SITES = os.path.join(os.path.dirname(vigil.__file__), "data", "demo", "sites.toml")
 START = "2027-01-01"
@@ -137,7 +139,7 @@ def astroplan_baseline(transits: pd.DataFrame, sites: dict, overrides: dict, sta
     began = time.perf_counter()
     results = []
     for site_name, site in sites.items():
-        constraints = visibility.resolve_constraints(site.defaults, overrides)
+        constraints = resolve_constraints(site.defaults, overrides)
         location = EarthLocation.from_geodetic(site.longitude_deg * u.deg, site.latitude_deg * u.deg,
                                                site.elevation_m * u.m)
         geometric = Observer(location=location, name=site_name, pressure=0 * u.hPa)
@@ -175,7 +177,7 @@ def count_evaluations(targets: pd.DataFrame, sites: dict, start, end) -> int:
     each site falls in [start, end] (windows.at_site with the fast engine's mid-times)."""
     margin_d = 0.02  # more than the 8.3 min light time: at_site keeps exactly the mids inside
     transits = ephemeris.project_transits(targets, start.tdb.jd - margin_d, end.tdb.jd + margin_d)
-    return sum(len(windows.at_site(transits, site, start, end, fast_path)) for site in sites.values())
+    return sum(len(windows.at_site(transits, site, start, end, fast_engine)) for site in sites.values())
 
 
 # --- the run ------------------------------------------------------------------------------

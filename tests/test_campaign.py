@@ -16,9 +16,11 @@ from hypothesis import strategies as st
 import vigil  # noqa: F401  (configures astropy offline before astropy is used)
 from astropy.time import Time
 
-from vigil import campaign, pipeline
-from vigil.campaign_spec import CampaignSpec, read_campaign
-from vigil.catalog import Site
+from vigil.campaign import schedule, weather
+from vigil.campaign.result import CampaignResult
+from vigil.campaign.run import run_campaign
+from vigil.campaign.spec import CampaignSpec, read_campaign
+from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.spectrum import Instrument
@@ -55,8 +57,8 @@ def targets_table(*rows: dict) -> pd.DataFrame:
     return pd.DataFrame([{**GIANT, **row} for row in rows])
 
 
-def run(spec: CampaignSpec, targets: pd.DataFrame, sites=(SOUTH,)) -> pipeline.CampaignResult:
-    return pipeline.run_campaign(spec, targets, {s.name: s for s in sites}, engine="fast")
+def run(spec: CampaignSpec, targets: pd.DataFrame, sites=(SOUTH,)) -> CampaignResult:
+    return run_campaign(spec, targets, {s.name: s for s in sites}, engine="fast")
 
 
 def windows_of(spec: CampaignSpec, targets: pd.DataFrame, sites=(SOUTH,), constraints=None) -> pd.DataFrame:
@@ -142,7 +144,7 @@ def test_visits_on_one_site_night_share_the_weather():
     # One night's weather at one site covers everything observed that night (common practice,
     # no source); another night is drawn independently.
     visits = pd.DataFrame({"site": ["cerro_tordo"] * 3, "night": [2462000, 2462000, 2462001], "month": [3, 3, 3]})
-    clear = campaign.clear_weather(visits, campaign_spec(clear=0.5), 400, np.random.default_rng(3))
+    clear = weather.clear_weather(visits, campaign_spec(clear=0.5).clear_fraction, 400, np.random.default_rng(3))
     assert clear.shape == (400, 3)
     assert (clear[:, 0] == clear[:, 1]).all()
     assert (clear[:, 0] != clear[:, 2]).any()
@@ -169,7 +171,8 @@ def test_one_telescope_observes_one_target_at_a_time_and_priority_wins(priority_
                             {"name": "Ferrun-2 b", "ra_deg": 152.0, "period_d": 1.1, "t0_bjd_tdb": START_BJD_TDB + 0.35,
                              "magnitude": 8.5, "priority": priority_b})
     spec = campaign_spec(horizon_years=0.5)
-    candidates = campaign.visits_from_windows(windows_of(spec, targets), spec, {SOUTH.name: SOUTH})
+    candidates = schedule.visits_from_windows(windows_of(spec, targets), {SOUTH.name: SOUTH}, spec.coverage,
+                                               spec.min_fraction, spec.overhead_h)
     clashes = _overlapping_pairs(candidates, "Brasa-4 b", "Ferrun-2 b")
     assert len(clashes) >= 5
     ledger = run(spec, targets).ledger

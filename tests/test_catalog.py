@@ -5,6 +5,7 @@ import math
 import pytest
 from astropy.coordinates import Angle
 
+from authorities import airmass
 from vigil.catalog import read_sites, read_targets
 from vigil.errors import InputError
 
@@ -110,9 +111,8 @@ def test_bad_latitude_names_the_site_and_key(tmp_path):
 
 
 def test_standard_atmosphere_pressure_at_site_elevation(tmp_path):
-    # ICAO standard atmosphere: p = 1013.25 hPa (1 - 2.25577e-5 h)^5.25588, 795 hPa at 2000 m
-    # (from memory: standard tables give 795.0 hPa at 2000 m).
+    # Standard atmosphere at 2000 m (authorities.airmass).
     site = read_sites(_write(tmp_path, "sites.toml", _site_toml(elevation_m=2000)))["loma_fria"]
-    assert site.air_pressure_hpa == pytest.approx(795.0, abs=0.5)
+    assert site.air_pressure_hpa == pytest.approx(airmass.STANDARD_PRESSURE_AT_2000_M_HPA, abs=0.5)
     assert math.isclose(read_sites(_write(tmp_path, "p.toml", _site_toml(pressure_hpa=700.0)))["loma_fria"]
                         .air_pressure_hpa, 700.0)

@@ -24,7 +24,7 @@ from vigil.export import palette
 from vigil.export.night_chart import night_chart, night_curves
 from vigil.export.sigma_chart import stale_sigma_min
 from vigil.export.timeline_chart import clashes
-from vigil.visibility import Constraints
+from vigil.constraints import Constraints
 
 EPHEM_EPOCH_JD = 2415020.0  # PyEphem dates count days from 1899-12-31 12:00 (Dublin JD)
 

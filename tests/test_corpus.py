@@ -5,7 +5,7 @@ error must be one line `vigil: error: ...` naming the file, the line or TOML key
 with what was expected, exit status 2, no traceback, and no output file created or changed.
 Plausible but odd values are accepted with a warning; harmless variants (byte-order mark,
 CRLF line ends, 0-360 longitudes, a TOML date) give the same result as the companions.
-The expected words come from vigil's own messages (catalog.py, campaign_spec.py, bodies.py):
+The expected words come from vigil's own messages (catalog.py, textfile.py, campaign/spec.py, bodies.py):
 what a message must say is this project's convention (RULES.md), not an outside source.
 """
 

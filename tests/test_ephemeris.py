@@ -5,7 +5,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from vigil.ephemeris import epochs_between, mid_sigma_d, project_transits
+from vigil.ephemeris.models import epochs_between, linear_ephemeris, mid_sigma_d
+from vigil.ephemeris.projection import project_transits
 
 T0_BJD_TDB = 2460412.33710
 PERIOD_D = 1.7364020
@@ -47,7 +48,7 @@ def test_epochs_between_includes_both_ends_on_a_mid_time():
     for first, last in [(1, 1), (3, 10), (-7, 5), (1000, 1200), (-40000, -39990)]:
         start = T0_BJD_TDB + first * PERIOD_D
         end = T0_BJD_TDB + last * PERIOD_D
-        np.testing.assert_array_equal(epochs_between(T0_BJD_TDB, PERIOD_D, start, end), np.arange(first, last + 1))
+        np.testing.assert_array_equal(epochs_between(linear_ephemeris(T0_BJD_TDB, 0.0, PERIOD_D, 0.0), start, end), np.arange(first, last + 1))
 
 
 @settings(max_examples=200, deadline=None)
@@ -58,7 +59,7 @@ def test_epochs_between_are_exactly_the_mids_inside(t0, period, offset, length):
     # do not (common practice, no source: the set of integers n with start <= T0 + nP <= end).
     start = t0 + offset
     end = start + length
-    epochs = epochs_between(t0, period, start, end)
+    epochs = epochs_between(linear_ephemeris(t0, 0.0, period, 0.0), start, end)
     mids = t0 + epochs * period
     assert np.all((mids >= start) & (mids <= end))
     below = epochs[0] - 1 if epochs.size else int(np.floor((start - t0) / period))

@@ -4,7 +4,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from vigil import ephemeris
+from vigil.ephemeris.projection import project_transits
 from vigil.errors import InputError
 from vigil.export.calendar import event_uid
 
@@ -19,8 +19,8 @@ def _targets(**extra):
 def test_circular_occultation_falls_half_a_period_after_transit():
     # Circular orbit: superior conjunction is exactly half a period after inferior conjunction
     # (orbital geometry; Winn 2010, eq. 33 with e = 0).
-    transits = ephemeris.project_transits(_targets(), 2461100.0, 2461130.0)
-    occultations = ephemeris.project_transits(_targets(), 2461100.0, 2461130.0, event="occultation")
+    transits = project_transits(_targets(), 2461100.0, 2461130.0)
+    occultations = project_transits(_targets(), 2461100.0, 2461130.0, event="occultation")
     paired = transits.merge(occultations, on="epoch", suffixes=("_tr", "_oc"))
     assert len(paired) >= 6
     np.testing.assert_allclose(paired["mid_bjd_tdb_oc"] - paired["mid_bjd_tdb_tr"], 4.13 / 2, atol=1e-9)
@@ -32,8 +32,8 @@ def test_eccentric_occultation_offset_matches_winn_first_order():
     # The exact offset differs from it at order e^3 (about 0.1 % of the offset here).
     e, omega = 0.05, 30.0
     targets = _targets(eccentricity=str(e), omega_deg=str(omega))
-    transits = ephemeris.project_transits(targets, 2461100.0, 2461130.0)
-    occultations = ephemeris.project_transits(targets, 2461100.0, 2461130.0, event="occultation")
+    transits = project_transits(targets, 2461100.0, 2461130.0)
+    occultations = project_transits(targets, 2461100.0, 2461130.0, event="occultation")
     paired = transits.merge(occultations, on="epoch", suffixes=("_tr", "_oc"))
     first_order = 2 * 4.13 * e * np.cos(np.radians(omega)) / np.pi
     offset = paired["mid_bjd_tdb_oc"] - paired["mid_bjd_tdb_tr"] - 4.13 / 2
@@ -42,7 +42,7 @@ def test_eccentric_occultation_offset_matches_winn_first_order():
 
 def test_eccentric_orbit_without_omega_is_refused():
     with pytest.raises(InputError, match="omega_deg"):
-        ephemeris.project_transits(_targets(eccentricity="0.1"), 2461100.0, 2461130.0, event="occultation")
+        project_transits(_targets(eccentricity="0.1"), 2461100.0, 2461130.0, event="occultation")
 
 
 def test_occultation_and_transit_of_one_epoch_have_different_uids():

@@ -12,6 +12,7 @@ import pandas as pd
 import pytest
 from astropy.time import Time
 
+from authorities import calendars
 from vigil import windows
 from vigil.catalog import read_targets
 from vigil.export.calendar import windows_calendar, write_windows_ics
@@ -41,8 +42,8 @@ def _read_csv_rows(path) -> list[dict]:
 
 def _ics_lines(path) -> list[bytes]:
     raw = path.read_bytes()
-    assert raw.endswith(b"\r\n")
-    return raw[:-2].split(b"\r\n")
+    assert raw.endswith(calendars.LINE_END)
+    return raw[:-2].split(calendars.LINE_END)
 
 
 def _unfolded(lines: list[bytes]) -> list[str]:
@@ -94,8 +95,8 @@ def test_ics_parses_back_with_one_complete_event_per_row(planned, tmp_path):
     observable = [row for row in _read_csv_rows(tmp_path / "windows.csv") if row["coverage"] != "none"]
     assert len(events) == len(observable) < len(planned)  # unobservable windows are never exported
     for event, row in zip(events, observable):
-        # RFC 5545 §3.6.1: UID and DTSTAMP are required in every VEVENT.
-        for prop in ("UID", "DTSTAMP", "DTSTART", "DTEND", "SUMMARY", "SEQUENCE", "LAST-MODIFIED"):
+        # RFC 5545 §3.6.1: UID and DTSTAMP are required in every VEVENT (authorities.calendars).
+        for prop in (*calendars.REQUIRED_VEVENT_PROPERTIES, "DTSTART", "DTEND", "SUMMARY", "SEQUENCE", "LAST-MODIFIED"):
             assert prop in event, prop
         # The event is the observable stretch, as in the CSV, to the second; the padded window is described.
         assert event.decoded("DTSTART") == datetime.fromisoformat(row["observable_start_utc"])
@@ -109,13 +110,13 @@ def test_ics_parses_back_with_one_complete_event_per_row(planned, tmp_path):
 
 def test_ics_lines_end_with_crlf_and_fit_75_octets(planned, tmp_path):
     # RFC 5545 §3.1: content lines are delimited by CRLF and folded so that no line is longer
-    # than 75 octets, excluding the line break.
+    # than 75 octets, excluding the line break (authorities.calendars).
     path = tmp_path / "windows.ics"
     write_windows_ics(planned, path)
     lines = _ics_lines(path)
     assert not any(b"\n" in line or b"\r" in line for line in lines)
     longest = max(len(line) for line in lines)
-    assert longest <= 75, longest
+    assert longest <= calendars.MAX_LINE_OCTETS, longest
 
 
 def test_ics_text_with_newline_semicolon_and_comma_stays_one_value(planned, tmp_path):

@@ -13,8 +13,9 @@ import astropy.units as u
 from astropy.coordinates import AltAz, HADec, SkyCoord
 from astropy.time import Time
 
-from vigil.catalog import Site, read_sites
+from vigil.catalog import read_sites
 from vigil.facility import Facility
+from vigil.sites import Site
 from vigil.timescales import earth_location
 from vigil.windows import plan_windows
 

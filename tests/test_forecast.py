@@ -14,9 +14,10 @@ import vigil  # noqa: F401  (configures astropy offline before astropy is used)
 from astropy import constants as const
 from astropy.time import Time
 
+from authorities import forecast as authorities_forecast
 from vigil import forecast, geometry, spectrum
 from vigil.bodies import target_bodies
-from vigil.catalog import Site
+from vigil.sites import Site
 
 from test_campaign import GIANT, SPECTROGRAPH, START, campaign_spec, run, targets_table, windows_of
 
@@ -133,12 +134,12 @@ def test_earth_twin_is_out_of_reach_from_the_ground():
     # night at the site (PyEphem: 10.7 h at 24.6 deg S), so no night holds a full window.
     assert duration_h + 2 * 1.0 > _longest_dark_night_h(TROPIC)
     assert counted.empty  # partly observed transits exist (above), none is whole
-    # Feature depth delta = 2 n_H H R_p / R*^2, n_H = 2, H = k_B T / (mu m_u g) (REFERENCES.md):
+    # Feature depth delta = 2 n_H H R_p / R*^2, H = k_B T / (mu m_u g) (authorities.forecast):
     # about 0.39 ppm, so a 10 ppm floor caps the SNR per bin at delta / floor ~ 0.04 < 5.
     gravity = const.G.value * const.M_earth.value / const.R_earth.value**2
-    height_m = const.k_B.value * 255.0 / (28.97 * const.u.value * gravity)
-    delta = 2 * 2.0 * height_m * const.R_earth.value / const.R_sun.value**2
-    assert delta == pytest.approx(0.39e-6, rel=0.02)
+    height_m = const.k_B.value * authorities_forecast.EARTH_LIKE_TEQ_K / (authorities_forecast.EARTH_AIR_MU * const.u.value * gravity)
+    delta = 2 * authorities_forecast.N_SCALE_HEIGHTS * height_m * const.R_earth.value / const.R_sun.value**2
+    assert delta == pytest.approx(authorities_forecast.EARTH_LIKE_FEATURE_DEPTH, rel=0.02)
     summary = run(spec, targets, sites=(TROPIC,)).summary.iloc[0]
     assert not summary["reachable"] and math.isinf(summary["years_to_goal_p50"])
     assert summary["snr_cap"] == pytest.approx(delta / 10e-6, rel=1e-3)
@@ -160,7 +161,7 @@ def _verdict(spec, targets) -> pd.Series:
 
 
 def test_noise_floor_when_the_goal_snr_exceeds_depth_over_floor():
-    # SNR per bin <= delta / floor at any resolution and time (REFERENCES.md, photon-noise limit).
+    # SNR per bin <= delta / floor at any resolution and time (authorities.forecast, photon-noise limit).
     planet, star = _giant_bodies()
     floor_ppm = 2000.0
     assert spectrum.feature_depth(planet, star) / (floor_ppm * 1e-6) < 5.0
@@ -178,7 +179,7 @@ def test_allocation_when_caps_starve_a_target_with_plenty_of_windows(cap):
 
 
 def test_ephemeris_too_stale_when_sigma_padding_swallows_the_windows():
-    # sigma_T(n)^2 = sigma_T0^2 + n^2 sigma_P^2 (REFERENCES.md): 1000 epochs at sigma_P = 1e-3 d
+    # sigma_T(n)^2 = sigma_T0^2 + n^2 sigma_P^2 (authorities.transits): 1000 epochs at sigma_P = 1e-3 d
     # give ~1 d of timing uncertainty, so a window padded by 1 sigma fits no night, while the
     # unpadded windows are plentiful.
     targets = targets_table({"t0_bjd_tdb": GIANT["t0_bjd_tdb"] - 1000 * GIANT["period_d"], "period_err_d": 1e-3})

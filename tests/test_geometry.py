@@ -6,24 +6,23 @@ import numpy as np
 import pytest
 
 import vigil  # noqa: F401  (configures astropy offline before astropy is used)
+from authorities import transits
 from vigil import geometry
 from vigil.errors import InputError
 
-# Earth and Sun: P = 365.256 d, a/R* = 215.03, k = R_earth/R_sun = 0.00917 (REFERENCES.md).
-EARTH_PERIOD_D = 365.256
-EARTH_A_OVER_RSUN = 215.03
-EARTH_K = 0.00917
-# IAU 2015 Resolution B3 nominal values (from memory): GM_sun (m^3 s^-2), R_sun (m).
-GM_SUN_M3_S2 = 1.3271244e20
-R_SUN_M = 6.957e8
-# Earth's sidereal year, days (from memory).
-SIDEREAL_YEAR_D = 365.256363
+# Earth and Sun, IAU nominal values, the sidereal year: authorities.transits.
+EARTH_PERIOD_D = transits.EARTH_PERIOD_D
+EARTH_A_OVER_RSUN = transits.EARTH_A_OVER_RSUN
+EARTH_K = transits.EARTH_K
+GM_SUN_M3_S2 = transits.GM_SUN_M3_S2
+R_SUN_M = transits.R_SUN_M
+SIDEREAL_YEAR_D = transits.SIDEREAL_YEAR_D
 
 
 def test_earth_central_crossing_lasts_13_1_hours():
     # Winn 2010, "Transits and Occultations", eq. 14; Earth crossing the Sun centrally: T14 ~ 13.1 h.
     duration_h = geometry.transit_duration_h(EARTH_PERIOD_D, EARTH_A_OVER_RSUN, EARTH_K, 0.0)
-    assert duration_h == pytest.approx(13.1, abs=0.05)
+    assert duration_h == pytest.approx(transits.EARTH_CENTRAL_T14_H, abs=0.05)
 
 
 def test_central_crossing_matches_the_chord_over_the_orbital_speed():
@@ -36,11 +35,12 @@ def test_central_crossing_matches_the_chord_over_the_orbital_speed():
 
 def test_earth_like_transits_last_10_to_13_hours_for_modest_impact_parameters():
     # An Earth-like planet around a Sun-like star transits for roughly 10-13 h, the upper end a
-    # central crossing (REFERENCES.md: fact of the trade). Vectorised over b.
+    # central crossing (authorities.transits: fact of the trade). Vectorised over b.
     b = np.linspace(0.0, 0.6, 13)
     durations_h = geometry.transit_duration_h(EARTH_PERIOD_D, EARTH_A_OVER_RSUN, EARTH_K, b)
     assert durations_h.shape == b.shape
-    assert np.all((durations_h >= 10.0) & (durations_h <= 13.2))
+    low_h, high_h = transits.EARTH_LIKE_T14_RANGE_H
+    assert np.all((durations_h >= low_h) & (durations_h <= high_h))
     assert np.all(np.diff(durations_h) < 0)  # a longer chord near the centre (geometry, no source)
 
 
@@ -70,10 +70,10 @@ def test_bad_input_raises_input_error(changes):
 
 
 def test_kepler_third_law_gives_215_for_the_earth():
-    # IAU nominal solar mass and radius; Earth's sidereal year: a/R* ~ 215 (REFERENCES.md, 1 au / R_sun).
+    # IAU nominal solar mass and radius; Earth's sidereal year: a/R* ~ 215 (authorities.transits).
     a_over_rstar = geometry.a_over_rstar_from_mass_radius(SIDEREAL_YEAR_D, 1.0, 1.0)
     independent = (GM_SUN_M3_S2 * (SIDEREAL_YEAR_D * 86400.0) ** 2 / (4 * math.pi**2)) ** (1 / 3) / R_SUN_M
-    assert a_over_rstar == pytest.approx(215.03, rel=2e-4)
+    assert a_over_rstar == pytest.approx(EARTH_A_OVER_RSUN, rel=2e-4)
     assert a_over_rstar == pytest.approx(independent, rel=1e-6)
 
 
@@ -81,7 +81,7 @@ def test_density_and_mass_radius_forms_agree():
     # Kepler's third law with rho* = M* / (4/3 pi R*^3): both forms give the same a/R*
     # (algebra, no source). Invented star: 0.8 M_sun, 0.75 R_sun, periods 1-30 d.
     period_d = np.array([1.0, 4.5, 30.0])
-    mass_kg = 0.8 * GM_SUN_M3_S2 / 6.6743e-11  # CODATA 2018 G (from memory)
+    mass_kg = 0.8 * GM_SUN_M3_S2 / transits.G_SI
     density = mass_kg / (4 / 3 * math.pi * (0.75 * R_SUN_M) ** 3)
     by_mass = geometry.a_over_rstar_from_mass_radius(period_d, 0.8, 0.75)
     by_density = geometry.a_over_rstar_from_density(period_d, density)

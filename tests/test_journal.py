@@ -16,7 +16,7 @@ import vigil  # noqa: F401  (configures astropy offline before anything else)
 from vigil import journal as journal_module
 from vigil.errors import InputError
 from vigil.journal import COLUMNS, SCHEMA_VERSION, open_journal
-from vigil.refit import fit_linear_ephemeris, refit_targets
+from vigil.ephemeris.refit import fit_linear_ephemeris, refit_targets
 
 # Invented targets, sites and ephemeris.
 TRUE_T0_BJD_TDB = 2461102.34567

@@ -8,7 +8,7 @@ from scipy.optimize import brentq, minimize_scalar
 
 import vigil  # noqa: F401  (configures astropy offline before anything else)
 from vigil.errors import InputError
-from vigil.occultation import (
+from vigil.ephemeris.occultation import (
     occultation_duration_h,
     occultation_mid_bjd_tdb,
     occultation_offset_approx_d,

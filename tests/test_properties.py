@@ -26,7 +26,9 @@ from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
 from vigil import sky
-from vigil.catalog import Site, read_sites, read_targets
+from vigil.catalog import read_sites, read_targets
+from vigil.constraints import TWILIGHT_SUN_ALT_DEG
+from vigil.sites import Site
 from vigil.timescales import earth_location
 from vigil.windows import plan_windows
 
@@ -107,7 +109,7 @@ def test_full_windows_lie_in_one_night_above_the_altitude_limit(scenario):
     jd = (first + (last - first) * inner).ravel()
     times = Time(jd, format="jd", scale="utc")
     location = earth_location(site.latitude_deg, site.longitude_deg, site.elevation_m)
-    sun_limit = sky.TWILIGHT_SUN_ALT_DEG[overrides["twilight"]]
+    sun_limit = TWILIGHT_SUN_ALT_DEG[overrides["twilight"]]
     assert np.all(sky.sun_altitude_deg(times, location) < sun_limit)
     ra = np.repeat(full["ra_deg"].to_numpy(), SAMPLES_PER_WINDOW)
     dec = np.repeat(full["dec_deg"].to_numpy(), SAMPLES_PER_WINDOW)

@@ -6,8 +6,9 @@ import pytest
 from matplotlib.image import imread
 
 import vigil  # noqa: F401  (configures astropy offline before anything else)
+from authorities import transits
 from vigil.errors import InputError
-from vigil.refit import fit_linear_ephemeris, plot_o_minus_c, refit_targets
+from vigil.ephemeris.refit import fit_linear_ephemeris, plot_o_minus_c, refit_targets
 
 # Invented ephemeris for synthetic timings.
 TRUE_T0_BJD_TDB = 2461234.56789
@@ -71,12 +72,12 @@ def test_reference_epoch_decorrelates_t0_and_period():
         spread = np.sqrt(np.sum(w * (epochs - np.average(epochs, weights=w)) ** 2) / np.sum(w))
         assert abs(corr) <= 0.5 / spread + 1e-12
         assert abs(corr) < 0.01
-        # Propagating to another epoch m with the formula in /work/shared/REFERENCES.md
-        # (sigma_T(m)^2 = sigma_T0^2 + m^2 sigma_P^2 + 2 m cov) must give the intercept error of
+        # Propagating to another epoch m with the standard formula (authorities.transits:
+        # sigma_T(m)^2 = sigma_T0^2 + m^2 sigma_P^2 + 2 m cov) must give the intercept error of
         # numpy.polyfit referenced at that epoch (cov='unscaled').
         m = 137
         _, cov = np.polyfit(epochs - fit.reference_epoch - m, times - times[0], 1, w=1.0 / errors, cov="unscaled")
-        propagated = fit.t0_err_d**2 + m**2 * fit.period_err_d**2 + 2 * m * fit.t0_period_cov_d2
+        propagated = transits.propagated_sigma_d(m, fit.t0_err_d, fit.period_err_d, fit.t0_period_cov_d2) ** 2
         assert propagated == pytest.approx(cov[1, 1], rel=1e-8)
 
 

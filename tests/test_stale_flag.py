@@ -3,8 +3,9 @@
 import numpy as np
 import pandas as pd
 
-from vigil.ephemeris import mid_sigma_d
-from vigil.visibility import Constraints, pad_windows
+from vigil.ephemeris.models import mid_sigma_d
+from vigil.constraints import Constraints
+from vigil.visibility import pad_windows
 
 
 def test_stale_flag_follows_the_propagated_sigma():

@@ -7,10 +7,12 @@ import pytest
 from astropy.time import Time
 
 import vigil  # noqa: F401  (configures astropy offline before anything else)
-from vigil.ephemeris import mid_sigma_d, project_transits
+from authorities import transits
+from vigil.ephemeris.models import linear_ephemeris, mid_sigma_d
+from vigil.ephemeris.projection import project_transits
 from vigil.errors import InputError
-from vigil.refit import fit_linear_ephemeris
-from vigil.staleness import DURATION_FRACTION, first_stale_epoch, refresh_sigma, stale_date, staleness
+from vigil.ephemeris.refit import fit_linear_ephemeris
+from vigil.ephemeris.staleness import DURATION_FRACTION, first_stale_epoch, refresh_sigma, stale_date, staleness
 
 SCAN = 200_000  # epochs scanned by brute force; the random cases below go stale well inside it
 
@@ -18,13 +20,13 @@ SCAN = 200_000  # epochs scanned by brute force; the random cases below go stale
 def _scan_first_stale(limit_d, t0_err_d, period_err_d, cov_d2, sigma_k, from_epoch):
     """Brute force: evaluate K sigma_T(n) at every epoch from from_epoch on; first one above the limit."""
     epochs = np.arange(from_epoch, from_epoch + SCAN)
-    beyond = np.flatnonzero(sigma_k * mid_sigma_d(epochs, t0_err_d, period_err_d, cov_d2) > limit_d)
+    beyond = np.flatnonzero(sigma_k * transits.propagated_sigma_d(epochs, t0_err_d, period_err_d, cov_d2) > limit_d)
     return float(epochs[beyond[0]]) if beyond.size else math.inf
 
 
 def test_first_stale_epoch_matches_brute_force_scan():
     # Reference: direct evaluation of sigma_T(n)^2 = sigma_T0^2 + n^2 sigma_P^2 + 2 n cov
-    # (standard error propagation, /work/shared/REFERENCES.md) at every epoch, seeded random
+    # (standard error propagation, authorities.transits) at every epoch, seeded random
     # ephemerides with correlations up to +-0.99, start epochs on either side of T0, limits
     # both below (already stale) and above K sigma_T0.
     rng = np.random.default_rng(20240607)
@@ -49,7 +51,7 @@ def test_never_stale_without_period_uncertainty():
     # stale from the first epoch if K sigma_T0 is beyond the limit, never otherwise.
     assert first_stale_epoch(0.01, 1e-3, 0.0, 0.0, 3.0, from_epoch=-7) == math.inf
     assert first_stale_epoch(0.002, 1e-3, 0.0, 0.0, 3.0, from_epoch=-7) == -7.0
-    never = stale_date(2461000.5, 3.3, 0.01, 1e-3, 0.0)
+    never = stale_date(linear_ephemeris(2461000.5, 1e-3, 3.3, 0.0), 0.01)
     assert never.epoch == math.inf and never.bjd_tdb == math.inf and never.time is None
 
 

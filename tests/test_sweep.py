@@ -5,6 +5,8 @@ keep: same rows, columns, dtypes and order), on an invented workload and the dem
 sites.
 """
 
+from concurrent.futures import ThreadPoolExecutor
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -42,6 +44,31 @@ def test_two_processes_match_plan_windows(catalog, demo_sites):
     pd.testing.assert_frame_equal(got, expected, check_exact=True)
 
 
+@pytest.mark.parametrize("include_unobservable", [False, True])
+def test_time_segments_match_plan_windows(catalog, demo_sites, include_unobservable):
+    # Week-long segments: each transit belongs to the segment holding its mid-time at the site.
+    expected = windows.plan_windows(catalog, demo_sites, {"moon_sep_deg": 20.0}, START, END,
+                                    include_unobservable=include_unobservable)
+    pieces = list(sweep.iter_windows(catalog, demo_sites, {"moon_sep_deg": 20.0}, START, END, chunk_targets=4,
+                                     segment_days=7.0, include_unobservable=include_unobservable))
+    assert len(pieces) == 7
+    assert all(a["mid_jd_utc"].max() < b["mid_jd_utc"].min() for a, b in zip(pieces, pieces[1:]))
+    got = sweep.plan_windows_chunked(catalog, demo_sites, {"moon_sep_deg": 20.0}, START, END, chunk_targets=4,
+                                     segment_days=7.0, include_unobservable=include_unobservable)
+    pd.testing.assert_frame_equal(got, expected, check_exact=True)
+
+
+def test_any_executor_with_parquet_chunk_files_matches_plan_windows(catalog, demo_sites, tmp_path):
+    # Tasks on a thread pool leave their tables as Parquet files, read back and removed here.
+    pytest.importorskip("pyarrow", reason="Parquet chunk files need the optional extra: pip install 'vigil[dask]'")
+    expected = windows.plan_windows(catalog, demo_sites, {}, START, END)
+    with ThreadPoolExecutor(max_workers=2) as pool:
+        got = sweep.plan_windows_chunked(catalog, demo_sites, {}, START, END, jobs=2, chunk_targets=3,
+                                         segment_days=10.0, executor=pool, chunk_dir=tmp_path)
+    pd.testing.assert_frame_equal(got, expected, check_exact=True)
+    assert list(tmp_path.iterdir()) == []
+
+
 def test_occultations_match_plan_windows(catalog, demo_sites):
     # The event type is passed through; eccentric orbits move the occultation off half-phase.
     eccentric = catalog.assign(eccentricity=0.2, omega_deg=np.linspace(0.0, 330.0, len(catalog)))
@@ -60,7 +87,7 @@ def test_chunks_sized_by_expected_transits_match(catalog, demo_sites, monkeypatc
     pd.testing.assert_frame_equal(got, windows.plan_windows(catalog, demo_sites, {}, START, END), check_exact=True)
     assert len(seen) > 5
     assert [done for _, done, _ in seen] == sorted({done for _, done, _ in seen})
-    assert seen[-1][1:] == (len(catalog), len(catalog))
+    assert seen[-1][1] == seen[-1][2] == len(seen)
     assert sum(rows for rows, _, _ in seen) == len(got)
 
 
@@ -85,7 +112,8 @@ def test_nothing_observable_gives_the_same_empty_table(catalog, demo_sites):
 
 @pytest.mark.parametrize("kwargs, field", [({"jobs": 0}, "jobs"), ({"jobs": 1.5}, "jobs"),
                                            ({"chunk_targets": 0}, "chunk_targets"),
-                                           ({"chunk_targets": True}, "chunk_targets")])
+                                           ({"chunk_targets": True}, "chunk_targets"),
+                                           ({"segment_days": 0.0}, "segment_days")])
 def test_bad_settings_are_refused(catalog, demo_sites, kwargs, field):
     with pytest.raises(InputError, match=field):
         sweep.plan_windows_chunked(catalog, demo_sites, {}, START, END, **kwargs)

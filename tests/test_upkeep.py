@@ -5,11 +5,11 @@ import pandas as pd
 import pytest
 
 import vigil  # noqa: F401  (configures astropy offline before astropy is used)
-from vigil import upkeep
-from vigil.ephemeris import mid_sigma_d
+from vigil.ephemeris import upkeep
+from vigil.ephemeris.models import mid_sigma_d
 from vigil.journal import open_journal
-from vigil.refit import fit_linear_ephemeris
-from vigil.staleness import refresh_sigma
+from vigil.ephemeris.refit import fit_linear_ephemeris
+from vigil.ephemeris.staleness import refresh_sigma
 
 from test_campaign import GIANT, START, campaign_spec, run, targets_table
 
@@ -52,7 +52,7 @@ def test_one_timing_shrinks_sigma_as_the_refresh_formula_says():
 
 
 def test_refreshes_rescue_a_stale_ephemeris():
-    # sigma_T(n)^2 = sigma_T0^2 + n^2 sigma_P^2 (REFERENCES.md): 1000 epochs at sigma_P = 1e-3 d pad
+    # sigma_T(n)^2 = sigma_T0^2 + n^2 sigma_P^2 (authorities.transits): 1000 epochs at sigma_P = 1e-3 d pad
     # every window by ~1 d, so nothing fits a night; one refresh timing of 1 min at the start of each
     # quarter brings sigma near 1 min again, and the target becomes reachable.
     targets = targets_table({"t0_bjd_tdb": GIANT["t0_bjd_tdb"] - 1000 * GIANT["period_d"], "period_err_d": 1e-3})

@@ -18,16 +18,17 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.optimize import brentq
 
+from authorities import airmass, sun_moon
 from vigil import intervals, sky, visibility, windows
 from vigil.catalog import read_targets
 from vigil.timescales import earth_location
 
 from conftest import DEMO_DIR
 
-TWILIGHT_TOLERANCE_S = 60.0  # REFERENCES.md: a fast path should stay within 60 s of PyEphem
+TWILIGHT_TOLERANCE_S = sun_moon.TWILIGHT_TOLERANCE_VS_PYEPHEM_S
 # The coverage cases run on both engines. Mid-time seen at the site vs the astropy forward
 # conversion: the reference engine solves it to < 0.1 ms (timescales.py), the fast one
-# claims 0.05 s of astropy (fast_path.site_mid_jd_utc).
+# claims 0.05 s of astropy (fast_engine.site_mid_jd_utc).
 ENGINES = ("reference", "fast")
 MID_TIME_TOLERANCE_S = {"reference": 1e-3, "fast": 0.05}
 # (site, an instant in the afternoon before a long winter night there)
@@ -41,12 +42,12 @@ def _location(site):
 
 def _pyephem_dark_night(site, afternoon: Time) -> tuple[Time, Time]:
     """Start and end of astronomical darkness after `afternoon` from PyEphem: Sun's centre at
-    -18 deg, no refraction (REFERENCES.md settings)."""
+    -18 deg, no refraction (the settings of authorities.sun_moon)."""
     observer = ephem.Observer()
     observer.lat, observer.lon = str(site.latitude_deg), str(site.longitude_deg)
     observer.elevation = site.elevation_m
     observer.pressure = 0
-    observer.horizon = "-18"
+    observer.horizon = str(sun_moon.TWILIGHT_SUN_ALT_DEG["astronomical"])
     observer.date = ephem.Date(afternoon.utc.datetime)
     dusk = observer.next_setting(ephem.Sun(), use_center=True)
     observer.date = dusk
@@ -106,7 +107,7 @@ def test_always_up_target_is_observable_exactly_through_astronomical_darkness(ma
                                                                              site_name, afternoon, engine):
     # The celestial pole above the site stays at altitude |latitude|; with a 10 deg limit only
     # darkness constrains it, so the observable stretch of a 23 h window is the dark night.
-    # Reference: PyEphem twilight instants (within 60 s, REFERENCES.md).
+    # Reference: PyEphem twilight instants (within authorities.sun_moon.TWILIGHT_TOLERANCE_VS_PYEPHEM_S).
     site = demo_sites[site_name]
     dusk, dawn = _pyephem_dark_night(site, Time(afternoon, scale="utc"))
     midnight = dusk + (dawn - dusk) / 2
@@ -237,9 +238,9 @@ def test_alt_mid_is_astropy_apparent_altitude_and_agrees_with_pyephem(demo_week)
 
 
 def _kasten_young_zenith(zenith_deg):
-    """Kasten & Young (1989, Applied Optics 28, 4735): X = 1 / (cos z + 0.50572 (96.07995 - z)^-1.6364)."""
+    """Kasten & Young (1989), coefficients from authorities.airmass."""
     z = np.asarray(zenith_deg, dtype=float)
-    return 1.0 / (np.cos(np.radians(z)) + 0.50572 * (96.07995 - z) ** -1.6364)
+    return 1.0 / (np.cos(np.radians(z)) + airmass.KASTEN_YOUNG_A * (airmass.KASTEN_YOUNG_B_DEG - z) ** -airmass.KASTEN_YOUNG_C)
 
 
 def test_airmass_mid_is_kasten_young_at_the_geometric_altitude(demo_week):
@@ -255,17 +256,17 @@ def test_airmass_mid_is_kasten_young_at_the_geometric_altitude(demo_week):
 
 
 def test_kasten_young_airmass_at_zenith_60_deg():
-    # X(z = 60 deg) = 1.9943 computed from the Kasten & Young (1989) formula (REFERENCES.md).
-    assert sky.airmass_kasten_young(30.0) == pytest.approx(1.9943, abs=1e-4)
+    # X(z = 60 deg) from the Kasten & Young (1989) formula (authorities.airmass).
+    assert sky.airmass_kasten_young(30.0) == pytest.approx(airmass.KASTEN_YOUNG_X_AT_Z60, abs=1e-4)
     assert sky.airmass_kasten_young(30.0) == pytest.approx(float(_kasten_young_zenith(60.0)), rel=1e-12)
 
 
 def test_kasten_young_airmass_tends_to_sec_z_near_the_zenith():
-    # Plane-parallel limit X = sec z at small zenith angles (REFERENCES.md); the fitted formula
-    # sits 3e-4 below it at the zenith and the curvature term grows as tan^2 z, so allow 1e-3
-    # relative up to z = 40 deg.
-    zenith = np.linspace(0.0, 40.0, 41)
-    np.testing.assert_allclose(sky.airmass_kasten_young(90.0 - zenith), 1.0 / np.cos(np.radians(zenith)), rtol=1e-3)
+    # Plane-parallel limit X = sec z at small zenith angles (authorities.airmass); the fitted
+    # formula sits 3e-4 below it at the zenith and the curvature term grows as tan^2 z.
+    zenith = np.linspace(0.0, airmass.SEC_Z_AGREEMENT_UP_TO_Z_DEG, 41)
+    np.testing.assert_allclose(sky.airmass_kasten_young(90.0 - zenith), 1.0 / np.cos(np.radians(zenith)),
+                               rtol=airmass.SEC_Z_RELATIVE_TOLERANCE)
 
 
 # --- coverage classifier on synthetic intervals ---------------------------------------------

@@ -2,24 +2,17 @@
 
 Every problem is reported as one `InputError` line naming the file, the row (as the line
 number in the file) or TOML key, and the field, with what was expected. Values that are
-plausible but odd are accepted with a warning on the "vigil" logger.
-
-CSV files are UTF-8, with or without a byte-order mark, comma-separated, with a point as the
-decimal mark; blank lines are skipped, and rows shorter than the header are padded with empty
-cells.
+plausible but odd are accepted with a warning on the "vigil" logger. The text-file rules
+(encoding, CSV records, TOML) are in `textfile`; the types read are in `sites` and
+`constraints`. Only the command line (and a caller of vigil as a library) reads files.
 """
 
 from __future__ import annotations
 
-import csv
 import datetime
-import difflib
-import io
 import logging
 import math
 import re
-import tomllib
-from dataclasses import dataclass, field
 from pathlib import Path
 
 import astropy.units as u
@@ -29,26 +22,24 @@ from astropy.coordinates import Angle
 from astropy.time import Time
 
 from vigil import bodies
+from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
 from vigil.errors import InputError
-from vigil.facility import FACILITY_KEYS, Facility, read_facility
-from vigil.visibility import Constraints
+from vigil.facility import FACILITY_KEYS, read_facility
+from vigil.sites import (DEFAULT_INTERRUPTION_START_JD_UTC, DEFAULT_SUN_ANGLE_MAX_DEG, DEFAULT_SUN_ANGLE_MIN_DEG,
+                         DEFAULT_TEMPERATURE_C, Site, SpaceSettings)
+from vigil.textfile import csv_number, line_of, load_toml, number_in_range, read_csv, spelling_hint
+from vigil.timescales import MAX_PLAUSIBLE_JD, MIN_PLAUSIBLE_JD
 
 log = logging.getLogger("vigil")
 
 REQUIRED_TARGET_FIELDS = ("name", "t0_bjd_tdb", "t0_err_d", "period_d", "period_err_d", "duration_h")
 TIMING_FIELDS = ("target", "mid_bjd_tdb", "mid_err_d")
-# Full Julian dates of the telescope era (years 1858 to 2406); smaller values are MJDs or
-# truncated JDs, larger ones a unit or offset mistake.
-MIN_PLAUSIBLE_JD = 2_400_000.0
-MAX_PLAUSIBLE_JD = 2_600_000.0
 # Shorter periods than this are a unit mistake, and would ask for millions of transits.
 MIN_PERIOD_D = 0.05
-MAX_LINE_CHARS = 10_000
 # Thresholds of the warnings for plausible but odd values.
 ODD_PERIOD_ERR_FRACTION = 0.01
 LOW_ALTITUDE_LIMIT_DEG = 10.0
 HIGH_ELEVATION_M = 5000.0
-CONSTRAINT_KEYS = ("min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg")
 GROUND_KEYS = ("latitude_deg", "longitude_deg", "elevation_m", "pressure_hpa", "temperature_c")
 SPACE_KEYS = ("sun_angle_min_deg", "sun_angle_max_deg", "interruption_period_h", "interruption_h",
               "interruption_start_utc", "blackouts", "distance_from_earth_km")
@@ -56,170 +47,9 @@ SITE_KEYS = {"kind", *GROUND_KEYS, "timezone", *CONSTRAINT_KEYS, *FACILITY_KEYS}
 SPACE_SITE_KEYS = {"kind", *SPACE_KEYS, "timezone", *CONSTRAINT_KEYS}
 # Constraints of the ground that mean nothing in space (the windows' padding still applies).
 GROUND_ONLY_CONSTRAINTS = ("min_altitude_deg", "twilight", "moon_sep_deg")
-# A field of regard typical of a Sun-shielded observatory far from the Earth (common practice, no source).
-DEFAULT_SUN_ANGLE_MIN_DEG = 85.0
-DEFAULT_SUN_ANGLE_MAX_DEG = 135.0
-DEFAULT_INTERRUPTION_START_JD_UTC = 2451544.5  # 2000-01-01 0h UTC
 MIN_INTERRUPTION_PERIOD_H = 0.1
 _LIGHT_KM_PER_S = 299792.458
 _AU_KM = 149597870.7
-
-
-@dataclass(frozen=True)
-class SpaceSettings:
-    """What limits an observatory in space.
-
-    The target is observable while its angle from the Sun lies in [sun_angle_min_deg,
-    sun_angle_max_deg], except during regular interruptions (interruption_h hours every
-    interruption_period_h hours, the first starting at interruption_start_jd_utc; none when
-    the period is None) and during blackouts ((start, end) pairs, JD UTC, sorted by start).
-    distance_from_earth_km (from the geocentre; None if not given) sizes the notes on the errors
-    of taking the site at the geocentre, and beyond a low orbit leaves moon_sep_deg NaN.
-    """
-
-    sun_angle_min_deg: float = DEFAULT_SUN_ANGLE_MIN_DEG
-    sun_angle_max_deg: float = DEFAULT_SUN_ANGLE_MAX_DEG
-    interruption_period_h: float | None = None
-    interruption_h: float = 0.0
-    interruption_start_jd_utc: float = DEFAULT_INTERRUPTION_START_JD_UTC
-    blackouts_jd_utc: tuple[tuple[float, float], ...] = ()
-    distance_from_earth_km: float | None = None
-
-
-@dataclass(frozen=True)
-class Site:
-    """An observatory: on the ground (longitude east positive, in (-180, 180]), or in space
-    when `space` is set (then latitude, longitude and elevation are NaN)."""
-
-    name: str
-    latitude_deg: float
-    longitude_deg: float
-    elevation_m: float
-    timezone: str | None = None
-    pressure_hpa: float | None = None
-    temperature_c: float = 10.0
-    defaults: dict = field(default_factory=dict)
-    space: SpaceSettings | None = None
-    facility: Facility = field(default_factory=Facility)
-
-    @classmethod
-    def in_space(cls, name: str, space: SpaceSettings, timezone: str | None = None,
-                 defaults: dict | None = None) -> "Site":
-        """A site of kind space: no place on the Earth."""
-        return cls(name, math.nan, math.nan, math.nan, timezone=timezone, defaults=dict(defaults or {}), space=space)
-
-    @property
-    def kind(self) -> str:
-        """'ground' or 'space'."""
-        return "ground" if self.space is None else "space"
-
-    @property
-    def air_pressure_hpa(self) -> float:
-        """Air pressure for refraction: given, or the standard atmosphere at the site's elevation."""
-        if self.pressure_hpa is not None:
-            return self.pressure_hpa
-        return 1013.25 * (1.0 - 2.25577e-5 * self.elevation_m) ** 5.25588
-
-
-def _where(path: Path, line: int) -> str:
-    return f"{path}: line {line}"
-
-
-def _spelling_hint(wanted, found) -> str:
-    """' (is 'X' meant to be 'Y'?)' for the first wanted name with a near miss among `found`."""
-    found = list(found)
-    for name in wanted:
-        by_case = [f for f in found if f.lower() == name.lower()]
-        close = by_case or difflib.get_close_matches(name, found, n=1, cutoff=0.75)
-        if close:
-            return f" (is {close[0]!r} meant to be {name!r}?)"
-    return ""
-
-
-# --- text files ----------------------------------------------------------------------------
-
-_LINE_BREAK = re.compile(r"\r\n|\r|\n")
-_CONTROL_CHARACTER = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
-
-
-def _read_text(path: Path) -> str:
-    """The file's text: UTF-8, with or without a byte-order mark."""
-    try:
-        raw = path.read_bytes()
-    except OSError as exc:
-        raise InputError(f"{path}: cannot read file ({exc.strerror})") from None
-    try:
-        return raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = raw[:exc.start].count(b"\n") + 1
-        raise InputError(f"{path}: line {line}: not UTF-8 text (byte 0x{raw[exc.start]:02X}); "
-                         "expected a file saved as UTF-8") from None
-
-
-def _check_plain_lines(path: Path, text: str, rows_are: str) -> None:
-    for number, line in enumerate(_LINE_BREAK.split(text), start=1):
-        if len(line) > MAX_LINE_CHARS:
-            raise InputError(f"{path}: line {number} is {len(line)} characters long; expected at most "
-                             f"{MAX_LINE_CHARS} per line of a table of {rows_are}s")
-        bad = _CONTROL_CHARACTER.search(line)
-        if bad:
-            raise InputError(f"{path}: line {number}: control character U+{ord(bad.group()):04X} at column "
-                             f"{bad.start() + 1}; expected plain text")
-
-
-def _records(path: Path, text: str) -> list[tuple[int, list[str]]]:
-    """(first line, stripped fields) of every record that is not blank."""
-    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
-    records, line = [], 1
-    try:
-        for fields in reader:
-            if any(f.strip() for f in fields):
-                records.append((line, [f.strip() for f in fields]))
-            line = reader.line_num + 1
-    except csv.Error as exc:
-        raise InputError(f"{path}: line {line}: not valid comma-separated values ({exc}); check the quotes") from None
-    return records
-
-
-def _check_header(path: Path, line: int, header: list[str]) -> None:
-    if len(header) == 1:
-        for mark, name in ((";", "semicolons"), ("\t", "tabs")):
-            if mark in header[0]:
-                raise InputError(f"{path}: line {line}: fields are separated by {name}; expected comma-separated "
-                                 "values with a point as the decimal mark (45.20, not 45,20)")
-    named = [h for h in header if h]
-    twice = next((h for i, h in enumerate(named) if h in named[:i]), None)
-    if twice is not None:
-        raise InputError(f"{path}: line {line}: column {twice!r} appears twice in the header")
-
-
-def _cells(path: Path, line: int, fields: list[str], header: list[str]) -> list[str]:
-    """The row's values for the named columns; short rows are padded with empty cells."""
-    if len(fields) > len(header) and any(fields[len(header):]):
-        raise InputError(f"{path}: line {line}: {len(fields)} fields but the header has {len(header)}; expected one "
-                         "value per column (a decimal comma such as 45,20 or an unquoted comma in a name splits "
-                         "a field: use points and quote such names)")
-    fields = (fields + [""] * len(header))[:len(header)]
-    stray = next((v for h, v in zip(header, fields) if not h and v), None)
-    if stray is not None:
-        raise InputError(f"{path}: line {line}: value {stray!r} sits under a column with no name in the header")
-    return [v for h, v in zip(header, fields) if h]
-
-
-def _read_csv(path: Path, rows_are: str) -> tuple[int, pd.DataFrame]:
-    """(header line, table of stripped text cells indexed by line number in the file)."""
-    text = _read_text(path)
-    _check_plain_lines(path, text, rows_are)
-    records = _records(path, text)
-    if not records:
-        raise InputError(f"{path}: file is empty; expected a header line and one row per {rows_are}")
-    (header_line, header), body = records[0], records[1:]
-    _check_header(path, header_line, header)
-    if not body:
-        raise InputError(f"{path}: header only; expected one row per {rows_are} below line {header_line}")
-    cells = [_cells(path, line, fields, header) for line, fields in body]
-    table = pd.DataFrame(cells, columns=[h for h in header if h], index=[line for line, _ in body], dtype=str)
-    return header_line, table
 
 
 def _other_time_column(columns, time_column: str) -> str | None:
@@ -243,28 +73,11 @@ def _require_columns(path: Path, line: int, columns, required, time_column: str)
                          "Barycentric Julian Dates in TDB (BJD_TDB); rename the column if it holds BJD_TDB, else "
                          "convert the times first (HJD, JD or UTC-based times differ from BJD_TDB by up to about "
                          "10 minutes)")
-    hint = _spelling_hint(missing, [c for c in columns if c not in required])
+    hint = spelling_hint(missing, [c for c in columns if c not in required])
     raise InputError(f"{path}: line {line}: missing column(s) {', '.join(missing)}{hint}; found {', '.join(columns)}")
 
 
 # --- values --------------------------------------------------------------------------------
-
-_DECIMAL_COMMA = re.compile(r"[+-]?\d+,\d+")
-
-
-def _number(path: Path, line: int, column: str, text: str, expected: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        value = math.nan
-    if math.isfinite(value):
-        return value
-    where = f"{_where(path, line)}, field {column}"
-    if _DECIMAL_COMMA.fullmatch(text):
-        raise InputError(f"{where}: {text!r} has a decimal comma; expected {expected} with a point as the decimal "
-                         f"mark ({text.replace(',', '.')})")
-    raise InputError(f"{where}: expected {expected}, got {repr(text) if text else 'an empty cell'}")
-
 
 def _full_jd(path: Path, line: int, column: str, value: float) -> float:
     if MIN_PLAUSIBLE_JD <= value <= MAX_PLAUSIBLE_JD:
@@ -275,7 +88,7 @@ def _full_jd(path: Path, line: int, column: str, value: float) -> float:
         looks = "looks like an MJD (JD - 2400000.5) or a reduced JD (JD - 2400000)"
     else:
         looks = "is not a Julian date of the years 1858 to 2406"
-    raise InputError(f"{_where(path, line)}, field {column}: {value:.6g} {looks}; expected a full Julian date in "
+    raise InputError(f"{line_of(path, line)}, field {column}: {value:.6g} {looks}; expected a full Julian date in "
                      "BJD_TDB (e.g. 2461000.5)")
 
 
@@ -285,20 +98,20 @@ def _coordinate_columns(path: Path, line: int, columns) -> tuple[str, str]:
         if all(c in columns for c in pair):
             return pair
     raise InputError(f"{path}: line {line}: missing coordinates; expected columns ra_deg and dec_deg (or ra and dec)"
-                     f"{_spelling_hint(('ra_deg', 'dec_deg'), columns)}; found {', '.join(columns)}")
+                     f"{spelling_hint(('ra_deg', 'dec_deg'), columns)}; found {', '.join(columns)}")
 
 
 def _coordinates(path: Path, line: int, row: pd.Series, ra_field: str, dec_field: str) -> tuple[float, float]:
     if ra_field == "ra_deg":
-        ra = _number(path, line, ra_field, row[ra_field], "right ascension in degrees")
-        dec = _number(path, line, dec_field, row[dec_field], "declination in degrees")
+        ra = csv_number(path, line, ra_field, row[ra_field], "right ascension in degrees")
+        dec = csv_number(path, line, dec_field, row[dec_field], "declination in degrees")
     else:
         ra = _angle_deg(path, line, ra_field, row[ra_field], "hourangle", "hh:mm:ss")
         dec = _angle_deg(path, line, dec_field, row[dec_field], "deg", "±dd:mm:ss")
     if not 0.0 <= ra < 360.0:
-        raise InputError(f"{_where(path, line)}, field {ra_field}: expected 0 <= RA < 360 degrees, got {ra:g}")
+        raise InputError(f"{line_of(path, line)}, field {ra_field}: expected 0 <= RA < 360 degrees, got {ra:g}")
     if not -90.0 <= dec <= 90.0:
-        raise InputError(f"{_where(path, line)}, field {dec_field}: expected -90 <= Dec <= 90 degrees, got {dec:g}")
+        raise InputError(f"{line_of(path, line)}, field {dec_field}: expected -90 <= Dec <= 90 degrees, got {dec:g}")
     return ra, dec
 
 
@@ -306,7 +119,7 @@ def _angle_deg(path: Path, line: int, column: str, text: str, unit: str, form: s
     try:
         return float(Angle(text, unit=unit).deg)
     except (ValueError, TypeError, u.UnitsError):
-        raise InputError(f"{_where(path, line)}, field {column}: expected {form}, "
+        raise InputError(f"{line_of(path, line)}, field {column}: expected {form}, "
                          f"got {repr(text) if text else 'an empty cell'}") from None
 
 
@@ -322,20 +135,20 @@ TARGET_EXPECTATIONS = {
 def _target_row(path: Path, line: int, row: pd.Series, coordinates: tuple[str, str]) -> dict:
     name = row["name"]
     if not name:
-        raise InputError(f"{_where(path, line)}, field name: expected a target name, got an empty cell")
+        raise InputError(f"{line_of(path, line)}, field name: expected a target name, got an empty cell")
     ra, dec = _coordinates(path, line, row, *coordinates)
     values = {"name": name, "ra_deg": ra, "dec_deg": dec}
     for column, expected in TARGET_EXPECTATIONS.items():
-        values[column] = _number(path, line, column, row[column], expected)
+        values[column] = csv_number(path, line, column, row[column], expected)
     cov = row.get("t0_period_cov_d2", "")
-    values["t0_period_cov_d2"] = _number(path, line, "t0_period_cov_d2", cov, "a covariance in d^2") if cov else 0.0
+    values["t0_period_cov_d2"] = csv_number(path, line, "t0_period_cov_d2", cov, "a covariance in d^2") if cov else 0.0
     _check_target_values(path, line, values)
     _check_body_columns(path, line, row)
     return values
 
 
 def _check_target_values(path: Path, line: int, v: dict) -> None:
-    where = _where(path, line)
+    where = line_of(path, line)
     _full_jd(path, line, "t0_bjd_tdb", v["t0_bjd_tdb"])
     if v["period_d"] < MIN_PERIOD_D:
         raise InputError(f"{where}, field period_d: expected a period of at least {MIN_PERIOD_D:g} days, "
@@ -361,12 +174,12 @@ def _check_body_columns(path: Path, line: int, row: pd.Series) -> None:
     for column in bodies.NUMBER_COLUMNS:
         text = row.get(column, "")
         if text and text.lower() != "nan":
-            _number(path, line, column, text, "a number (units as in the column name) or an empty cell")
+            csv_number(path, line, column, text, "a number (units as in the column name) or an empty cell")
 
 
 def _odd_target_notes(path: Path, line: int, v: dict) -> list[str]:
     """Warnings for a valid row with plausible but odd values."""
-    where, notes = _where(path, line), []
+    where, notes = line_of(path, line), []
     if v["period_err_d"] > ODD_PERIOD_ERR_FRACTION * v["period_d"]:
         notes.append(f"{where}, field period_err_d: {v['period_err_d']:g} d is more than 1 % of the period "
                      f"({v['period_d']:g} d); check the units (predicted times blur within a few epochs)")
@@ -387,7 +200,7 @@ def read_targets(path: str | Path) -> pd.DataFrame:
     one `InputError` line reports the first problem.
     """
     path = Path(path)
-    header_line, table = _read_csv(path, "target")
+    header_line, table = read_csv(path, "target")
     _require_columns(path, header_line, table.columns, REQUIRED_TARGET_FIELDS, "t0_bjd_tdb")
     coordinates = _coordinate_columns(path, header_line, table.columns)
     rows = [_target_row(path, line, row, coordinates) for line, row in table.iterrows()]
@@ -397,7 +210,7 @@ def read_targets(path: str | Path) -> pd.DataFrame:
         first = int(np.flatnonzero(duplicated)[0])
         name = parsed["name"][first]
         earlier = int(table.index[int(np.flatnonzero(parsed["name"] == name)[0])])
-        raise InputError(f"{_where(path, int(table.index[first]))}, field name: target {name!r} appears twice "
+        raise InputError(f"{line_of(path, int(table.index[first]))}, field name: target {name!r} appears twice "
                          f"(also on line {earlier}); expected unique names")
     for line, values in zip(table.index, rows):  # warnings only once the whole file is valid
         for note in _odd_target_notes(path, int(line), values):
@@ -411,19 +224,19 @@ def read_targets(path: str | Path) -> pd.DataFrame:
 def _timing_row(path: Path, line: int, row: pd.Series) -> dict:
     target = row["target"]
     if not target:
-        raise InputError(f"{_where(path, line)}, field target: expected a target name, got an empty cell")
-    mid = _number(path, line, "mid_bjd_tdb", row["mid_bjd_tdb"], "a mid-transit time as a full Julian date (BJD_TDB)")
+        raise InputError(f"{line_of(path, line)}, field target: expected a target name, got an empty cell")
+    mid = csv_number(path, line, "mid_bjd_tdb", row["mid_bjd_tdb"], "a mid-transit time as a full Julian date (BJD_TDB)")
     _full_jd(path, line, "mid_bjd_tdb", mid)
-    err = _number(path, line, "mid_err_d", row["mid_err_d"], "a positive uncertainty in days")
+    err = csv_number(path, line, "mid_err_d", row["mid_err_d"], "a positive uncertainty in days")
     if err <= 0:
-        raise InputError(f"{_where(path, line)}, field mid_err_d: expected a positive uncertainty in days, got {err:g}")
+        raise InputError(f"{line_of(path, line)}, field mid_err_d: expected a positive uncertainty in days, got {err:g}")
     return {"target": target, "mid_bjd_tdb": mid, "mid_err_d": err, "note": row.get("note", "")}
 
 
 def read_timings(path: str | Path) -> pd.DataFrame:
     """Read measured mid-transit times: target, mid_bjd_tdb, mid_err_d (days), optional note."""
     path = Path(path)
-    header_line, table = _read_csv(path, "timing")
+    header_line, table = read_csv(path, "timing")
     _require_columns(path, header_line, table.columns, TIMING_FIELDS, "mid_bjd_tdb")
     return pd.DataFrame([_timing_row(path, line, row) for line, row in table.iterrows()])
 
@@ -431,36 +244,12 @@ def read_timings(path: str | Path) -> pd.DataFrame:
 # --- sites (TOML) --------------------------------------------------------------------------
 
 
-def _load_toml(path: Path) -> dict:
-    """The TOML document (UTF-8, a byte-order mark allowed)."""
-    text = _read_text(path)
-    try:
-        return tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"{path}: TOML syntax error: {exc}") from None
-
-
-def _checked_constraints(prefix: str, values: dict) -> dict:
-    """`values` (constraint keys only) if they make valid Constraints; else an error after `prefix`."""
-    twilight = values.get("twilight", "astronomical")
-    if not isinstance(twilight, str):
-        raise InputError(f"{prefix} twilight: expected civil, nautical or astronomical, got {twilight!r}")
-    try:
-        Constraints(**values)
-    except InputError as exc:
-        raise InputError(f"{prefix} {exc}") from None
-    return values
-
-
 def _site_number(path: Path, key: str, entry: dict, field_name: str, low: float, high: float, unit: str) -> float:
     expected = f"a number from {low:g} to {high:g} {unit}"
     if field_name not in entry:
-        hint = _spelling_hint([field_name], set(entry) - SITE_KEYS)
+        hint = spelling_hint([field_name], set(entry) - SITE_KEYS)
         raise InputError(f"{path}: [{key}] {field_name}: required, {expected}{hint}")
-    value = entry[field_name]
-    if isinstance(value, bool) or not isinstance(value, (int, float)) or not low <= value <= high:
-        raise InputError(f"{path}: [{key}] {field_name}: expected {expected}, got {value!r}")
-    return float(value)
+    return number_in_range(f"{path}: [{key}] {field_name}", entry[field_name], low, high, unit)
 
 
 def _site(path: Path, name: str, entry) -> Site:
@@ -476,11 +265,11 @@ def _site(path: Path, name: str, entry) -> Site:
     longitude = _site_number(path, key, entry, "longitude_deg", -180.0, 360.0, "degrees east")
     elevation = _site_number(path, key, entry, "elevation_m", -500.0, 9000.0, "metres")
     pressure = _site_number(path, key, entry, "pressure_hpa", 0.0, 1100.0, "hPa") if "pressure_hpa" in entry else None
-    temperature = _site_number(path, key, entry, "temperature_c", -80.0, 60.0, "°C") if "temperature_c" in entry else 10.0
+    temperature = _site_number(path, key, entry, "temperature_c", -80.0, 60.0, "°C") if "temperature_c" in entry else DEFAULT_TEMPERATURE_C
     timezone = entry.get("timezone")
     if timezone is not None:
         _check_timezone(path, key, timezone)
-    defaults = _checked_constraints(f"{path}: [{key}]", {k: entry[k] for k in CONSTRAINT_KEYS if k in entry})
+    defaults = checked_constraints(f"{path}: [{key}]", {k: entry[k] for k in CONSTRAINT_KEYS if k in entry})
     _note_site(path, key, entry, longitude, elevation, defaults)
     return Site(name=name, latitude_deg=latitude, longitude_deg=_east_longitude_deg(longitude), elevation_m=elevation,
                 timezone=timezone, pressure_hpa=pressure, temperature_c=temperature, defaults=defaults,
@@ -536,7 +325,7 @@ def _space_site(path: Path, name: str, entry: dict) -> Site:
     timezone = entry.get("timezone")
     if timezone is not None:
         _check_timezone(path, key, timezone)
-    defaults = _checked_constraints(where, {k: entry[k] for k in CONSTRAINT_KEYS if k in entry})
+    defaults = checked_constraints(where, {k: entry[k] for k in CONSTRAINT_KEYS if k in entry})
     space = SpaceSettings(sun_angle_min_deg=low, sun_angle_max_deg=high, interruption_period_h=period,
                           interruption_h=lost, interruption_start_jd_utc=start,
                           blackouts_jd_utc=_blackouts(where, entry.get("blackouts", [])), distance_from_earth_km=distance)
@@ -628,7 +417,7 @@ def _check_timezone(path: Path, key: str, name) -> None:
 def read_sites(path: str | Path) -> dict[str, Site]:
     """Read `[sites.NAME]` tables from a TOML file into Site objects, in file order."""
     path = Path(path)
-    document = _load_toml(path)
+    document = load_toml(path)
     sites = document.get("sites")
     if not isinstance(sites, dict) or not sites:
         found = f" (found: {', '.join(document)})" if document else ""

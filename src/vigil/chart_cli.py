@@ -18,7 +18,7 @@ from vigil.cli_options import (BASELINE_OPTION, COVERAGE_OPTION, FORCE_OPTION, M
 from vigil.cli_support import out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.palette import save_png
-from vigil.visibility import resolve_constraints
+from vigil.constraints import resolve_constraints
 
 chart_app = typer.Typer(help="Draw charts (PNG): a transit night, a timeline of windows, timing uncertainty growth. "
                              "Times UTC (the night chart also in site local time), angles in degrees.",
@@ -33,8 +33,9 @@ def _windows(targets_file: Path, sites_file: Path, site, start: str, end: str, o
     from vigil.cli import _check_options, _run_windows  # the windows command's own path, so both agree
 
     _check_options(overrides)
-    return _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, None, None,
-                        coverage=coverage, min_fraction=min_fraction)
+    run = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, None, None,
+                       coverage=coverage, min_fraction=min_fraction, keep_all=True)
+    return run.windows, run.sites
 
 
 @chart_app.command("night")

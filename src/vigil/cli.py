@@ -2,17 +2,21 @@
 
 from __future__ import annotations
 
+import collections
 import sys
 from importlib import resources
 from pathlib import Path
-from typing import Optional
+from typing import NamedTuple, Optional
 
 import astropy.units as u
+import pandas as pd
 import typer
 from astropy.time import Time
 
-from vigil import catalog, pipeline
-from vigil.campaign_spec import read_campaign
+from vigil import catalog
+from vigil.campaign.result import CampaignResult
+from vigil.campaign.run import run_campaign
+from vigil.campaign.spec import read_campaign
 from vigil.cli_options import (BASELINE_OPTION, COVERAGE_OPTION, MIN_ALTITUDE_OPTION, MIN_FRACTION_OPTION,
                                MOON_SEP_OPTION, SIGMA_OPTION, SITE_OPTION, SITES_OPTION, TWILIGHT_OPTION)
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
@@ -22,13 +26,15 @@ from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.html_report import campaign_sections, html_page, windows_sections, write_html
-from vigil.export.terminal_tables import compact_table, windows_table
-from vigil.export.windows_csv import write_windows_csv
+from vigil.export.terminal_tables import UPCOMING_ROWS, compact_table, windows_table
+from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.chart_cli import chart_app
 from vigil.journal_cli import journal_app
-from vigil.visibility import Constraints
+from vigil.constraints import Constraints
+from vigil.cluster import workers_for
+from vigil.sweep import iter_windows
+from vigil.tally import add_tallies, coverage_tally
 from vigil.window_filter import filter_windows, parse_coverage
-from vigil.sweep import plan_windows_chunked
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
                        "how uncertain their times are, what a multi-year campaign collects and when the stacked "
@@ -43,7 +49,7 @@ def _parse_date(text: str, option: str) -> Time:
 
 
 def _parse_end(text: str) -> Time:
-    """--end: a date alone is included whole (the window ends at 24:00 UTC of it); a time is exact."""
+    """--end: a date alone is included whole (the span ends at 24:00 UTC of it); a time is exact."""
     end = _parse_date(text, "--end")
     return end + 1 * u.day if len(text.strip()) <= 10 else end
 
@@ -60,23 +66,28 @@ def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dic
 COUNTED = ("full", "ingress", "egress", "partial")
 
 
-def _print_summary(windows, title: str) -> None:
-    if windows.empty:
+def _print_summary(tally, title: str) -> None:
+    """Print a coverage tally (vigil.tally) as a table."""
+    if tally.empty:
         out.print(f"{title}: no observable transits.")
         return
     table = compact_table(title, [("target", "left"), ("site", "left"), *((c, "right") for c in COUNTED),
                                   ("next full window, UTC", "left")])
-    for (target, site), group in windows.groupby(["target", "site"], sort=True):
-        counts = group["coverage"].value_counts()
-        full = group[group["coverage"] == "full"]
-        first = iso_utc(full["window_start_jd_utc"].to_numpy()[:1])[0][:16].replace("T", " ") if len(full) else "-"
-        table.add_row(target, site, *(str(counts.get(c, 0)) for c in COUNTED), first)
+    for row in tally.itertuples(index=False):
+        first = iso_utc([row.first_full_jd_utc])[0][:16].replace("T", " ") or "-"
+        table.add_row(row.target, row.site, *(str(getattr(row, c)) for c in COUNTED),
+                      first)
     out.print(table)
     out.print(f"[dim]{SAFETY_NOTE}[/dim]")
 
 
 HTML_HELP = "Also write a self-contained HTML plan here (one file, no network: charts embedded)."
-JOBS_HELP = "Worker processes for the windows computation (targets are split into chunks) [default 1]."
+JOBS_HELP = ("Worker processes for the windows computation (the targets and the span are split into chunks); "
+             "with --scheduler local, the cluster's workers [default 1].")
+SCHEDULER_HELP = ("Run the windows computation on a dask cluster (optional extra vigil[dask]): 'local' starts "
+                  "one on this machine, tcp://HOST:PORT joins a running scheduler and its workers.")
+CHUNK_DIR_HELP = ("With --scheduler: folder where workers leave their results as Parquet files; workers on "
+                  "other machines must see it too [default: a temporary folder here].")
 EXACT_HELP = ("Use the exact astropy engine (samples every 5 min; about 100x slower) instead of the fast "
               "analytic one (edges within about a minute of it).")
 
@@ -99,24 +110,53 @@ def _engine(exact: bool) -> str:
     return "reference" if exact else "fast"
 
 
+class WindowsRun(NamedTuple):
+    """What a windows run hands back: the coverage tally, the windows kept, the sites used, and
+    how many windows were listed in all."""
+
+    tally: pd.DataFrame
+    windows: pd.DataFrame
+    sites: dict
+    listed: int
+
+
 def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
                  include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast",
-                 event: str = "transit", local_time: bool = False, jobs: int = 1, coverage: str | None = None,
-                 min_fraction: float | None = None):
+                 event: str = "transit", local_time: bool = False, jobs: int = 1, scheduler: str | None = None,
+                 chunk_dir: Path | None = None, coverage: str | None = None, min_fraction: float | None = None,
+                 keep_all: bool = False) -> WindowsRun:
+    """Plan, write the CSV piece by piece and the calendar; return the coverage tally, the sites
+    and the windows kept: all of them with a calendar or `keep_all`, else the first UPCOMING_ROWS."""
     chosen = parse_coverage(coverage)
     targets = catalog.read_targets(targets_file)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
-    with LazyProgress("windows (targets)") as progress:
-        windows = plan_windows_chunked(targets, sites, overrides, _parse_date(start, "--start"),
-                                       _parse_end(end), jobs=jobs, engine=engine,
-                                       include_unobservable=include_all, event=event,
-                                       on_chunk=lambda _, done, total: progress.advance(done, total))
-    windows = filter_windows(windows, chosen, min_fraction)
-    if csv_path is not None:
-        write_windows_csv(windows, csv_path, {n: s.timezone for n, s in sites.items()} if local_time else None)
+    start_time, end_time = _parse_date(start, "--start"), _parse_end(end)
+    keep_all = keep_all or ics_path is not None
+    tallies, kept, listed = [], [], []
+
+    def tallied(pieces):
+        for piece in pieces:
+            piece = filter_windows(piece, chosen, min_fraction)
+            tallies.append(coverage_tally(piece))
+            listed.append(len(piece))
+            if keep_all or sum(map(len, kept)) < UPCOMING_ROWS:
+                kept.append(piece if keep_all else piece.head(UPCOMING_ROWS))
+            yield piece
+
+    with LazyProgress("windows (chunks)") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
+        pieces = tallied(iter_windows(targets, sites, overrides, start_time, end_time, jobs=workers.count,
+                                      engine=engine, include_unobservable=include_all, event=event,
+                                      on_chunk=lambda _, done, total: progress.advance(done, total),
+                                      executor=workers.executor, chunk_dir=workers.chunk_dir))
+        if csv_path is not None:
+            write_windows_csv_pieces(pieces, csv_path,
+                                     {n: s.timezone for n, s in sites.items()} if local_time else None)
+        else:
+            collections.deque(pieces, maxlen=0)
+    windows = pd.concat(kept, ignore_index=True) if kept else pd.DataFrame()
     if ics_path is not None:
         write_windows_ics(windows, ics_path, {n: s.timezone for n, s in sites.items()})
-    return windows, sites
+    return WindowsRun(add_tallies(tallies), windows, sites, sum(listed))
 
 
 @app.command()
@@ -144,6 +184,8 @@ def windows(
     local_time: bool = typer.Option(False, "--local-time", help="Add local civil times (each site's IANA timezone, "
                                     "with UTC offset) to the CSV."),
     jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
+    chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
     coverage: Optional[str] = COVERAGE_OPTION,
     min_fraction: Optional[float] = MIN_FRACTION_OPTION,
     html_path: Optional[Path] = typer.Option(None, "--html", metavar="FILE", help=HTML_HELP),
@@ -159,14 +201,15 @@ def windows(
     with user_errors():
         _check_options(overrides)
         refuse_overwrite((csv_path, ics_path, html_path), force)
-        result, sites = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path,
-                                     ics_path, _engine(exact), event, local_time, jobs, coverage, min_fraction)
+        run = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
+                           _engine(exact), event, local_time, jobs, scheduler, chunk_dir, coverage, min_fraction,
+                           keep_all=html_path is not None)
         if html_path is not None:
             write_html(html_path, html_page(f"Transit windows {start} to {end}",
-                                            windows_sections(result, sites, overrides)))
-    _print_summary(result, f"Transit windows {start} to {end}")
-    if csv_path is None and ics_path is None and html_path is None and not result.empty:
-        out.print(windows_table(result, {n: s.timezone for n, s in sites.items()}))
+                                            windows_sections(run.windows, run.sites, overrides)))
+    _print_summary(run.tally, f"Transit windows {start} to {end}")
+    if csv_path is None and ics_path is None and html_path is None and len(run.windows):
+        out.print(windows_table(run.windows, {n: s.timezone for n, s in run.sites.items()}, run.listed))
     for path in (csv_path, ics_path, html_path):
         if path is not None:
             out.print(f"wrote {path}")
@@ -185,12 +228,12 @@ def demo(
     setup_logging()
     with user_errors():
         out_dir.mkdir(parents=True, exist_ok=True)
-        result, sites = _run_windows(demo_file("targets.csv"), demo_file("sites.toml"), None, "2027-01-01",
-                                     "2027-12-31", {}, False, out_dir / "windows.csv", out_dir / "windows.ics")
-        _print_summary(result, "Demo: transit windows in 2027")
+        run = _run_windows(demo_file("targets.csv"), demo_file("sites.toml"), None, "2027-01-01", "2027-12-31", {},
+                           False, out_dir / "windows.csv", out_dir / "windows.ics")
+        _print_summary(run.tally, "Demo: transit windows in 2027")
         spec, campaign_result, paths = _run_campaign(demo_file("campaign.toml"), None, out_dir)
         write_html(out_dir / "plan.html", html_page("vigil demo: windows of 2027 and a 30-year campaign",
-                                                    [*windows_sections(result, sites),
+                                                    [*windows_sections(run.windows, run.sites),
                                                      *campaign_sections(campaign_result, spec)]))
     _print_campaign(campaign_result, spec)
     names = ", ".join(p.name for p in [out_dir / "windows.csv", out_dir / "windows.ics", *paths, out_dir / "plan.html"])
@@ -204,7 +247,7 @@ def _years(value: float) -> str:
     return f"{value:.1f}" if value != float("inf") else "never"
 
 
-def _print_campaign(result: pipeline.CampaignResult, spec) -> None:
+def _print_campaign(result: CampaignResult, spec) -> None:
     table = compact_table(f"Campaign {spec.start.utc.iso[:10]} + {spec.horizon_years:g} yr: goal R = "
                           f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
                           [("target", "left"), ("transits/yr", "right"), ("h/yr", "right"),
@@ -231,7 +274,8 @@ def _verdict(row, spec) -> str:
     return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
 
 
-def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1):
+def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1,
+                  scheduler: str | None = None, chunk_dir: Path | None = None):
     spec = read_campaign(campaign_file)
     targets = catalog.read_targets(spec.targets_file)
     if target is not None:
@@ -245,8 +289,9 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
         done[0] += count
         progress.advance(done[0], spec.trials)
 
-    with LazyProgress("weather trials") as progress:
-        result = pipeline.run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=jobs)
+    with LazyProgress("weather trials") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
+        result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=workers.count,
+                              executor=workers.executor, chunk_dir=workers.chunk_dir)
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png", result.summary)
@@ -263,6 +308,8 @@ def campaign_command(
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
     jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
+    chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
     html_path: Optional[Path] = typer.Option(None, "--html", metavar="FILE", help=HTML_HELP),
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
@@ -273,7 +320,7 @@ def campaign_command(
     setup_logging()
     with user_errors():
         refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES] + [html_path], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs)
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs, scheduler, chunk_dir)
         if html_path is not None:
             write_html(html_path, html_page(f"Campaign {campaign_file.name}", campaign_sections(result, spec)))
             paths.append(html_path)
@@ -299,7 +346,7 @@ def refit(
     Also writes the O-C table (FILE stem + _o_minus_c.csv, minutes) and its plot (.png).
     Timings more than 5 sigma off the fit are flagged and left out of it.
     """
-    from vigil.refit import plot_o_minus_c, refit_targets
+    from vigil.ephemeris.refit import plot_o_minus_c, refit_targets
 
     setup_logging()
     oc_path = out_path.with_name(out_path.stem + "_o_minus_c.csv")
@@ -342,7 +389,7 @@ def space_seasons(
     import pandas as pd
 
     from vigil.export.space_plots import annual_visibility_plot
-    from vigil.space_path import annual_windows
+    from vigil.engines.space import annual_windows
 
     setup_logging()
     with user_errors():

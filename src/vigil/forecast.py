@@ -15,7 +15,7 @@ import numpy as np
 import pandas as pd
 
 from vigil import spectrum
-from vigil.campaign_spec import CampaignSpec
+from vigil.campaign.spec import CampaignSpec
 
 DAYS_PER_YEAR = 365.25
 REACHABLE_SHARE = 0.5

@@ -38,7 +38,7 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil.catalog import MIN_PLAUSIBLE_JD
+from vigil.timescales import MIN_PLAUSIBLE_JD
 from vigil.errors import InputError
 from vigil.export.table import iso_utc, write_csv
 
@@ -213,7 +213,7 @@ class Journal:
         return pd.DataFrame(rows, columns=["target", "visits", "in_transit_h", "baseline_h"])
 
     def timings(self) -> pd.DataFrame:
-        """Measured mid-times as vigil.refit.refit_targets reads them: target, mid_bjd_tdb, mid_err_d, note.
+        """Measured mid-times as vigil.ephemeris.refit.refit_targets reads them: target, mid_bjd_tdb, mid_err_d, note.
 
         The note names the site and epoch, then the visit's notes if any.
         """

@@ -12,8 +12,6 @@ import numpy as np
 from astropy.coordinates import AltAz, HADec, SkyCoord, get_body, get_sun
 from astropy.time import Time
 
-TWILIGHT_SUN_ALT_DEG = {"civil": -6.0, "nautical": -12.0, "astronomical": -18.0}
-
 
 def _frame(times: Time, location, pressure_hpa: float = 0.0, temperature_c: float = 10.0) -> AltAz:
     return AltAz(obstime=times, location=location, pressure=pressure_hpa * u.hPa,

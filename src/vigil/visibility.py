@@ -1,68 +1,22 @@
-"""Observing constraints and the coverage of each transit window.
+"""The padding and the coverage of each transit window.
 
-A visibility engine turns a site's transits into the intervals during which the target is
-observable inside each padded window; this module owns what the engines share: the
-constraints, the padding, and the classification of each transit from those intervals.
+A visibility engine (vigil.engines) turns a site's transits into the intervals during which
+the target is observable inside each padded window; this module owns what the engines share:
+the padding before, and the classification of each transit from those intervals after.
 """
 
 from __future__ import annotations
-
-from dataclasses import dataclass, fields
 
 import numpy as np
 import pandas as pd
 
 from vigil import intervals
+from vigil.constraints import Constraints
+from vigil.ephemeris.staleness import stale_flags
 from vigil.errors import InputError
 from vigil.schema import COVERAGE_CLASSES
-from vigil.sky import TWILIGHT_SUN_ALT_DEG
 
 HOURS_PER_DAY = 24.0
-# A transit is flagged stale when K sigma exceeds this fraction of its duration (a planning
-# convention; staleness.py dates it) or exceeds the baseline wanted.
-STALE_DURATION_FRACTION = 0.25
-
-
-@dataclass(frozen=True)
-class Constraints:
-    """What makes a moment observable at a site, and how wide each window is.
-
-    min_altitude_deg: lowest apparent target altitude; twilight: civil, nautical or
-    astronomical (Sun's centre below -6, -12, -18 deg); baseline_h: out-of-transit time wanted
-    on each side; sigma_k: pad each side by k times the mid-time's 1-sigma (0 disables);
-    moon_sep_deg: least Moon-target angle (0 disables).
-    """
-
-    min_altitude_deg: float = 30.0
-    twilight: str = "astronomical"
-    baseline_h: float = 1.0
-    sigma_k: float = 1.0
-    moon_sep_deg: float = 0.0
-
-    def __post_init__(self):
-        if self.twilight not in TWILIGHT_SUN_ALT_DEG:
-            raise InputError(f"twilight: expected civil, nautical or astronomical, got {self.twilight!r}")
-        _check_range("min_altitude_deg", self.min_altitude_deg, -5.0, 89.0, "degrees")
-        _check_range("baseline_h", self.baseline_h, 0.0, 48.0, "hours")
-        _check_range("sigma_k", self.sigma_k, 0.0, 10.0, "(a multiple of sigma)")
-        _check_range("moon_sep_deg", self.moon_sep_deg, 0.0, 180.0, "degrees")
-
-    @property
-    def sun_altitude_deg(self) -> float:
-        return TWILIGHT_SUN_ALT_DEG[self.twilight]
-
-
-def _check_range(name: str, value, low: float, high: float, unit: str) -> None:
-    if isinstance(value, bool) or not isinstance(value, (int, float)) or not low <= value <= high:
-        raise InputError(f"{name}: expected a number from {low:g} to {high:g} {unit}, got {value!r}")
-
-
-def resolve_constraints(site_defaults: dict, overrides: dict) -> Constraints:
-    """Constraints for one site: command-line overrides, then the site's defaults, then built-ins."""
-    names = {f.name for f in fields(Constraints)}
-    chosen = {k: v for k, v in site_defaults.items() if k in names}
-    chosen.update({k: v for k, v in overrides.items() if k in names and v is not None})
-    return Constraints(**chosen)
 
 
 def pad_windows(transits: pd.DataFrame, constraints: Constraints) -> pd.DataFrame:
@@ -74,8 +28,7 @@ def pad_windows(transits: pd.DataFrame, constraints: Constraints) -> pd.DataFram
     out["egress_jd_utc"] = out["mid_jd_utc"] + half
     out["window_start_jd_utc"] = out["ingress_jd_utc"] - pad
     out["window_end_jd_utc"] = out["egress_jd_utc"] + pad
-    timing_pad_h = constraints.sigma_k * out["mid_sigma_d"] * HOURS_PER_DAY
-    out["stale"] = (timing_pad_h > STALE_DURATION_FRACTION * out["duration_h"]) | (timing_pad_h > constraints.baseline_h)
+    out["stale"] = stale_flags(out["mid_sigma_d"], out["duration_h"], constraints.sigma_k, constraints.baseline_h)
     return out
 
 

@@ -10,44 +10,37 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil import ephemeris, fast_path, reference_path, schema, space_path, visibility
-from vigil.catalog import Site
+from vigil import schema, visibility
+from vigil.constraints import Constraints, resolve_constraints
+from vigil.engines import engine_for, reference
+from vigil.engines.protocol import Engine
+from vigil.ephemeris.projection import project_transits
 from vigil.errors import InputError
+from vigil.sites import Site
 
 # Light from a target reaches the Earth up to 8.3 min before or after the barycentre;
 # transits are projected with this margin, then kept by their mid-time at the site.
 _LIGHT_TIME_MARGIN_D = 0.01
-ENGINES = {"reference": reference_path, "fast": fast_path}
 
 
-def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time, engine=reference_path) -> pd.DataFrame:
+def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time, engine: Engine = reference) -> pd.DataFrame:
     """Add the site's name and the mid-time seen there (JD UTC); keep mids inside [start, end]."""
     out = transits.assign(site=site.name, mid_jd_utc=engine.site_mid_jd_utc(transits, site))
     inside = (out["mid_jd_utc"] >= start.utc.jd) & (out["mid_jd_utc"] <= end.utc.jd)
     return out[inside].reset_index(drop=True)
 
 
-def site_windows(transits: pd.DataFrame, site: Site, constraints: visibility.Constraints,
+def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints,
                  start: Time, end: Time, engine: str = "fast") -> pd.DataFrame:
     """Windows table for one site: padded windows, coverage, conditions at mid. A site of kind
     space always goes to the space engine; `engine` chooses for ground sites."""
-    engine_module = space_path if site.kind == "space" else ENGINES[engine]
+    engine_module = engine_for(site, engine)
     padded = visibility.pad_windows(at_site(transits, site, start, end, engine_module), constraints)
     # Once K sigma exceeds half a period the transit's phase is lost: it cannot be planned
     # (coverage none), and its days-wide window is not handed to the engine.
     timed = (constraints.sigma_k * padded["mid_sigma_d"] < 0.5 * padded["period_d"]).to_numpy()
-    evaluate = getattr(engine_module, "evaluate", None) or _evaluate_with(engine_module)
-    observable, conditions = evaluate(padded, site, constraints, timed)
+    observable, conditions = engine_module.evaluate(padded, site, constraints, timed)
     return pd.concat([visibility.classify(padded, observable, constraints.sigma_k), conditions], axis=1)
-
-
-def _evaluate_with(engine_module):
-    """An engine's evaluate() from its observable_intervals and conditions_at_mid (for engines
-    that share nothing between the two)."""
-    def evaluate(windows: pd.DataFrame, site: Site, constraints: visibility.Constraints, timed: np.ndarray):
-        row, start, end = engine_module.observable_intervals(windows[timed].reset_index(drop=True), site, constraints)
-        return (np.flatnonzero(timed)[row], start, end), engine_module.conditions_at_mid(windows, site)
-    return evaluate
 
 
 def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,
@@ -56,9 +49,9 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
     [start, end], sorted by time then target."""
     if not end > start:
         raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
-    transits = ephemeris.project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
+    transits = project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
                                           end.tdb.jd + _LIGHT_TIME_MARGIN_D, event)
-    tables = [site_windows(transits, site, visibility.resolve_constraints(site.defaults, overrides), start, end, engine)
+    tables = [site_windows(transits, site, resolve_constraints(site.defaults, overrides), start, end, engine)
               for site in sites.values() if not transits.empty]
     tables = [t for t in tables if not t.empty]
     if not tables:

@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 
 from vigil.export.table import iso_utc, write_csv
-from vigil.pipeline import CampaignResult
+from vigil.campaign.result import CampaignResult
 
 
 def _summary(summary: pd.DataFrame) -> pd.DataFrame:

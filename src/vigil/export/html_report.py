@@ -15,7 +15,7 @@ import math
 import numpy as np
 import pandas as pd
 
-from vigil.catalog import Site
+from vigil.constraints import resolve_constraints
 from vigil.export import palette
 from vigil.export.calendar import SAFETY_NOTE, run_stamp
 from vigil.export.files import write_atomic
@@ -23,7 +23,7 @@ from vigil.export.night_chart import night_chart
 from vigil.export.plots import hours_figure, resolution_figure
 from vigil.export.table import iso_utc
 from vigil.export.timeline_chart import timeline_chart
-from vigil.visibility import resolve_constraints
+from vigil.sites import Site
 
 TABLE_ROWS = 400
 SEMESTER_D = 182.5

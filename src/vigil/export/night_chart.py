@@ -20,12 +20,13 @@ from astropy.time import Time
 from matplotlib.figure import Figure
 from matplotlib.patches import Patch
 
-from vigil import almanac, sky
-from vigil.catalog import Site
+from vigil import sky
+from vigil.constraints import Constraints
+from vigil.local_sky import dark_intervals
+from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.export import palette
 from vigil.timescales import earth_location
-from vigil.visibility import Constraints
 
 STEP_MIN = 2.0
 MARGIN_H = 6.0  # shown on each side of the padded window
@@ -81,7 +82,7 @@ def night_curves(window, site: Site, margin_h: float = MARGIN_H, step_min: float
     alt, az = sky.target_altaz_deg(ra, dec, times, location, site.air_pressure_hpa, site.temperature_c)
     ha, _ = sky.target_hadec_deg(ra, dec, times, location)
     mask = site.facility.mask_alt_at(az) if site.facility.mask_az_deg else np.full(jd.shape, np.nan)
-    shading = tuple((level, *almanac.dark_intervals(site.latitude_deg, site.longitude_deg, site.elevation_m,
+    shading = tuple((level, *dark_intervals(site.latitude_deg, site.longitude_deg, site.elevation_m,
                                                     lo, hi, sun_alt_deg))
                     for level, sun_alt_deg in SKY_LEVELS_DEG)
     return NightCurves(jd, alt, mask, sky.moon_altitude_deg(times, location),

@@ -6,15 +6,15 @@ from __future__ import annotations
 import math
 
 import numpy as np
-import pandas as pd
 from astropy.time import Time
 from matplotlib.figure import Figure
 from matplotlib.ticker import NullFormatter, ScalarFormatter
 
-from vigil.ephemeris import mid_sigma_d
+from vigil.constraints import Constraints
+from vigil.ephemeris.models import epochs_between, target_ephemerides
+from vigil.ephemeris.staleness import DURATION_FRACTION
 from vigil.errors import InputError
 from vigil.export import palette
-from vigil.visibility import HOURS_PER_DAY, STALE_DURATION_FRACTION, Constraints
 
 MINUTES_PER_DAY = 1440.0
 COLUMNS = 3
@@ -27,7 +27,7 @@ def stale_sigma_min(duration_h: float, constraints: Constraints) -> float:
     """
     if constraints.sigma_k == 0:
         return math.inf
-    limit_h = min(STALE_DURATION_FRACTION * duration_h, constraints.baseline_h)
+    limit_h = min(DURATION_FRACTION * duration_h, constraints.baseline_h)
     return 60.0 * limit_h / constraints.sigma_k
 
 
@@ -44,13 +44,10 @@ def sigma_chart(targets: pd.DataFrame, constraints: Constraints, start: Time, ye
     axes_list = figure.subplots(rows, COLUMNS, sharex=True, squeeze=False).ravel()
     lo = start.tdb.jd
     hi = lo + 365.25 * years
-    for axes, target in zip(axes_list, targets.itertuples(index=False)):
-        first = math.ceil((lo - target.t0_bjd_tdb) / target.period_d)
-        epochs = np.arange(first, math.floor((hi - target.t0_bjd_tdb) / target.period_d) + 1)
-        cov = getattr(target, "t0_period_cov_d2", 0.0)
-        sigma_min = MINUTES_PER_DAY * mid_sigma_d(epochs, target.t0_err_d, target.period_err_d,
-                                                  0.0 if pd.isna(cov) else cov)
-        year = start.utc.decimalyear + (target.t0_bjd_tdb + epochs * target.period_d - lo) / 365.25
+    for axes, target, model in zip(axes_list, targets.itertuples(index=False), target_ephemerides(targets)):
+        epochs = epochs_between(model, lo, hi)
+        sigma_min = MINUTES_PER_DAY * model.mid_sigma_d(epochs)
+        year = start.utc.decimalyear + (model.mid_bjd_tdb(epochs) - lo) / 365.25
         axes.plot(year, sigma_min, color=palette.BLUE, linewidth=1.8)
         threshold = stale_sigma_min(target.duration_h, constraints)
         axes.axhline(threshold, color=palette.VERMILLION, linestyle="--", linewidth=1.2)
@@ -70,7 +67,7 @@ def sigma_chart(targets: pd.DataFrame, constraints: Constraints, start: Time, ye
         axes.set_ylabel("1σ mid-time (min)")
     for axes in axes_list[-COLUMNS:]:
         axes.set_xlabel("year (UTC)")
-    figure.suptitle(f"Timing uncertainty against the stale threshold (dashed: Kσ = min({STALE_DURATION_FRACTION:g} × "
+    figure.suptitle(f"Timing uncertainty against the stale threshold (dashed: Kσ = min({DURATION_FRACTION:g} × "
                     f"duration, baseline {constraints.baseline_h:g} h), K = {constraints.sigma_k:g})", fontsize=9.5)
     figure.tight_layout()
     return figure

@@ -11,10 +11,10 @@ from astropy.time import Time
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
-from vigil import space_path
-from vigil.catalog import Site
+from vigil.engines import space
 from vigil.errors import InputError
 from vigil.export.files import write_atomic
+from vigil.sites import Site
 
 ROW_HEIGHT_IN = 0.35
 BAR_COLOR = "tab:blue"
@@ -46,7 +46,7 @@ def annual_visibility_plot(targets: pd.DataFrame, site: Site, years, path) -> No
     figure = Figure(figsize=(max(6.0, 2.0 + 2.5 * len(chosen)), 1.5 + ROW_HEIGHT_IN * len(targets)))
     axes = figure.add_subplot()
     for position, target in enumerate(targets.itertuples(index=False)):
-        starts, ends = space_path.field_of_regard_jd_utc(float(target.ra_deg), float(target.dec_deg), site.space, lo, hi)
+        starts, ends = space.field_of_regard_jd_utc(float(target.ra_deg), float(target.dec_deg), site.space, lo, hi)
         first = _decimal_year(starts) if starts.size else starts
         last = _decimal_year(ends) if ends.size else ends
         axes.broken_barh(list(zip(first, last - first)), (position - 0.35, 0.7), color=BAR_COLOR)

@@ -34,7 +34,13 @@ def neutralise_text(values: pd.Series) -> pd.Series:
 
 def write_csv(table: pd.DataFrame, path, text_columns=()) -> None:
     """Write `table` as CSV (atomic), neutralising the named text columns."""
+    write_atomic(path, csv_bytes(table, text_columns))
+
+
+def csv_bytes(table: pd.DataFrame, text_columns=(), header: bool = True) -> bytes:
+    """`table` as UTF-8 CSV text, neutralising the named text columns; with header=False the
+    rows only (to continue a file)."""
     out = table.copy()
     for column in text_columns:
         out[column] = neutralise_text(out[column])
-    write_atomic(path, out.to_csv(index=False, lineterminator="\n").encode("utf-8"))
+    return out.to_csv(index=False, header=header, lineterminator="\n").encode("utf-8")

@@ -35,15 +35,16 @@ def compact_table(title: str, columns: list[tuple[str, str]]) -> Table:
     return table
 
 
-def windows_table(windows: pd.DataFrame, timezones: dict, rows: int = UPCOMING_ROWS) -> Table:
-    """The first `rows` windows (in time order) as a table: mid-time (UTC), target, site,
+def windows_table(windows: pd.DataFrame, timezones: dict, total: int | None = None, rows: int = UPCOMING_ROWS) -> Table:
+    """The first `rows` windows (in time order) of `total` listed as a table: mid-time (UTC), target, site,
     coverage and observable share of the transit, observable stretch in the site's local time
     (UTC where the site has no zone), apparent altitude at mid and a stale marker.
 
     Example: ``Console().print(windows_table(windows, {"mirador_sur": "America/Santiago"}))``.
     """
     shown = windows.head(rows)
-    table = compact_table(f"Upcoming windows, first {len(shown)} of {len(windows)} (stretch: site local time; * UTC)",
+    table = compact_table(f"Upcoming windows, first {len(shown)} of {total or len(windows)} (stretch: site local time; "
+                          "* UTC)",
                    [("mid UTC", "left"), ("target", "left"), ("site", "left"), ("coverage", "left"), ("obs", "right"),
                     ("stretch", "left"), ("alt°", "right"), ("stale", "left")])
     zones = [timezones.get(site) for site in shown["site"]]

@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+from typing import Iterable
 from zoneinfo import ZoneInfo
 
 import pandas as pd
 
-from vigil.export.table import iso_utc, write_csv
+from vigil.export.files import atomic_stream
+from vigil.export.table import csv_bytes, iso_utc
 
 MINUTES_PER_DAY = 1440.0
 TIME_COLUMNS = {
@@ -52,7 +54,20 @@ def local_times(windows: pd.DataFrame, timezones: dict) -> pd.DataFrame:
 
 def write_windows_csv(windows: pd.DataFrame, path, timezones: dict | None = None) -> None:
     """Write the windows CSV atomically; with `timezones` (site -> IANA zone) add local-time columns."""
-    table = windows_for_export(windows)
-    if timezones is not None:
-        table = pd.concat([table, local_times(windows, timezones)], axis=1)
-    write_csv(table, path, text_columns=("target", "site"))
+    write_windows_csv_pieces([windows], path, timezones)
+
+
+def write_windows_csv_pieces(pieces: Iterable[pd.DataFrame], path, timezones: dict | None = None) -> None:
+    """Write the windows CSV from consecutive pieces of the table (vigil.sweep.iter_windows),
+    holding one piece at a time; the file appears only once every piece is written.
+
+    Examples
+    --------
+    >>> write_windows_csv_pieces(iter_windows(targets, sites, {}, start, end), "windows.csv")  # doctest: +SKIP
+    """
+    with atomic_stream(path) as stream:
+        for number, windows in enumerate(pieces):
+            table = windows_for_export(windows)
+            if timezones is not None:
+                table = pd.concat([table, local_times(windows, timezones)], axis=1)
+            stream.write(csv_bytes(table, text_columns=("target", "site"), header=number == 0))

@@ -2,7 +2,7 @@
 
 A target is observable from a site of kind space while its angle from the Sun lies inside the
 site's field of regard [sun_angle_min_deg, sun_angle_max_deg], outside the regular
-interruptions and outside the blackouts (catalog.SpaceSettings). There is no night, horizon or
+interruptions and outside the blackouts (sites.SpaceSettings). There is no night, horizon or
 Moon there: the constraints min_altitude_deg, twilight and moon_sep_deg are ignored, whether
 they come from the site's defaults or from the command line; baseline_h and sigma_k pad the
 windows as on the ground.
@@ -14,7 +14,7 @@ from its geocentric direction (0.57 deg at 1.5e6 km, but nothing for an offset a
 Sun-Earth line). Neither is widened for: catalog.read_sites notes both when the site gives
 distance_from_earth_km.
 
-The Sun (almanac.sun_radec_deg, about 0.01 deg) and the target (almanac.precess_to_date,
+The Sun (places_of_date.sun_radec_deg, about 0.01 deg) and the target (places_of_date.precess_to_date,
 0.5") are apparent geocentric places of date. The Sun moves by at most 1.02 deg/day along the
 ecliptic, so the Sun angle changes by less than 0.05 deg/h (triangle inequality); it is
 sampled every `SUN_STEP_H` and the edges of the field of regard interpolated linearly. Where
@@ -27,10 +27,13 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil import almanac, fast_path, intervals
-from vigil.catalog import Site, SpaceSettings
+from vigil import intervals, places_of_date
+from vigil.constraints import Constraints
+from vigil.engines.protocol import evaluate_in_two_steps
 from vigil.errors import InputError
-from vigil.visibility import HOURS_PER_DAY, Constraints
+from vigil.sites import Site, SpaceSettings
+from vigil.timescales import geocentre_mid_jd_utc, jd_tt_from_utc
+from vigil.visibility import HOURS_PER_DAY
 
 SUN_STEP_H = 1.0
 # The Moon's least distance from the Earth's centre (about 356,400 km at its closest perigees;
@@ -41,13 +44,10 @@ MOON_PARALLAX_LIMIT_DEG = 2.0
 
 
 def site_mid_jd_utc(transits: pd.DataFrame, site: Site) -> np.ndarray:
-    """Mid-transit at the Earth's centre, JD UTC, from BJD_TDB (Roemer delay of the geocentre).
-
-    fast_path.site_mid_jd_utc computes exactly this, for any site (it neglects the site's
-    offset from the geocentre), so it is reused. For an observatory d km from the Earth's
-    centre the time seen there differs by up to d / c (module docstring).
-    """
-    return fast_path.site_mid_jd_utc(transits, site)
+    """Mid-transit at the Earth's centre, JD UTC, from BJD_TDB (Roemer delay of the geocentre,
+    `timescales.geocentre_mid_jd_utc`). For an observatory d km from the Earth's centre the
+    time seen there differs by up to d / c (module docstring)."""
+    return geocentre_mid_jd_utc(*(transits[c].to_numpy(dtype=float) for c in ("mid_bjd_tdb", "ra_deg", "dec_deg")))
 
 
 def separation_deg(ra1_deg, dec1_deg, ra2_deg, dec2_deg) -> np.ndarray:
@@ -64,9 +64,9 @@ def separation_deg(ra1_deg, dec1_deg, ra2_deg, dec2_deg) -> np.ndarray:
 def sun_angle_deg(ra_deg, dec_deg, jd_utc) -> np.ndarray:
     """Angle between ICRS targets (ra_deg, dec_deg) and the Sun seen from the Earth's centre at
     the Julian dates jd_utc (UTC), degrees; inputs broadcast."""
-    jd_tt = almanac.jd_tt_from_utc(jd_utc)
-    target_ra, target_dec = almanac.precess_to_date(ra_deg, dec_deg, jd_tt)
-    return separation_deg(target_ra, target_dec, *almanac.sun_radec_deg(jd_tt))
+    jd_tt = jd_tt_from_utc(jd_utc)
+    target_ra, target_dec = places_of_date.precess_to_date(ra_deg, dec_deg, jd_tt)
+    return separation_deg(target_ra, target_dec, *places_of_date.sun_radec_deg(jd_tt))
 
 
 def _in_field_of_regard(ra_deg, dec_deg, lo, hi, space: SpaceSettings):
@@ -139,9 +139,9 @@ def _moon_separation_deg(ra_deg, dec_deg, mid_jd_utc, space: SpaceSettings) -> n
     distance = space.distance_from_earth_km
     if distance is not None and distance > MOON_NEAREST_KM * np.sin(np.radians(MOON_PARALLAX_LIMIT_DEG)):
         return np.full(mid_jd_utc.shape, np.nan)
-    jd_tt = almanac.jd_tt_from_utc(mid_jd_utc)
-    target_ra, target_dec = almanac.precess_to_date(ra_deg, dec_deg, jd_tt)
-    return separation_deg(target_ra, target_dec, *almanac.moon_radec_deg(jd_tt))
+    jd_tt = jd_tt_from_utc(mid_jd_utc)
+    target_ra, target_dec = places_of_date.precess_to_date(ra_deg, dec_deg, jd_tt)
+    return separation_deg(target_ra, target_dec, *places_of_date.moon_radec_deg(jd_tt))
 
 
 def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
@@ -156,8 +156,14 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
         "sun_alt_mid_deg": nothing,
         "moon_sep_deg": _moon_separation_deg(windows["ra_deg"].to_numpy(dtype=float),
                                              windows["dec_deg"].to_numpy(dtype=float), mid, space),
-        "moon_illumination": almanac.moon_illuminated_fraction(almanac.jd_tt_from_utc(mid)),
+        "moon_illumination": places_of_date.moon_illuminated_fraction(jd_tt_from_utc(mid)),
     }, index=windows.index)
+
+
+def evaluate(windows: pd.DataFrame, site: Site, constraints: Constraints, timed: np.ndarray):
+    """Observable intervals of the `timed` rows and conditions at mid of all rows (the
+    `vigil.engines.protocol.Engine` interface)."""
+    return evaluate_in_two_steps(observable_intervals, conditions_at_mid, windows, site, constraints, timed)
 
 
 def field_of_regard_jd_utc(ra_deg: float, dec_deg: float, space: SpaceSettings, jd_utc_start: float,

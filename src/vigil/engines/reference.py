@@ -17,9 +17,10 @@ from astropy.coordinates import erfa_astrom
 from astropy.time import Time
 
 from vigil import intervals, sky
-from vigil.catalog import Site
+from vigil.constraints import Constraints
+from vigil.engines.protocol import evaluate_in_two_steps
+from vigil.sites import Site
 from vigil.timescales import bjd_tdb_to_site_time, earth_location
-from vigil.visibility import Constraints
 
 STEP_MIN = 5.0
 
@@ -81,3 +82,9 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
         "moon_sep_deg": sky.moon_separation_deg(ra, dec, times, location),
         "moon_illumination": sky.moon_illumination(times),
     }, index=windows.index)
+
+
+def evaluate(windows: pd.DataFrame, site: Site, constraints: Constraints, timed: np.ndarray):
+    """Observable intervals of the `timed` rows and conditions at mid of all rows (the
+    `vigil.engines.protocol.Engine` interface)."""
+    return evaluate_in_two_steps(observable_intervals, conditions_at_mid, windows, site, constraints, timed)

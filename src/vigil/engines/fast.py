@@ -1,6 +1,6 @@
 """Fast visibility engine: interval arithmetic on analytic rise/set times (numpy only).
 
-Per site, the dark intervals over the whole span are found once (almanac.dark_intervals).
+Per site, the dark intervals over the whole span are found once (local_sky.dark_intervals).
 Per transit, the target's apparent place of date gives the hour-angle half-width above the
 altitude limit; the limit is an apparent altitude, so it is lowered by the refraction there
 (constant for a site). The stretches above the limit around the culminations nearest
@@ -10,15 +10,16 @@ mid-transit are intersected with the dark intervals and clipped to the window by
 limit; elsewhere it is settled by its value at mid-transit (see `_moon_clear`).
 
 Target-independent quantities are tabulated once per process on fixed grids of Julian dates,
-in blocks computed on first use (`_Table`), and read at the nearest node or interpolated
+in blocks computed on first use (`vigil.tabulated.Table`), and read at the nearest node or interpolated
 linearly. Linear interpolation over a step h errs by at most h^2/8 max|f''|; for a rotating
 direction, interpolating the vector leaves only the part due to the change of its angular
-rate (and a shortening of the vector, removed by normalising). Bounds, checked in the tests:
+rate (and a shortening of the vector, removed by normalising). Bounds, checked in the tests
+(the Earth's table for BJD_TDB -> UTC is in `vigil.timescales`):
 - `SKY_TABLE` (3 h, JD UTC): precession-nutation matrix, annual aberration and equation of
   the equinoxes at the nearest node (< 0.05": the place of date moves < 0.7"/day), and the
   Sun's direction, interpolated (< 0.01").
-- `EARTH_TABLE` (1 d, JD TDB): the Earth's barycentric position (< 4e-5 au, 20 ms of light).
-- `MOON_TABLE` (1 h, JD UTC): the geocentric Moon (< 1", and < 7 km in distance).
+- `MOON_TABLE` (1 h, JD UTC): the geocentric Moon (< 1", and < 7 km in distance) and its
+  illuminated fraction (< 1e-5: the phase angle turns by < 0.6 deg/h).
 Error budget of the engine (checked against the reference path in the tests): place of date
 ~0.5", UT1 taken as UTC < 0.004 deg in hour angle, Sun ~0.003 deg, refraction model ~0.01 deg:
 window edges within about a minute. Each row's results depend on that row alone (the tables
@@ -32,15 +33,17 @@ import logging
 from functools import lru_cache
 from typing import Callable, NamedTuple
 
-import erfa
 import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil import almanac, intervals
-from vigil.catalog import Site
+from vigil import intervals, local_sky, places_of_date
+from vigil.constraints import Constraints
+from vigil.sites import Site
 from vigil.sky import airmass_kasten_young
-from vigil.visibility import Constraints
+from vigil.tabulated import BLOCKS_KEPT, Table, block_nodes
+from vigil.timescales import geocentre_mid_jd_utc, jd_tt_from_utc
+from vigil.vectors import unit_vectors
 
 log = logging.getLogger("vigil")
 
@@ -53,103 +56,35 @@ MOON_SEPARATION_RATE_DEG_PER_D = 26.0
 FACILITY_STEP_MIN = 5.0
 _NOTED_NO_NIGHT: set = set()
 SKY_STEP_D = 1.0 / 8.0
-EARTH_STEP_D = 1.0
 MOON_STEP_D = 1.0 / 24.0
 _DARK_MARGIN_D = 1.0
-_AU_LIGHT_D = 499.004783836 / 86400.0  # light time for one astronomical unit, days
-_BLOCK_NODES = 1024
-_BLOCKS_KEPT = 2048  # per table: 240 years of the hourly Moon (50 MB), 700 of the 3-hourly sky (270 MB)
 
 
-class _Table(NamedTuple):
-    """Columns of functions of time tabulated at the nodes k * step_d (JD), in blocks of nodes.
-
-    `block(b)` returns the values at nodes b * _BLOCK_NODES ... (b + 1) * _BLOCK_NODES - 1 as
-    an array (_BLOCK_NODES, n_columns), node by node (one gather fetches a node's columns);
-    it is cached, so each block is computed once a process.
-    """
-
-    step_d: float
-    n_columns: int
-    block: Callable[[int], np.ndarray]
-
-    def at(self, jd: np.ndarray, columns: slice = slice(None)) -> np.ndarray:
-        """Columns interpolated linearly at the Julian dates jd (1-d), shaped (jd.size, columns)."""
-        scaled = np.asarray(jd, dtype=float) / self.step_d
-        node = np.floor(scaled)
-        values, index = self._values(node, node + 1, columns)
-        below = values[index]
-        return below + (values[index + 1] - below) * (scaled - node)[:, None]
-
-    def nearest(self, jd: np.ndarray, columns: slice = slice(None)) -> np.ndarray:
-        """Columns at the node nearest to each Julian date in jd (1-d), shaped (jd.size, columns)."""
-        node = np.rint(np.asarray(jd, dtype=float) / self.step_d)
-        values, index = self._values(node, node, columns)
-        return values[index]
-
-    def _values(self, low_node, high_node, columns: slice):
-        """The columns of the blocks from low_node to high_node, and the position of low_node in them."""
-        if low_node.size == 0:
-            return np.empty((1, len(range(self.n_columns)[columns]))), np.zeros(0, dtype=np.intp)
-        first = int(low_node.min()) // _BLOCK_NODES
-        last = int(high_node.max()) // _BLOCK_NODES
-        values = np.concatenate([self.block(b)[:, columns] for b in range(first, last + 1)])
-        return values, (low_node - first * _BLOCK_NODES).astype(np.intp)
-
-
-def _block_nodes(block: int, step_d: float) -> np.ndarray:
-    return (block * _BLOCK_NODES + np.arange(_BLOCK_NODES)) * step_d
-
-
-@lru_cache(maxsize=_BLOCKS_KEPT)
+@lru_cache(maxsize=BLOCKS_KEPT)
 def _sky_block(block: int) -> np.ndarray:
     """Columns `SKY_STAR_OF_DATE` (precession-nutation matrix, row by row, then aberration beta),
     `SKY_EQUATION_OF_EQUINOXES` (deg) and `SKY_SUN` (unit vector of date) at nodes of JD UTC."""
-    jd_tt = almanac.jd_tt_from_utc(_block_nodes(block, SKY_STEP_D))
-    matrix, beta = almanac.star_of_date_terms(jd_tt)
-    sun_ra, sun_dec = np.radians(almanac.sun_radec_deg(jd_tt))
+    jd_tt = jd_tt_from_utc(block_nodes(block, SKY_STEP_D))
+    matrix, beta = places_of_date.star_of_date_terms(jd_tt)
+    sun_ra, sun_dec = np.radians(places_of_date.sun_radec_deg(jd_tt))
     sun = [np.cos(sun_dec) * np.cos(sun_ra), np.cos(sun_dec) * np.sin(sun_ra), np.sin(sun_dec)]
-    return np.column_stack([*matrix.reshape(9, -1), *beta, almanac.equation_of_equinoxes_deg(jd_tt), *sun])
+    return np.column_stack([*matrix.reshape(9, -1), *beta, local_sky.equation_of_equinoxes_deg(jd_tt), *sun])
 
 
-@lru_cache(maxsize=_BLOCKS_KEPT)
-def _earth_block(block: int) -> np.ndarray:
-    """The Earth's barycentric position (au, ICRS axes; erfa.epv00) at nodes of JD TDB."""
-    jd_tdb = _block_nodes(block, EARTH_STEP_D)
-    _, barycentric = erfa.epv00(jd_tdb, np.zeros_like(jd_tdb))
-    return np.ascontiguousarray(barycentric["p"])
-
-
-@lru_cache(maxsize=_BLOCKS_KEPT)
+@lru_cache(maxsize=BLOCKS_KEPT)
 def _moon_block(block: int) -> np.ndarray:
-    """The geocentric Moon (km, true equator and equinox of date) at nodes of JD UTC."""
-    jd_tt = almanac.jd_tt_from_utc(_block_nodes(block, MOON_STEP_D))
-    return np.column_stack(almanac.moon_geocentric_km(jd_tt))
+    """Columns `MOON_XYZ` (the geocentric Moon, km, true equator and equinox of date) and
+    `MOON_ILLUMINATION` (its illuminated fraction) at nodes of JD UTC."""
+    jd_tt = jd_tt_from_utc(block_nodes(block, MOON_STEP_D))
+    return np.column_stack([*places_of_date.moon_geocentric_km(jd_tt), places_of_date.moon_illuminated_fraction(jd_tt)])
 
 
-SKY_TABLE = _Table(SKY_STEP_D, 16, _sky_block)
-EARTH_TABLE = _Table(EARTH_STEP_D, 3, _earth_block)
-MOON_TABLE = _Table(MOON_STEP_D, 3, _moon_block)
+SKY_TABLE = Table(SKY_STEP_D, 16, _sky_block)
+MOON_TABLE = Table(MOON_STEP_D, 4, _moon_block)
 # SKY_TABLE columns: matrix row by row (9) and aberration (3), equation of the equinoxes, Sun
 SKY_STAR_OF_DATE, SKY_EQUATION_OF_EQUINOXES, SKY_SUN = slice(0, 12), slice(12, 13), slice(13, 16)
 _POINTING = slice(0, 13)  # star of date and equation of the equinoxes, fetched together
-
-
-def _unit_vectors(ra_deg: np.ndarray, dec_deg: np.ndarray) -> np.ndarray:
-    """ICRS unit vectors, shaped (n, 3), computed once per run of rows with equal coordinates
-    (the transits of one target come together)."""
-    new_run = np.ones(ra_deg.size, dtype=bool)
-    new_run[1:] = (ra_deg[1:] != ra_deg[:-1]) | (dec_deg[1:] != dec_deg[:-1])
-    first = np.flatnonzero(new_run)
-    ra, dec = np.radians(ra_deg[first]), np.radians(dec_deg[first])
-    cos_dec = np.cos(dec)
-    vectors = np.column_stack([cos_dec * np.cos(ra), cos_dec * np.sin(ra), np.sin(dec)])
-    return np.repeat(vectors, np.diff(np.append(first, ra_deg.size)), axis=0)
-
-
-def _dot(a: np.ndarray, b: np.ndarray) -> np.ndarray:
-    """Row-wise dot products of (n, 3) arrays."""
-    return a[:, 0] * b[:, 0] + a[:, 1] * b[:, 1] + a[:, 2] * b[:, 2]
+MOON_XYZ, MOON_ILLUMINATION = slice(0, 3), slice(3, 4)
 
 
 class _Latest:
@@ -174,23 +109,11 @@ _latest_mid = _Latest()
 
 
 def site_mid_jd_utc(transits: pd.DataFrame, site: Site) -> np.ndarray:
-    """Mid-transit as seen at the site, JD UTC, from BJD_TDB (Roemer delay of the geocentre).
-
-    Neglected: the site's offset from the geocentre (< 21 ms), TDB - TT (< 2 ms), relativistic
-    delays (< 0.1 ms); with the tabulated Earth (20 ms) the whole conversion is within 0.05 s
-    of astropy's. Being the same for every site, it is computed once for a run of sites.
-    """
+    """Mid-transit as seen at the site, JD UTC, from BJD_TDB: the fast conversion at the
+    geocentre (`timescales.geocentre_mid_jd_utc`, within 0.05 s of astropy's at the site).
+    Being the same for every site, it is computed once for a run of sites."""
     columns = tuple(transits[c].to_numpy(dtype=float) for c in ("mid_bjd_tdb", "ra_deg", "dec_deg"))
-    return _latest_mid.get(None, columns, _geocentre_mid_jd_utc).copy()
-
-
-def _geocentre_mid_jd_utc(bjd, ra_deg, dec_deg) -> np.ndarray:
-    direction = _unit_vectors(ra_deg, dec_deg)
-    seen_tt = bjd
-    for _ in range(2):  # the delay changes by < 1e-4 s per s: two passes converge
-        seen_tt = bjd - _dot(EARTH_TABLE.at(seen_tt), direction) * _AU_LIGHT_D
-    utc = seen_tt - almanac.tt_minus_utc_s(seen_tt) / 86400.0
-    return seen_tt - almanac.tt_minus_utc_s(utc) / 86400.0
+    return _latest_mid.get(None, columns, geocentre_mid_jd_utc).copy()
 
 
 class _Pointing(NamedTuple):
@@ -208,7 +131,7 @@ def _pointing(windows: pd.DataFrame, site: Site) -> _Pointing:
     """Each window's pointing at mid-transit; read-only arrays."""
     mid, ra, dec = (windows[c].to_numpy(dtype=float) for c in ("mid_jd_utc", "ra_deg", "dec_deg"))
     terms = np.ascontiguousarray(SKY_TABLE.nearest(mid, _POINTING).T)
-    x0, y0, z0 = _unit_vectors(ra, dec).T
+    x0, y0, z0 = unit_vectors(ra, dec).T
     v = np.empty((3, mid.size))
     for r in range(3):
         np.multiply(terms[3 * r], x0, out=v[r])
@@ -225,7 +148,7 @@ def _pointing(windows: pd.DataFrame, site: Site) -> _Pointing:
 
 
 def _local_sidereal_deg(jd_utc, equation_of_equinoxes_deg, site: Site):
-    return almanac.gmst_deg(jd_utc) + equation_of_equinoxes_deg + site.longitude_deg
+    return local_sky.gmst_deg(jd_utc) + equation_of_equinoxes_deg + site.longitude_deg
 
 
 def _sin_altitude(x, y, z, pointing: _Pointing, site: Site) -> np.ndarray:
@@ -237,7 +160,7 @@ def _sin_altitude(x, y, z, pointing: _Pointing, site: Site) -> np.ndarray:
 def _above_limit(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing):
     """Flat interval set of time above the apparent altitude limit near each window."""
     limit = constraints.min_altitude_deg
-    geometric_limit = limit - almanac.refraction_deg(limit, site.air_pressure_hpa, site.temperature_c,
+    geometric_limit = limit - local_sky.refraction_deg(limit, site.air_pressure_hpa, site.temperature_c,
                                                      alt_is_apparent=True)
     x, y, z = pointing.target
     lat = np.radians(site.latitude_deg)
@@ -275,8 +198,8 @@ def _moon_separation_deg(jd_utc, target: np.ndarray, site: Site, lst_deg=None) -
     """
     if lst_deg is None:
         lst_deg = _local_sidereal_deg(jd_utc, SKY_TABLE.nearest(jd_utc, SKY_EQUATION_OF_EQUINOXES)[:, 0], site)
-    mx, my, mz = MOON_TABLE.at(jd_utc).T
-    rho_cos, rho_sin = almanac.observer_geocentric_km(site.latitude_deg, site.elevation_m)
+    mx, my, mz = MOON_TABLE.at(jd_utc, MOON_XYZ).T
+    rho_cos, rho_sin = local_sky.observer_geocentric_km(site.latitude_deg, site.elevation_m)
     lst_rad = np.radians(lst_deg)
     mx = mx - rho_cos * np.cos(lst_rad)
     my = my - rho_cos * np.sin(lst_rad)
@@ -304,7 +227,7 @@ def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, poi
     clear = np.flatnonzero(margin_mid > reach_deg)
     sample_row, jd = intervals.sample_grid(lo[near], hi[near], MOON_STEP_MIN / 1440.0)
     separation = _moon_separation_deg(jd, pointing.target[:, near[sample_row]], site)
-    limit = facility.moon_limit_deg(almanac.moon_illuminated_fraction(almanac.jd_tt_from_utc(jd)),
+    limit = facility.moon_limit_deg(MOON_TABLE.at(jd, MOON_ILLUMINATION)[:, 0],
                                     constraints.moon_sep_deg)
     row, start, end = intervals.from_samples(sample_row, jd, separation - limit)
     row = np.concatenate([near[row], clear])
@@ -314,9 +237,9 @@ def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, poi
 
 @lru_cache(maxsize=64)
 def _dark_intervals(lat_deg, lon_deg, elev_m, jd_utc_start, jd_utc_end, sun_alt_deg):
-    """almanac.dark_intervals, kept for repeated calls (chunks of a catalog share their span:
+    """local_sky.dark_intervals, kept for repeated calls (chunks of a catalog share their span:
     it is rounded out to whole days, which changes no night inside it). Read-only arrays."""
-    starts, ends = almanac.dark_intervals(lat_deg, lon_deg, elev_m, jd_utc_start, jd_utc_end, sun_alt_deg)
+    starts, ends = local_sky.dark_intervals(lat_deg, lon_deg, elev_m, jd_utc_start, jd_utc_end, sun_alt_deg)
     starts.setflags(write=False)
     ends.setflags(write=False)
     return starts, ends
@@ -370,9 +293,9 @@ def _facility_clear(windows: pd.DataFrame, site: Site, pointing: _Pointing):
     mid = windows["mid_jd_utc"].to_numpy(dtype=float)[row]
     ha = (pointing.lst_deg[row] + SIDEREAL_DEG_PER_DAY * (jd - mid) - np.degrees(np.arctan2(y, x)) + 180.0) % 360.0 - 180.0
     dec = np.degrees(np.arcsin(np.clip(z, -1.0, 1.0)))
-    geometric = almanac.altitude_deg(ha, dec, site.latitude_deg)
-    apparent = geometric + almanac.refraction_deg(geometric, site.air_pressure_hpa, site.temperature_c)
-    azimuth = almanac.azimuth_deg(ha, dec, site.latitude_deg)
+    geometric = local_sky.altitude_deg(ha, dec, site.latitude_deg)
+    apparent = geometric + local_sky.refraction_deg(geometric, site.air_pressure_hpa, site.temperature_c)
+    azimuth = local_sky.azimuth_deg(ha, dec, site.latitude_deg)
     return intervals.from_samples(row, jd, site.facility.margin_deg(apparent, azimuth, ha, dec))
 
 
@@ -384,9 +307,9 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site, pointing: _Pointing | N
     sun = SKY_TABLE.at(mid, SKY_SUN).T
     sin_sun_alt = _sin_altitude(*sun, pointing, site) / np.sqrt(sun[0] ** 2 + sun[1] ** 2 + sun[2] ** 2)
     return pd.DataFrame({
-        "alt_mid_deg": geometric + almanac.refraction_deg(geometric, site.air_pressure_hpa, site.temperature_c),
+        "alt_mid_deg": geometric + local_sky.refraction_deg(geometric, site.air_pressure_hpa, site.temperature_c),
         "airmass_mid": airmass_kasten_young(geometric),
         "sun_alt_mid_deg": np.degrees(np.arcsin(np.clip(sin_sun_alt, -1.0, 1.0))),
         "moon_sep_deg": _moon_separation_deg(mid, pointing.target, site, pointing.lst_deg),
-        "moon_illumination": almanac.moon_illuminated_fraction(almanac.jd_tt_from_utc(mid)),
+        "moon_illumination": MOON_TABLE.at(mid, MOON_ILLUMINATION)[:, 0],
     }, index=windows.index)

@@ -2,14 +2,16 @@
 
 A linear ephemeris predicts transit n (counted from T0) with the 1-sigma uncertainty
     sigma_T(n)^2 = sigma_T0^2 + n^2 sigma_P^2 + 2 n cov(T0, P)
-(standard first-order error propagation; vigil.ephemeris.mid_sigma_d). Windows are padded by
-K sigma_T(n) (visibility.Constraints.sigma_k). The ephemeris is stale from the first transit
+(standard first-order error propagation; vigil.ephemeris.models, which also gives the quartic
+of a quadratic ephemeris). Windows are padded by K sigma_T(n) (the window padding's sigma_k).
+The ephemeris is stale from the first transit
 whose padded uncertainty K sigma_T(n) exceeds a limit, either
   - a fraction of the transit duration, by default DURATION_FRACTION = 0.25 (a planning choice:
     past it, a K-sigma timing error moves a quarter of the transit out of a window centred on
     the prediction), or
   - the out-of-transit baseline wanted on each side (hours).
-K and the baseline default to those of the window padding (visibility.Constraints).
+K and the baseline default to those of the window padding (1 sigma, 1 hour; the visibility
+stage passes its own and asks `stale_flags` for the stale column of every window).
 
 Times are BJD_TDB (days); each stale date is also given as an astropy Time in TDB.
 """
@@ -24,13 +26,12 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil.ephemeris import mid_sigma_d
+from vigil.ephemeris.models import PolynomialEphemeris, mid_sigma_d, target_ephemerides
 from vigil.errors import InputError
-from vigil.visibility import STALE_DURATION_FRACTION, Constraints
 
-DURATION_FRACTION = STALE_DURATION_FRACTION
-DEFAULT_SIGMA_K = Constraints.sigma_k
-DEFAULT_BASELINE_H = Constraints.baseline_h
+DURATION_FRACTION = 0.25
+DEFAULT_SIGMA_K = 1.0
+DEFAULT_BASELINE_H = 1.0
 HOURS_PER_DAY = 24.0
 # Past 2^52 consecutive whole numbers are no longer all floats; there the root is final.
 _WHOLE_FLOAT_LIMIT = 2.0**52
@@ -91,14 +92,51 @@ class StaleDate:
     time: Time | None
 
 
-def stale_date(t0_bjd_tdb: float, period_d: float, limit_d: float, t0_err_d: float, period_err_d: float,
-               cov_d2: float = 0.0, sigma_k: float = DEFAULT_SIGMA_K, after: Time | None = None) -> StaleDate:
-    """The first transit at or after `after` (default: T0) whose K sigma_T exceeds limit_d (days)."""
-    from_epoch = 0 if after is None else math.ceil((after.tdb.jd - t0_bjd_tdb) / period_d)
-    epoch = first_stale_epoch(limit_d, t0_err_d, period_err_d, cov_d2, sigma_k, from_epoch)
+def model_first_stale_epoch(model: PolynomialEphemeris, limit_d: float, sigma_k: float = DEFAULT_SIGMA_K,
+                            from_epoch: int = 0) -> float:
+    """First epoch n >= from_epoch (catalogue numbering) with K sigma_T(n) > limit_d; inf when none.
+
+    Linear models use `first_stale_epoch`. For a quadratic one, K sigma_T(n) > L where the quartic
+    b^T C b - (L/K)^2 (b = (1, k, k^2/2)) is positive: the answer is the first whole epoch past
+    the first real root beyond from_epoch where it turns positive.
+
+    Examples
+    --------
+    >>> from vigil.ephemeris.models import linear_ephemeris
+    >>> model_first_stale_epoch(linear_ephemeris(2460000.0, 0.0, 1.0, 1e-4), 0.01)
+    101.0
+    """
+    c = np.asarray(model.covariance_d2, dtype=float)
+    origin = int(model.t0_epoch)
+    if not np.any(c[2]):
+        return origin + first_stale_epoch(limit_d, math.sqrt(c[0, 0]), math.sqrt(c[1, 1]), c[0, 1], sigma_k,
+                                          from_epoch - origin)
+    _check_positive("limit_d", limit_d, "days")
+
+    def stale(n: float) -> bool:
+        return bool(sigma_k * model.mid_sigma_d(n) > limit_d)
+
+    if stale(from_epoch):
+        return float(from_epoch)
+    # b^T C b - (L/K)^2 as a polynomial in k, highest power first.
+    quartic = [c[2, 2] / 4, c[1, 2], c[1, 1] + c[0, 2], 2 * c[0, 1], c[0, 0] - (limit_d / sigma_k) ** 2]
+    roots = np.roots(quartic)
+    real = np.sort(roots[np.abs(roots.imag) <= 1e-9 * np.maximum(np.abs(roots.real), 1.0)].real) + origin
+    for root in real[real >= from_epoch]:
+        for epoch in (math.floor(root), math.floor(root) + 1.0, math.floor(root) + 2.0):
+            if epoch >= from_epoch and stale(epoch):
+                return float(epoch)
+    return math.inf
+
+
+def stale_date(model: PolynomialEphemeris, limit_d: float, sigma_k: float = DEFAULT_SIGMA_K,
+               after: Time | None = None) -> StaleDate:
+    """The first transit at or after `after` (default: the model's T0) whose K sigma_T exceeds limit_d (days)."""
+    from_epoch = int(model.t0_epoch) if after is None else math.ceil(model.epoch_at(after.tdb.jd))
+    epoch = model_first_stale_epoch(model, limit_d, sigma_k, from_epoch)
     if not math.isfinite(epoch):
         return StaleDate(math.inf, math.inf, None)
-    bjd = t0_bjd_tdb + epoch * period_d
+    bjd = float(model.mid_bjd_tdb(epoch))
     return StaleDate(epoch, bjd, Time(bjd, format="jd", scale="tdb"))
 
 
@@ -108,10 +146,11 @@ def staleness(targets: pd.DataFrame, duration_fraction: float = DURATION_FRACTIO
     """Per target, when K sigma_T first exceeds duration_fraction x duration and when it exceeds baseline_h.
 
     targets: name, t0_bjd_tdb, t0_err_d, period_d, period_err_d, duration_h, optional
-    t0_period_cov_d2 (0 when absent). Counts transits from `after` (a Time; default each T0).
-    Columns: name, duration_limit_h, stale_by_duration_epoch, stale_by_duration_bjd_tdb,
-    stale_by_duration_time, baseline_h, stale_by_baseline_epoch, stale_by_baseline_bjd_tdb,
-    stale_by_baseline_time (epochs and BJD_TDB inf, times None, when never stale).
+    t0_period_cov_d2 and quadratic columns (vigil.ephemeris.models). Counts transits from `after`
+    (a Time; default each T0). Columns: name, duration_limit_h, stale_by_duration_epoch,
+    stale_by_duration_bjd_tdb, stale_by_duration_time, baseline_h, stale_by_baseline_epoch,
+    stale_by_baseline_bjd_tdb, stale_by_baseline_time (epochs and BJD_TDB inf, times None, when
+    never stale).
     """
     missing = [c for c in STALENESS_INPUTS if c not in targets.columns]
     if missing:
@@ -119,16 +158,28 @@ def staleness(targets: pd.DataFrame, duration_fraction: float = DURATION_FRACTIO
     _check_positive("duration_fraction", duration_fraction, "(a fraction of the transit duration)")
     _check_positive("baseline_h", baseline_h, "hours")
     rows = []
-    for row in targets.to_dict("records"):
-        cov = row.get("t0_period_cov_d2", 0.0)
-        ephemeris = (row["t0_err_d"], row["period_err_d"], 0.0 if pd.isna(cov) else cov, sigma_k, after)
+    for row, model in zip(targets.to_dict("records"), target_ephemerides(targets)):
         limit_h = duration_fraction * row["duration_h"]
-        by_duration = stale_date(row["t0_bjd_tdb"], row["period_d"], limit_h / HOURS_PER_DAY, *ephemeris)
-        by_baseline = stale_date(row["t0_bjd_tdb"], row["period_d"], baseline_h / HOURS_PER_DAY, *ephemeris)
+        by_duration = stale_date(model, limit_h / HOURS_PER_DAY, sigma_k, after)
+        by_baseline = stale_date(model, baseline_h / HOURS_PER_DAY, sigma_k, after)
         rows.append({"name": row["name"], "duration_limit_h": limit_h,
                      **_flat("stale_by_duration", by_duration), "baseline_h": baseline_h,
                      **_flat("stale_by_baseline", by_baseline)})
     return pd.DataFrame(rows)
+
+
+def stale_flags(mid_sigma_d, duration_h, sigma_k: float, baseline_h: float) -> np.ndarray:
+    """True where the timing pad K sigma exceeds DURATION_FRACTION of the duration or the baseline.
+
+    mid_sigma_d in days, duration_h and baseline_h in hours; numpy-broadcast.
+
+    Examples
+    --------
+    >>> stale_flags([0.001, 0.03], 2.0, 1.0, 1.0).tolist()
+    [False, True]
+    """
+    pad_h = sigma_k * np.asarray(mid_sigma_d, dtype=float) * HOURS_PER_DAY
+    return (pad_h > DURATION_FRACTION * np.asarray(duration_h, dtype=float)) | (pad_h > baseline_h)
 
 
 def _flat(prefix: str, date: StaleDate) -> dict:

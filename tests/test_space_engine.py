@@ -3,8 +3,8 @@
 References: astropy (get_sun, get_body with the builtin ephemeris, the GCRS frame,
 Time.light_travel_time) for positions and times; the geometry of the ecliptic (a pole sits
 90 deg from the Sun all year; on the ecliptic the elongation runs 0-180-0 deg at the Sun's
-mean rate, 360 deg / 365.2422 d = 0.9856 deg/day, from memory); the definition of the
-interruptions and blackouts (catalog.SpaceSettings), checked by brute-force sampling.
+mean rate, 360 deg / tropical year = 0.9856 deg/day, authorities.sun_moon); the definition of the
+interruptions and blackouts (sites.SpaceSettings), checked by brute-force sampling.
 All sites and targets are invented.
 """
 
@@ -17,18 +17,21 @@ import pytest
 from astropy.coordinates import GCRS, BarycentricMeanEcliptic, EarthLocation, SkyCoord, get_body, get_sun, solar_system_ephemeris
 from astropy.time import Time
 
-from vigil import space_path, windows
-from vigil.catalog import Site, SpaceSettings, read_sites
+from authorities import sun_moon
+from vigil import windows
+from vigil.catalog import read_sites
+from vigil.engines import space as space_engine
+from vigil.sites import Site, SpaceSettings
 from vigil.errors import InputError
 from vigil.export.space_plots import annual_visibility_plot
 
 from conftest import DEMO_DIR
 
-SUN_ANGLE_TOLERANCE_DEG = 0.05  # the brief's bound; almanac's Sun is good to about 0.01 deg
-MOON_TOLERANCE_DEG = 0.05  # almanac's Moon: main terms of Meeus ch. 47, about 0.02 deg
+SUN_ANGLE_TOLERANCE_DEG = 0.05  # the brief's bound; places_of_date's Sun is good to about 0.01 deg
+MOON_TOLERANCE_DEG = 0.05  # places_of_date's Moon: main terms of Meeus ch. 47, about 0.02 deg
 MID_TOLERANCE_S = 0.1
-SUN_MEAN_RATE_DEG_PER_D = 360.0 / 365.2422  # tropical year (from memory)
-# The Earth's orbital eccentricity e = 0.0167 (from memory) makes the Sun's apparent rate vary
+SUN_MEAN_RATE_DEG_PER_D = 360.0 / sun_moon.TROPICAL_YEAR_D
+# The Earth's orbital eccentricity e = 0.0167 (authorities.sun_moon) makes the Sun's apparent rate vary
 # by about +-2e = +-3.3 %: +-1.7 days on a 50.7-day window.
 WINDOW_LENGTH_TOLERANCE_D = 2.0
 YEAR = 2031
@@ -60,7 +63,7 @@ def test_sun_angle_matches_astropy_in_gcrs():
     times = Time(jd, format="jd", scale="utc")
     targets = SkyCoord(ra=ra * u.deg, dec=dec * u.deg, frame="icrs").transform_to(GCRS(obstime=times))
     reference = get_sun(times).separation(targets).deg
-    worst = np.abs(space_path.sun_angle_deg(ra, dec, jd) - reference).max()
+    worst = np.abs(space_engine.sun_angle_deg(ra, dec, jd) - reference).max()
     assert worst < SUN_ANGLE_TOLERANCE_DEG, worst
 
 
@@ -74,7 +77,7 @@ def test_geocentric_mid_time_inverts_astropy_light_travel_time():
         bjd = seen.tdb + seen.light_travel_time(target, kind="barycentric", location=geocentre)
         rows.append(pd.DataFrame({"mid_bjd_tdb": bjd.jd, "ra_deg": ra, "dec_deg": dec, "seen_jd": seen.utc.jd}))
     transits = pd.concat(rows, ignore_index=True)
-    mid = space_path.site_mid_jd_utc(transits, WANDERER)
+    mid = space_engine.site_mid_jd_utc(transits, WANDERER)
     worst_s = np.abs(mid - transits["seen_jd"].to_numpy()).max() * 86400.0
     assert worst_s < MID_TOLERANCE_S, worst_s
 
@@ -102,7 +105,7 @@ def test_ecliptic_target_has_two_windows_of_fifty_days(lon_deg):
     # 180 deg and back at the Sun's mean rate; the 85-135 band covers 50 deg of it on each
     # side: two windows of 50 / 0.9856 = 50.7 days. These longitudes keep both inside the year.
     target = _ecliptic_icrs(lon_deg, 0.0)
-    found = space_path.annual_windows(target.ra.deg, target.dec.deg, WANDERER, YEAR)
+    found = space_engine.annual_windows(target.ra.deg, target.dec.deg, WANDERER, YEAR)
     lo, hi = _year_bounds_jd()
     assert len(found) == 2
     expected_d = (WANDERER.space.sun_angle_max_deg - WANDERER.space.sun_angle_min_deg) / SUN_MEAN_RATE_DEG_PER_D
@@ -120,7 +123,7 @@ def test_annual_windows_edges_have_the_band_limits_by_astropy():
     # Reference: astropy get_sun and GCRS as above: at each interpolated edge the Sun angle
     # is one of the band limits.
     target = _ecliptic_icrs(105.0, 20.0)
-    found = space_path.annual_windows(target.ra.deg, target.dec.deg, WANDERER, YEAR)
+    found = space_engine.annual_windows(target.ra.deg, target.dec.deg, WANDERER, YEAR)
     edges = Time([t.jd for pair in found for t in pair], format="jd", scale="utc")
     coords = SkyCoord(ra=target.ra, dec=target.dec, frame="icrs").transform_to(GCRS(obstime=edges))
     angle = get_sun(edges).separation(coords).deg
@@ -195,7 +198,7 @@ def test_conditions_at_mid_have_no_horizon_and_a_geocentric_moon():
     n = 50
     frame = pd.DataFrame({"ra_deg": rng.uniform(0.0, 360.0, n), "dec_deg": rng.uniform(-80.0, 80.0, n),
                           "mid_jd_utc": Time(f"{YEAR}-01-01", scale="utc").jd + rng.uniform(0.0, 365.0, n)})
-    conditions = space_path.conditions_at_mid(frame, WANDERER)
+    conditions = space_engine.conditions_at_mid(frame, WANDERER)
     times = Time(frame["mid_jd_utc"].to_numpy(), format="jd", scale="utc")
     with solar_system_ephemeris.set("builtin"):
         moon = get_body("moon", times)
@@ -205,7 +208,7 @@ def test_conditions_at_mid_have_no_horizon_and_a_geocentric_moon():
     for column in ("alt_mid_deg", "airmass_mid", "sun_alt_mid_deg"):
         assert conditions[column].isna().all()
     far = Site.in_space("far", SpaceSettings(distance_from_earth_km=1.5e6))
-    assert space_path.conditions_at_mid(frame, far)["moon_sep_deg"].isna().all()
+    assert space_engine.conditions_at_mid(frame, far)["moon_sep_deg"].isna().all()
 
 
 def test_ground_sites_are_unchanged_beside_a_space_site(make_targets, demo_sites):

@@ -14,7 +14,7 @@ import pandas as pd
 from astropy.time import Time
 
 from vigil.errors import InputError
-from vigil.staleness import refresh_sigma
+from vigil.ephemeris.staleness import refresh_sigma
 
 DAYS_PER_YEAR = 365.25
 

@@ -13,7 +13,8 @@ from pathlib import Path
 
 from astropy.time import Time
 
-from vigil.catalog import CONSTRAINT_KEYS, _checked_constraints, _load_toml, _spelling_hint
+from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
+from vigil.textfile import load_toml, spelling_hint
 from vigil.errors import InputError
 from vigil.schema import COVERAGE_CLASSES
 from vigil.spectrum import Instrument
@@ -73,7 +74,7 @@ def _expected(kind, low, high, unit: str) -> str:
 def _get(path: Path, table: dict, section: str, key: str, kind, low=None, high=None, default=..., unit: str = ""):
     if key not in table:
         if default is ...:
-            hint = _spelling_hint([key], set(table) - (KNOWN.get(section) or set()))
+            hint = spelling_hint([key], set(table) - (KNOWN.get(section) or set()))
             raise InputError(f"{path}: [{section}] {key}: required, {_expected(kind, low, high, unit)}{hint}")
         return default
     value = table[key]
@@ -101,7 +102,7 @@ def _table(path: Path, document: dict, section: str, required: bool = True) -> d
 def _warn_unknown(path: Path, document: dict, sites: tuple[str, ...]) -> None:
     for section, value in document.items():
         if section not in KNOWN:
-            log.warning("%s: unknown table [%s] ignored%s", path, section, _spelling_hint([*KNOWN], [section]))
+            log.warning("%s: unknown table [%s] ignored%s", path, section, spelling_hint([*KNOWN], [section]))
         elif KNOWN[section] is not None and isinstance(value, dict):
             for key in sorted(set(value) - KNOWN[section]):
                 log.warning("%s: [%s] unknown key %r ignored", path, section, key)
@@ -117,7 +118,7 @@ def _weather(path: Path, document: dict, sites: tuple[str, ...]) -> dict:
         entry = table.get(site, {})
         values = entry.get("clear_fraction") if isinstance(entry, dict) else None
         if values is None:
-            hint = _spelling_hint(["clear_fraction"], entry) if isinstance(entry, dict) else ""
+            hint = spelling_hint(["clear_fraction"], entry) if isinstance(entry, dict) else ""
             raise InputError(f"{path}: [weather.{site}] clear_fraction: required, 12 monthly fractions (Jan..Dec){hint}")
         if (not isinstance(values, list) or len(values) != MONTHS
                 or not all(isinstance(v, (int, float)) and not isinstance(v, bool) and 0 <= v <= 1 for v in values)):
@@ -176,7 +177,7 @@ def _check_sites_known(path: Path, sites_file: Path, names: tuple[str, ...]) -> 
     """Name the [campaign] key when a site is missing from a readable sites file; problems of
     the sites file itself are left to catalog.read_sites."""
     try:
-        known = _load_toml(sites_file).get("sites")
+        known = load_toml(sites_file).get("sites")
     except InputError:
         return
     if not isinstance(known, dict) or not known:
@@ -199,7 +200,7 @@ def _refresh(path: Path, table: dict) -> dict:
 def read_campaign(path: str | Path) -> CampaignSpec:
     """Read a campaign TOML file (see configs/campaign.example.toml for every key)."""
     path = Path(path)
-    document = _load_toml(path)
+    document = load_toml(path)
     c = document.get("campaign")
     if not isinstance(c, dict):
         raise InputError(f"{path}: [campaign] table missing; expected [campaign] start, targets, sites_file, sites")
@@ -230,7 +231,7 @@ def read_campaign(path: str | Path) -> CampaignSpec:
         per_target_per_semester=_get(path, allocation, "allocation", "per_target_per_semester", int, 0, 10_000, None),
         per_site_per_semester=_get(path, allocation, "allocation", "per_site_per_semester", int, 0, 100_000, None),
         overhead_h=float(_get(path, allocation, "allocation", "overhead_h", (int, float), 0.0, 24.0, 0.0, " hours")),
-        constraints=_checked_constraints(f"{path}: [campaign]", constraints),
+        constraints=checked_constraints(f"{path}: [campaign]", constraints),
         journal_file=path.parent / c["journal"] if _get(path, c, "campaign", "journal", str, default=None) else None,
         **_refresh(path, _table(path, document, "refresh", required=False)),
     )

@@ -1,12 +1,12 @@
-"""The campaign stage: which windows are attempted over the years, and which are clear.
+"""The campaign schedule: which windows are attempted over the years.
 
 The schedule is built once and is the same in every trial: windows of the counted coverage
 classes become visits; at each site visits that overlap in time clash (one telescope per
 site) and are resolved greedily by priority, then by spectral gain per telescope hour, then
 by date; allocation caps (visits per target and per site per half-year, January-June and
 July-December) count attempts, as with time granted in advance: a visit lost to weather is
-not replaced. Trials then differ only in the weather, drawn per site and night from the
-clear fraction of the night's month (seeded), so no trial recomputes visibility.
+not replaced. Trials then differ only in the weather (`weather.py`), so no trial recomputes
+visibility.
 """
 
 from __future__ import annotations
@@ -17,18 +17,20 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil.campaign_spec import CampaignSpec
 
 HOURS_PER_DAY = 24.0
 
 
-def visits_from_windows(windows: pd.DataFrame, spec: CampaignSpec, sites: dict) -> pd.DataFrame:
+def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str, ...], min_fraction: float,
+                        overhead_h: float) -> pd.DataFrame:
     """Candidate visits: counted windows with in-transit and baseline hours, night and half-year.
 
-    A visit spans the window's observable stretch; in-transit hours are its overlap with
-    [ingress, egress], baseline hours the rest of it; telescope hours add the overhead.
+    Counted are the windows of the `coverage` classes observable for at least `min_fraction`
+    of the transit. A visit spans the window's observable stretch; in-transit hours are its
+    overlap with [ingress, egress], baseline hours the rest of it; telescope hours add
+    `overhead_h`.
     """
-    counted = windows["coverage"].isin(spec.coverage) & (windows["observable_fraction"] >= spec.min_fraction)
+    counted = windows["coverage"].isin(coverage) & (windows["observable_fraction"] >= min_fraction)
     w = windows[counted].reset_index(drop=True)
     start, end = w["observable_start_jd_utc"].to_numpy(), w["observable_end_jd_utc"].to_numpy()
     inside = np.clip(np.minimum(end, w["egress_jd_utc"]) - np.maximum(start, w["ingress_jd_utc"]), 0.0, None)
@@ -41,7 +43,7 @@ def visits_from_windows(windows: pd.DataFrame, spec: CampaignSpec, sites: dict) 
         "mid_jd_utc": w["mid_jd_utc"], "start_jd_utc": start, "end_jd_utc": end,
         "in_transit_h": inside * HOURS_PER_DAY,
         "baseline_h": (end - start - inside) * HOURS_PER_DAY,
-        "telescope_h": (end - start) * HOURS_PER_DAY + spec.overhead_h,
+        "telescope_h": (end - start) * HOURS_PER_DAY + overhead_h,
         "night": local_day.astype(np.int64), "month": months, "half_year": years * 2 + (months > 6),
     })
 
@@ -53,8 +55,10 @@ def _month_year(jd_utc: np.ndarray):
     return np.asarray(dates["month"], dtype=int), np.asarray(dates["year"], dtype=int)
 
 
-def schedule(visits: pd.DataFrame, gain_per_hour: dict, priority: dict, spec: CampaignSpec) -> pd.DataFrame:
-    """The visits attempted: clashes at a site and allocation caps resolved greedily (module doc)."""
+def schedule(visits: pd.DataFrame, gain_per_hour: dict, priority: dict, per_target_per_semester: int | None,
+             per_site_per_semester: int | None) -> pd.DataFrame:
+    """The visits attempted: clashes at a site and allocation caps (visits per half-year, None
+    for no cap) resolved greedily (module doc)."""
     if visits.empty:
         return visits.assign(gain=pd.Series(dtype=float))
     gain = visits["target"].map(gain_per_hour) * visits["in_transit_h"] / visits["telescope_h"]
@@ -68,9 +72,9 @@ def schedule(visits: pd.DataFrame, gain_per_hour: dict, priority: dict, spec: Ca
     chosen = []
     for i in order:
         t_key, s_key = (target[i], half[i]), (site[i], half[i])
-        if spec.per_target_per_semester is not None and per_target.get(t_key, 0) >= spec.per_target_per_semester:
+        if per_target_per_semester is not None and per_target.get(t_key, 0) >= per_target_per_semester:
             continue
-        if spec.per_site_per_semester is not None and per_site.get(s_key, 0) >= spec.per_site_per_semester:
+        if per_site_per_semester is not None and per_site.get(s_key, 0) >= per_site_per_semester:
             continue
         starts, ends = booked.setdefault(site[i], ([], []))
         k = bisect.bisect_left(starts, start[i])
@@ -83,16 +87,3 @@ def schedule(visits: pd.DataFrame, gain_per_hour: dict, priority: dict, spec: Ca
         chosen.append(i)
     out = visits.iloc[sorted(chosen, key=lambda j: (start[j], target[j]))]
     return out.assign(gain=gain.iloc[out.index]).reset_index(drop=True)
-
-
-def clear_weather(visits: pd.DataFrame, spec: CampaignSpec, trials: int, rng: np.random.Generator) -> np.ndarray:
-    """Boolean (trials, visits): was the visit's night clear? One draw per site-night per trial."""
-    if visits.empty:
-        return np.zeros((trials, 0), dtype=bool)
-    keys = visits["site"].astype(str) + ":" + visits["night"].astype(str)
-    nights, which = np.unique(keys.to_numpy(), return_inverse=True)
-    first = pd.Series(np.arange(len(visits))).groupby(which).first().to_numpy()
-    probability = np.array([spec.clear_fraction[s][m - 1] for s, m in
-                            zip(visits["site"].to_numpy()[first], visits["month"].to_numpy()[first])])
-    clear_nights = rng.random((trials, nights.size)) < probability
-    return clear_nights[:, which]

@@ -1,6 +1,6 @@
 """The fast visibility engine against the astropy reference engine and astropy positions.
 
-References: vigil.reference_path (astropy get_sun, AltAz with refraction and topocentric
+References: vigil.engines.reference (astropy get_sun, AltAz with refraction and topocentric
 get_body sampled every 5 min: the project's truth for visibility, itself checked against
 PyEphem in test_visibility.py); astropy's TETE frame, get_body and the builtin ephemeris for
 the tabulated positions; the linear-interpolation error bound |f - L| <= h^2 max|f''| / 8
@@ -21,8 +21,11 @@ from astropy.coordinates import (TETE, CartesianRepresentation, SkyCoord, get_bo
                                  solar_system_ephemeris)
 from astropy.time import Time
 
-from vigil import almanac, fast_path, reference_path, visibility, windows
-from vigil.catalog import Site
+from vigil import local_sky, places_of_date, timescales, visibility, windows
+from vigil.constraints import Constraints, resolve_constraints
+from vigil.engines import fast as fast_engine
+from vigil.engines import reference as reference_engine
+from vigil.sites import Site
 from vigil.timescales import earth_location
 
 from conftest import random_targets
@@ -61,8 +64,8 @@ def _targets(n: int, seed: int) -> pd.DataFrame:
                           duration_h=(1.0, 6.0))
 
 
-def _constraints(site_name: str) -> visibility.Constraints:
-    return visibility.resolve_constraints(SITES[site_name].defaults, {})
+def _constraints(site_name: str) -> Constraints:
+    return resolve_constraints(SITES[site_name].defaults, {})
 
 
 def _stretches(observable, n: int):
@@ -78,10 +81,10 @@ def _reference_rows(fast_rows: pd.DataFrame, site: Site):
     its own by the < 0.1 s of mid-time checked below): its results as columns suffixed _ref,
     and its stretches."""
     constraints = _constraints(site.name)
-    observable = reference_path.observable_intervals(fast_rows, site, constraints)
+    observable = reference_engine.observable_intervals(fast_rows, site, constraints)
     classified = visibility.classify(fast_rows, observable, constraints.sigma_k)[CLASS_COLUMNS]
-    reference = pd.concat([classified, reference_path.conditions_at_mid(fast_rows, site)], axis=1)
-    reference["mid_jd_utc"] = reference_path.site_mid_jd_utc(fast_rows, site)
+    reference = pd.concat([classified, reference_engine.conditions_at_mid(fast_rows, site)], axis=1)
+    reference["mid_jd_utc"] = reference_engine.site_mid_jd_utc(fast_rows, site)
     return reference.add_suffix("_ref"), _stretches(observable, len(fast_rows))
 
 
@@ -100,7 +103,7 @@ def paired():
             reference, found = _reference_rows(rows, site)
             tables.append(rows.join(reference))
             stretches["reference"] += found
-            stretches["fast"] += _stretches(fast_path.observable_intervals(rows, site, _constraints(name)), len(rows))
+            stretches["fast"] += _stretches(fast_engine.observable_intervals(rows, site, _constraints(name)), len(rows))
     return pd.concat(tables, ignore_index=True), stretches
 
 
@@ -112,7 +115,7 @@ def _reference_margin_deg(table: pd.DataFrame, positions, jd_utc) -> np.ndarray:
     for name in np.unique(sites):
         pick = np.flatnonzero(sites == name)
         rows = table.iloc[positions[pick]].reset_index(drop=True)
-        margin[pick] = reference_path.constraint_margin_deg(rows, np.arange(pick.size),
+        margin[pick] = reference_engine.constraint_margin_deg(rows, np.arange(pick.size),
                                                             jd_utc[pick], SITES[name], _constraints(name))
     return margin
 
@@ -132,17 +135,17 @@ def test_workload_exercises_every_case(paired):
     assert max(abs(site.latitude_deg) for site in SITES.values()) > 60.0
     june = Time(SPAN_STARTS[1], scale="utc").jd
     north = SITES["fjellstua"]
-    dark = almanac.dark_intervals(north.latitude_deg, north.longitude_deg, north.elevation_m, june, june + SPAN_D,
+    dark = local_sky.dark_intervals(north.latitude_deg, north.longitude_deg, north.elevation_m, june, june + SPAN_D,
                                   _constraints("fjellstua").sun_altitude_deg)
     assert dark[0].size == 0  # no nautical darkness at 69.65 N in late June
     moon_cut = 0
     for name in ("isla_cima", "fjellstua"):
         rows = table[table["site"] == name].reset_index(drop=True)
         site, with_moon = SITES[name], _constraints(name)
-        without_moon = visibility.Constraints(**{**with_moon.__dict__, "moon_sep_deg": 0.0})
+        without_moon = Constraints(**{**with_moon.__dict__, "moon_sep_deg": 0.0})
         fraction = {}
         for label, constraints in (("with", with_moon), ("without", without_moon)):
-            observable = fast_path.observable_intervals(rows, site, constraints)
+            observable = fast_engine.observable_intervals(rows, site, constraints)
             fraction[label] = visibility.classify(rows, observable, constraints.sigma_k)[
                 "observable_fraction"].to_numpy()
         moon_cut += int(np.sum(fraction["with"] < fraction["without"] - 1e-6))
@@ -150,7 +153,7 @@ def test_workload_exercises_every_case(paired):
 
 
 def test_mid_times_agree_within_a_tenth_of_a_second(paired):
-    # Reference: astropy light travel time (reference_path.site_mid_jd_utc).
+    # Reference: astropy light travel time (reference_engine.site_mid_jd_utc).
     table, _ = paired
     worst_s = np.max(np.abs(table["mid_jd_utc"] - table["mid_jd_utc_ref"])) * 86400.0
     print(f"mid-time UTC: worst {worst_s * 1000:.1f} ms over {len(table)} transit-site rows")
@@ -267,16 +270,16 @@ def test_tabulated_star_of_date_matches_direct_evaluation_and_astropy_tete():
     # Nearest node of a 3 h grid: the place of date moves by at most 0.35"/day (aberration)
     # + 0.14"/day (precession) + 0.2"/day (nutation: the IAU 1980 main terms' amplitudes times
     # frequencies add up to < 0.2"/day), so half a step (1.5 h) costs < 0.05".
-    # Outside reference: astropy ICRS -> TETE (IAU 2006/2000A), within almanac's 1" bound.
+    # Outside reference: astropy ICRS -> TETE (IAU 2006/2000A), within places_of_date's 1" bound.
     ra0, dec0 = RNG.uniform(0, 360, JD_UTC.size), np.degrees(np.arcsin(RNG.uniform(-1, 1, JD_UTC.size)))
-    terms = fast_path.SKY_TABLE.nearest(JD_UTC, fast_path.SKY_STAR_OF_DATE)
+    terms = fast_engine.SKY_TABLE.nearest(JD_UTC, fast_engine.SKY_STAR_OF_DATE)
     v0 = np.column_stack([np.cos(np.radians(dec0)) * np.cos(np.radians(ra0)),
                           np.cos(np.radians(dec0)) * np.sin(np.radians(ra0)), np.sin(np.radians(dec0))])
     v = np.einsum("nrc,nc->nr", terms[:, :9].reshape(-1, 3, 3), v0)
     beta = terms[:, 9:12]
     v = v + beta - np.sum(v * beta, axis=1)[:, None] * v
-    jd_tt = almanac.jd_tt_from_utc(JD_UTC)
-    direct_ra, direct_dec = almanac.precess_to_date(ra0, dec0, jd_tt)
+    jd_tt = timescales.jd_tt_from_utc(JD_UTC)
+    direct_ra, direct_dec = places_of_date.precess_to_date(ra0, dec0, jd_tt)
     direct = SkyCoord(ra=direct_ra * u.deg, dec=direct_dec * u.deg).cartesian.xyz.value.T
     tete = SkyCoord(ra=ra0 * u.deg, dec=dec0 * u.deg).transform_to(TETE(obstime=Time(jd_tt, format="jd", scale="tt")))
     worst_direct, worst_astropy = np.max(_angle_arcsec(v, direct)), np.max(_angle_arcsec(v, tete.cartesian.xyz.value.T))
@@ -289,13 +292,13 @@ def test_tabulated_sun_and_equation_of_equinoxes_match_direct_evaluation():
     # Sun: linear over 3 h, normalised; only the change of its angular rate (eccentricity,
     # ~2"/day^2) remains: (0.125 d)^2 / 8 * 2"/d^2 < 0.01". Equation of the equinoxes: it moves
     # with the nutation in longitude, < 0.2"/day, so half a step costs < 0.0125".
-    jd_tt = almanac.jd_tt_from_utc(JD_UTC)
-    sun = fast_path.SKY_TABLE.at(JD_UTC, fast_path.SKY_SUN)
-    ra, dec = almanac.sun_radec_deg(jd_tt)
+    jd_tt = timescales.jd_tt_from_utc(JD_UTC)
+    sun = fast_engine.SKY_TABLE.at(JD_UTC, fast_engine.SKY_SUN)
+    ra, dec = places_of_date.sun_radec_deg(jd_tt)
     direct = SkyCoord(ra=ra * u.deg, dec=dec * u.deg).cartesian.xyz.value.T
     assert np.max(_angle_arcsec(sun, direct)) < 0.05
-    equation = fast_path.SKY_TABLE.nearest(JD_UTC, fast_path.SKY_EQUATION_OF_EQUINOXES)[:, 0]
-    assert np.max(np.abs(equation - almanac.equation_of_equinoxes_deg(jd_tt))) * 3600.0 < 0.0125
+    equation = fast_engine.SKY_TABLE.nearest(JD_UTC, fast_engine.SKY_EQUATION_OF_EQUINOXES)[:, 0]
+    assert np.max(np.abs(equation - local_sky.equation_of_equinoxes_deg(jd_tt))) * 3600.0 < 0.0125
 
 
 def test_tabulated_moon_matches_direct_evaluation_and_astropy():
@@ -303,10 +306,10 @@ def test_tabulated_moon_matches_direct_evaluation_and_astropy():
     # evection), so the direction errs by < (1/24 d)^2 / 8 * 0.6 deg/d^2 = 0.5". The chord
     # shortens the vector by theta^2 / 8 of its length, theta < 16 deg/day * 1 h = 0.0116 rad:
     # < 7 km at 406,000 km.
-    # Outside reference: astropy get_body('moon') (geocentric) in TETE, within almanac's 0.02 deg.
-    jd_tt = almanac.jd_tt_from_utc(JD_UTC)
-    moon = fast_path.MOON_TABLE.at(JD_UTC)
-    direct = np.column_stack(almanac.moon_geocentric_km(jd_tt))
+    # Outside reference: astropy get_body('moon') (geocentric) in TETE, within places_of_date's 0.02 deg.
+    jd_tt = timescales.jd_tt_from_utc(JD_UTC)
+    moon = fast_engine.MOON_TABLE.at(JD_UTC, fast_engine.MOON_XYZ)
+    direct = np.column_stack(places_of_date.moon_geocentric_km(jd_tt))
     assert np.max(_angle_arcsec(moon, direct)) < 1.0
     assert np.max(np.abs(np.linalg.norm(moon, axis=1) - np.linalg.norm(direct, axis=1))) < 7.0
     times = Time(JD_UTC, format="jd", scale="utc")
@@ -316,13 +319,22 @@ def test_tabulated_moon_matches_direct_evaluation_and_astropy():
     assert np.max(_angle_arcsec(moon, astropy_xyz)) / 3600.0 < 0.02
 
 
+def test_tabulated_moon_illumination_matches_direct_evaluation():
+    # Linear over 1 h: k = (1 + cos i) / 2 with the phase angle i turning at < 15.5 deg/day
+    # (0.27 rad/day), so |k''| < 0.27^2 / 2 per day^2 and the error < (1/24 d)^2 / 8 * 0.037 < 1e-5.
+    # (The direct evaluation is checked against PyEphem in test_places_and_local_sky.)
+    jd_tt = timescales.jd_tt_from_utc(JD_UTC)
+    tabulated = fast_engine.MOON_TABLE.at(JD_UTC, fast_engine.MOON_ILLUMINATION)[:, 0]
+    assert np.max(np.abs(tabulated - places_of_date.moon_illuminated_fraction(jd_tt))) < 1e-5
+
+
 def test_tabulated_earth_matches_astropy_builtin_ephemeris():
     # Linear over 1 day: |r''| = r w^2 is largest at perihelion (0.983 au, 1.019 deg/day):
     # 3.1e-4 au/d^2, so the error is < 3.9e-5 au (20 ms of light time); the Earth's monthly
     # swing about the Earth-Moon barycentre adds < 3e-7 au. Outside reference: astropy
     # get_body_barycentric('earth') with the builtin ephemeris.
     jd_tdb = JD_UTC + 69.184 / 86400.0
-    earth = fast_path.EARTH_TABLE.at(jd_tdb)
+    earth = timescales.EARTH_TABLE.at(jd_tdb)
     with solar_system_ephemeris.set("builtin"):
         reference = get_body_barycentric("earth", Time(jd_tdb, format="jd", scale="tdb"))
     assert isinstance(reference, CartesianRepresentation)
@@ -333,7 +345,7 @@ def test_tabulated_earth_matches_astropy_builtin_ephemeris():
 
 
 def test_topocentric_moon_moves_slower_than_the_bound_used_to_skip_sampling():
-    # fast_path settles a window's Moon limit from mid-transit alone when the separation cannot
+    # The fast engine settles a window's Moon limit from mid-transit alone when the separation cannot
     # reach the limit at MOON_SEPARATION_RATE_DEG_PER_D; the separation from any fixed star
     # changes no faster than the Moon moves (triangle inequality). Outside reference: astropy
     # topocentric get_body every 10 min over 35 days (a perigee included) at an equatorial
@@ -343,8 +355,8 @@ def test_topocentric_moon_moves_slower_than_the_bound_used_to_skip_sampling():
         moon = get_body("moon", times, earth_location(0.0, -70.0, 0.0))
     xyz = moon.cartesian.xyz.value.T  # each sample in its own topocentric GCRS frame: same axes
     fastest = float(np.max(_angle_arcsec(xyz[1:], xyz[:-1]) / 3600.0 / (10 * MINUTE_D)))
-    print(f"topocentric Moon: fastest {fastest:.2f} deg/day; bound {fast_path.MOON_SEPARATION_RATE_DEG_PER_D}")
-    assert 18.0 < fastest < fast_path.MOON_SEPARATION_RATE_DEG_PER_D
+    print(f"topocentric Moon: fastest {fastest:.2f} deg/day; bound {fast_engine.MOON_SEPARATION_RATE_DEG_PER_D}")
+    assert 18.0 < fastest < fast_engine.MOON_SEPARATION_RATE_DEG_PER_D
 
 
 def test_reused_pointing_never_serves_other_windows(paired):
@@ -354,11 +366,11 @@ def test_reused_pointing_never_serves_other_windows(paired):
     table, _ = paired
     site = SITES["mittelberg"]
     rows = table[table["site"] == "mittelberg"].reset_index(drop=True)
-    fast_path.conditions_at_mid(rows, site)
+    fast_engine.conditions_at_mid(rows, site)
     moved = rows.copy()
     moved.loc[0, "mid_jd_utc"] += 0.1
-    got = fast_path.conditions_at_mid(moved, site)
-    fast_path.conditions_at_mid(rows.iloc[:1], SITES["austral_ridge"])
-    expected = fast_path.conditions_at_mid(moved.copy(), site)
+    got = fast_engine.conditions_at_mid(moved, site)
+    fast_engine.conditions_at_mid(rows.iloc[:1], SITES["austral_ridge"])
+    expected = fast_engine.conditions_at_mid(moved.copy(), site)
     pd.testing.assert_frame_equal(got, expected, check_exact=True)
-    assert got["alt_mid_deg"].iat[0] != fast_path.conditions_at_mid(rows, site)["alt_mid_deg"].iat[0]
+    assert got["alt_mid_deg"].iat[0] != fast_engine.conditions_at_mid(rows, site)["alt_mid_deg"].iat[0]

@@ -1,31 +1,25 @@
-"""The campaign flow: windows once over the horizon, a schedule, weather trials, a forecast."""
+"""The campaign runner: windows once over the horizon, a schedule, weather trials, a forecast."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from concurrent.futures import Executor
+from pathlib import Path
 from typing import Callable
 
 import numpy as np
 import pandas as pd
 
-from vigil import bodies, campaign, forecast, upkeep
-from vigil.campaign_spec import CampaignSpec
-from vigil.catalog import Site
+from vigil import bodies, forecast
+from vigil.campaign import schedule, weather
+from vigil.campaign.result import CampaignResult
+from vigil.campaign.spec import CampaignSpec
+from vigil.ephemeris import upkeep
+from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.journal import open_journal
 from vigil.sweep import plan_windows_chunked
 
 TRIAL_CHUNK = 50
-
-
-@dataclass
-class CampaignResult:
-    """Outputs of one campaign simulation."""
-
-    summary: pd.DataFrame
-    yearly: pd.DataFrame
-    ledger: pd.DataFrame
-    years_to_goal: dict  # target -> per-trial years (inf if never)
 
 
 def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
@@ -40,14 +34,16 @@ def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
     return found, priority
 
 
-def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str, jobs: int = 1) -> pd.DataFrame:
+def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str, jobs: int = 1,
+                executor: Executor | None = None, chunk_dir: Path | None = None) -> pd.DataFrame:
     """Counted windows over the horizon, each stretch between planned refreshes with its own sigma."""
-    pieces = [plan_windows_chunked(part, sites, constraints, lo, hi, jobs=jobs, engine=engine)
+    pieces = [plan_windows_chunked(part, sites, constraints, lo, hi, jobs=jobs, engine=engine, executor=executor,
+                                   chunk_dir=chunk_dir)
               for lo, hi, part in upkeep.segments(targets, spec.start, spec.end, spec.refresh_every_years,
                                                    spec.refresh_timing_err_d)]
     windows = pd.concat([p for p in pieces if len(p)] or pieces[:1], ignore_index=True)
     windows = windows.drop_duplicates(["target", "site", "epoch"])  # a transit on a segment edge
-    return campaign.visits_from_windows(windows, spec, sites)
+    return schedule.visits_from_windows(windows, sites, spec.coverage, spec.min_fraction, spec.overhead_h)
 
 
 def _from_journal(spec: CampaignSpec, targets: pd.DataFrame) -> tuple[pd.DataFrame, dict]:
@@ -67,24 +63,29 @@ def _trials(scheduled: pd.DataFrame, spec: CampaignSpec, on_progress: Callable[[
     chunks = []
     for first in range(0, spec.trials, TRIAL_CHUNK):
         count = min(TRIAL_CHUNK, spec.trials - first)
-        chunks.append(campaign.clear_weather(scheduled, spec, count, rng))
+        chunks.append(weather.clear_weather(scheduled, spec.clear_fraction, count, rng))
         if on_progress:
             on_progress(count)
     return np.concatenate(chunks, axis=0)
 
 
 def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Site], engine: str = "fast",
-                 on_progress: Callable[[int], None] | None = None, jobs: int = 1) -> CampaignResult:
-    """Simulate the campaign: summary per target, yearly forecast, ledger of trial 0."""
+                 on_progress: Callable[[int], None] | None = None, jobs: int = 1, executor: Executor | None = None,
+                 chunk_dir: Path | None = None) -> CampaignResult:
+    """Simulate the campaign: summary per target, yearly forecast, ledger of trial 0.
+
+    jobs, executor and chunk_dir say where the windows step runs (vigil.sweep.iter_windows).
+    """
     missing = [s for s in spec.site_names if s not in sites]
     if missing:
         raise InputError(f"{spec.sites_file}: campaign site {missing[0]!r} not found; sites are {', '.join(sites)}")
     sites = {n: sites[n] for n in spec.site_names}
     found, priority = _bodies(targets, spec)
     targets, stacked = _from_journal(spec, targets)
-    candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs)
+    candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs, executor, chunk_dir)
     gain = {name: forecast.snr2_per_hour(body, spec) for name, body in found.items()}
-    scheduled = campaign.schedule(candidates, gain, priority, spec)
+    scheduled = schedule.schedule(candidates, gain, priority, spec.per_target_per_semester,
+                                  spec.per_site_per_semester)
     clear = _trials(scheduled, spec, on_progress)
     rows, yearly, years = [], [], {}
     for name, body in found.items():

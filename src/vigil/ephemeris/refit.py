@@ -29,6 +29,7 @@ import pandas as pd
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
+from vigil.ephemeris.fitting import validated
 from vigil.errors import InputError
 
 OUTLIER_SIGMA = 5.0
@@ -95,17 +96,7 @@ def fit_linear_ephemeris(epochs, times_bjd_tdb, errors_d, target: str = "timings
 
 
 def _validated_arrays(epochs, times_bjd_tdb, errors_d, target):
-    n = np.asarray(epochs, dtype=float).ravel()
-    t = np.asarray(times_bjd_tdb, dtype=float).ravel()
-    sigma = np.asarray(errors_d, dtype=float).ravel()
-    if not n.size == t.size == sigma.size:
-        raise InputError(f"target {target!r}: epochs, times and errors must have the same length")
-    if not (np.all(np.isfinite(n)) and np.all(np.isfinite(t)) and np.all(np.isfinite(sigma))):
-        raise InputError(f"target {target!r}: epochs, mid_bjd_tdb and mid_err_d must not contain NaN or infinity")
-    if np.any(sigma <= 0):
-        raise InputError(f"target {target!r}: mid_err_d must be positive (days)")
-    if np.any(n != np.round(n)):
-        raise InputError(f"target {target!r}: epochs must be whole numbers")
+    n, t, sigma = validated(epochs, times_bjd_tdb, errors_d, target)
     if np.unique(n).size < 2:
         raise InputError(f"target {target!r}: need timings at two or more distinct epochs to fit a period")
     return n, t, sigma

@@ -1,0 +1,40 @@
+"""The interface every visibility engine implements.
+
+An engine is a module with the two functions of `Engine`: the mid-time of each transit as
+seen at a site, and, for padded windows, the observable intervals inside each window with the
+conditions at mid-transit. `vigil.engines.engine_for` picks one for a site.
+"""
+
+from __future__ import annotations
+
+from typing import Callable, Protocol
+
+import numpy as np
+import pandas as pd
+
+from vigil.constraints import Constraints
+from vigil.sites import Site
+
+# A flat interval set: (row, start, end) arrays, JD UTC (see vigil.intervals).
+Intervals = tuple[np.ndarray, np.ndarray, np.ndarray]
+
+
+class Engine(Protocol):
+    """What the windows stage asks of a visibility engine (modules implement it)."""
+
+    def site_mid_jd_utc(self, transits: pd.DataFrame, site: Site) -> np.ndarray:
+        """JD UTC at which each transit's mid-time (column mid_bjd_tdb, BJD_TDB) is seen at the site."""
+
+    def evaluate(self, windows: pd.DataFrame, site: Site, constraints: Constraints,
+                 timed: np.ndarray) -> tuple[Intervals, pd.DataFrame]:
+        """Observable intervals inside the windows of the rows numbered by `timed` (row numbers
+        of `windows`), and the conditions at mid-transit of every row (columns alt_mid_deg,
+        airmass_mid, sun_alt_mid_deg, moon_sep_deg, moon_illumination, indexed like `windows`)."""
+
+
+def evaluate_in_two_steps(observable_intervals: Callable, conditions_at_mid: Callable, windows: pd.DataFrame,
+                          site: Site, constraints: Constraints, timed: np.ndarray) -> tuple[Intervals, pd.DataFrame]:
+    """`Engine.evaluate` for an engine whose observable intervals and conditions at mid share
+    no work: each is computed by its own function."""
+    row, start, end = observable_intervals(windows[timed].reset_index(drop=True), site, constraints)
+    return (np.flatnonzero(timed)[row], start, end), conditions_at_mid(windows, site)

@@ -1,0 +1,224 @@
+"""Ephemeris models behind one interface: which transits fall in a span, when, and how sure.
+
+Every stage asks a target's ephemeris the same three things (`Ephemeris`): the epochs whose
+predicted mid-time lies in a span, the predicted mid-times (BJD_TDB, days) and their 1-sigma
+(days). Epoch numbers always count from the catalogue's T0: a model may be referenced to another
+epoch internally (`t0_epoch`), but the numbers it takes and gives are the catalogue's.
+
+- Polynomial (linear or quadratic in epoch), k = n - t0_epoch:
+      T(n) = T0 + k P + k^2 dP/dN / 2,
+      sigma_T(n)^2 = b^T C b,  b = (1, k, k^2 / 2),  C the covariance of (T0, P, dP/dN)
+  (first-order error propagation, exact for a model linear in its parameters). P is the
+  period at t0_epoch; dP/dN (days per epoch) < 0 for a shrinking orbit. Linear: dP/dN = 0 with
+  no uncertainty, so sigma_T(n)^2 = sigma_T0^2 + k^2 sigma_P^2 + 2 k cov(T0, P).
+- Table: predicted mid-times and 1-sigma per epoch from the observer's own dynamical fit of a
+  system with timing variations (`vigil.ephemeris.table`), used inside its span only.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Protocol
+
+import numpy as np
+import pandas as pd
+
+from vigil.errors import InputError
+
+#: Optional targets columns of the quadratic term (days per epoch, and covariances).
+QUADRATIC_COLUMNS = {"dp_dn_d": (-1.0, 1.0), "dp_dn_err_d": (0.0, 1.0), "t0_dp_dn_cov_d2": (-1.0, 1.0),
+                     "period_dp_dn_cov_d2": (-1.0, 1.0)}
+#: Optional targets column: the epoch number (catalogue count) of t0_bjd_tdb; 0 when absent.
+EPOCH_ORIGIN_COLUMN = "t0_epoch"
+
+
+class Ephemeris(Protocol):
+    """What every stage asks of a target's ephemeris (epochs counted from the catalogue's T0)."""
+
+    kind: str
+
+    def epoch_range(self, start_bjd_tdb: float, end_bjd_tdb: float) -> tuple[int, int]:
+        """(first, last) epoch with start <= T(n) <= end; last < first when there is none."""
+
+    def mid_bjd_tdb(self, epochs) -> np.ndarray:
+        """Predicted mid-times, BJD_TDB (days)."""
+
+    def mid_sigma_d(self, epochs) -> np.ndarray:
+        """1-sigma uncertainty of those mid-times, days."""
+
+
+def polynomial_sigma_d(k, t0_var_d2, t0_period_cov_d2, period_var_d2, t0_dp_dn_cov_d2=0.0,
+                       period_dp_dn_cov_d2=0.0, dp_dn_var_d2=0.0):
+    """sigma_T (days) of T = T0 + k P + k^2 Q / 2 at k epochs from T0, from the covariance of (T0, P, Q).
+
+    Expands b^T C b with b = (1, k, k^2/2); numpy-broadcast.
+
+    Examples
+    --------
+    >>> float(polynomial_sigma_d(10, 1e-6, 0.0, 1e-8))
+    0.001414213562373095
+    """
+    k = np.asarray(k, dtype=float)
+    half_k2 = 0.5 * k * k
+    variance = (t0_var_d2 + 2 * k * np.asarray(t0_period_cov_d2) + k * k * np.asarray(period_var_d2)
+                + 2 * half_k2 * np.asarray(t0_dp_dn_cov_d2) + 2 * k * half_k2 * np.asarray(period_dp_dn_cov_d2)
+                + half_k2 * half_k2 * np.asarray(dp_dn_var_d2))
+    return np.sqrt(np.maximum(variance, 0.0))
+
+
+def mid_sigma_d(epoch, t0_err_d, period_err_d, cov_d2=0.0):
+    """1-sigma of the mid-time of transit `epoch` of a linear ephemeris, days (numpy-broadcast).
+
+    Examples
+    --------
+    >>> float(mid_sigma_d(100, 3e-4, 4e-6))
+    0.0005
+    """
+    return polynomial_sigma_d(epoch, np.square(t0_err_d), cov_d2, np.square(period_err_d))
+
+
+@dataclass(frozen=True, eq=False)
+class PolynomialEphemeris:
+    """T(n) = T0 + k P + k^2 dp_dn / 2 with k = n - t0_epoch (module docstring); times BJD_TDB, days.
+
+    covariance_d2 is the 3 x 3 covariance of (T0, P, dP/dN). Fields may be numpy arrays of one
+    length (one target each), as `stacked` builds them for vectorised prediction.
+
+    Examples
+    --------
+    >>> model = linear_ephemeris(2460000.0, 1e-4, 2.5, 1e-6)
+    >>> float(model.mid_bjd_tdb(4)[()])
+    2460010.0
+    """
+
+    t0_bjd_tdb: float
+    period_d: float
+    dp_dn_d: float
+    covariance_d2: np.ndarray
+    t0_epoch: int = 0
+
+    @property
+    def kind(self) -> str:
+        """'quadratic' when dP/dN or its uncertainty is non-zero, else 'linear'."""
+        quadratic = np.any(np.asarray(self.dp_dn_d) != 0) or np.any(np.asarray(self.covariance_d2)[..., 2, 2] > 0)
+        return "quadratic" if quadratic else "linear"
+
+    def mid_bjd_tdb(self, epochs) -> np.ndarray:
+        k = np.asarray(epochs, dtype=float) - self.t0_epoch
+        return self.t0_bjd_tdb + k * self.period_d + 0.5 * k * k * self.dp_dn_d
+
+    def mid_sigma_d(self, epochs) -> np.ndarray:
+        c = np.asarray(self.covariance_d2, dtype=float)
+        k = np.asarray(epochs, dtype=float) - self.t0_epoch
+        return polynomial_sigma_d(k, c[..., 0, 0], c[..., 0, 1], c[..., 1, 1], c[..., 0, 2], c[..., 1, 2],
+                                  c[..., 2, 2])
+
+    def epoch_range(self, start_bjd_tdb: float, end_bjd_tdb: float) -> tuple[int, int]:
+        first = int(np.ceil(self.epoch_at(start_bjd_tdb)))
+        last = int(np.floor(self.epoch_at(end_bjd_tdb)))
+        # The rounded root can land one epoch off an end that falls exactly on a mid-time;
+        # settle each end with the same expression that gives the mid-times.
+        while self.mid_bjd_tdb(first - 1) >= start_bjd_tdb:
+            first -= 1
+        while self.mid_bjd_tdb(first) < start_bjd_tdb:
+            first += 1
+        while self.mid_bjd_tdb(last + 1) <= end_bjd_tdb:
+            last += 1
+        while self.mid_bjd_tdb(last) > end_bjd_tdb:
+            last -= 1
+        return first, last
+
+    def epoch_at(self, bjd_tdb: float) -> float:
+        """The (fractional) epoch whose predicted mid-time is bjd_tdb: root of Q k^2/2 + P k + c = 0
+        in the cancellation-free form k = -2c / (P + sqrt(P^2 - 2 Q c))."""
+        c = float(self.t0_bjd_tdb) - bjd_tdb
+        discriminant = float(self.period_d) ** 2 - 2.0 * float(self.dp_dn_d) * c
+        if discriminant < 0:
+            raise InputError(f"ephemeris: the quadratic term reaches zero period before BJD_TDB {bjd_tdb:.1f}; "
+                             "check the sign and units of dp_dn_d (days per epoch)")
+        return self.t0_epoch - 2.0 * c / (float(self.period_d) + np.sqrt(discriminant))
+
+    def take(self, index) -> "PolynomialEphemeris":
+        """The ephemerides at `index` of a stacked one (arrays indexed, scalars kept)."""
+        pick = lambda v: np.asarray(v)[index]  # noqa: E731
+        return PolynomialEphemeris(pick(self.t0_bjd_tdb), pick(self.period_d), pick(self.dp_dn_d),
+                                   pick(self.covariance_d2), pick(self.t0_epoch))
+
+
+def linear_ephemeris(t0_bjd_tdb: float, t0_err_d: float, period_d: float, period_err_d: float,
+                     t0_period_cov_d2: float = 0.0, t0_epoch: int = 0) -> PolynomialEphemeris:
+    """A linear ephemeris T(n) = T0 + (n - t0_epoch) P with its (T0, P) covariance.
+
+    Examples
+    --------
+    >>> linear_ephemeris(2460000.0, 1e-4, 2.5, 1e-6).kind
+    'linear'
+    """
+    covariance = np.zeros((3, 3))
+    covariance[:2, :2] = [[t0_err_d**2, t0_period_cov_d2], [t0_period_cov_d2, period_err_d**2]]
+    return PolynomialEphemeris(t0_bjd_tdb, period_d, 0.0, covariance, t0_epoch)
+
+
+def stacked(models: list[PolynomialEphemeris]) -> PolynomialEphemeris:
+    """One PolynomialEphemeris whose fields are arrays over `models` (for vectorised prediction)."""
+    return PolynomialEphemeris(
+        np.array([m.t0_bjd_tdb for m in models], dtype=float), np.array([m.period_d for m in models], dtype=float),
+        np.array([m.dp_dn_d for m in models], dtype=float),
+        np.array([m.covariance_d2 for m in models], dtype=float).reshape(-1, 3, 3),
+        np.array([m.t0_epoch for m in models], dtype=np.int64))
+
+
+def numeric_column(targets: pd.DataFrame, column: str, low: float, high: float) -> np.ndarray:
+    """An optional numeric targets column (NaN where empty); InputError naming target and field for
+    text or values outside [low, high]."""
+    if column not in targets.columns:
+        return np.full(len(targets), np.nan)
+    text = targets[column].astype(str).str.strip().replace({"": "nan", "None": "nan"})
+    values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
+    bad = (np.isnan(values) & (text.str.lower() != "nan").to_numpy()) | (values < low) | (values > high)
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise InputError(f"target {targets['name'].iat[i]!r}, field {column}: expected a number from {low:g} to "
+                         f"{high:g}, got {targets[column].iat[i]!r}")
+    return values
+
+
+def target_ephemerides(targets: pd.DataFrame) -> list[PolynomialEphemeris]:
+    """The polynomial ephemeris of each targets row (linear unless dp_dn_d or dp_dn_err_d is given).
+
+    Reads t0_bjd_tdb, t0_err_d, period_d, period_err_d, optional t0_period_cov_d2, the optional
+    QUADRATIC_COLUMNS and t0_epoch. InputError names the target and field when the covariance of
+    (T0, P, dP/dN) is not positive semi-definite or t0_epoch is not a whole number.
+    """
+    quad = {c: np.nan_to_num(numeric_column(targets, c, *bounds)) for c, bounds in QUADRATIC_COLUMNS.items()}
+    origin = numeric_column(targets, EPOCH_ORIGIN_COLUMN, -1e9, 1e9)
+    names = targets["name"].astype(str).to_numpy()
+    if np.any(np.isfinite(origin) & (origin != np.round(origin))):
+        i = int(np.flatnonzero(np.isfinite(origin) & (origin != np.round(origin)))[0])
+        raise InputError(f"target {names[i]!r}, field {EPOCH_ORIGIN_COLUMN}: expected a whole epoch number")
+    cov_tp = targets["t0_period_cov_d2"] if "t0_period_cov_d2" in targets.columns else pd.Series(0.0, index=targets.index)
+    models = []
+    for i, row in enumerate(targets.itertuples(index=False)):
+        t0_tp = 0.0 if pd.isna(cov_tp.iat[i]) else float(cov_tp.iat[i])
+        c = np.array([[row.t0_err_d**2, t0_tp, quad["t0_dp_dn_cov_d2"][i]],
+                      [t0_tp, row.period_err_d**2, quad["period_dp_dn_cov_d2"][i]],
+                      [quad["t0_dp_dn_cov_d2"][i], quad["period_dp_dn_cov_d2"][i], quad["dp_dn_err_d"][i] ** 2]])
+        scale = np.sqrt(np.maximum(np.diag(c), 1e-300))
+        if np.linalg.eigvalsh(c / np.outer(scale, scale)).min() < -1e-9:
+            raise InputError(f"target {names[i]!r}, fields t0_period_cov_d2, t0_dp_dn_cov_d2, period_dp_dn_cov_d2: "
+                             "the covariance of (T0, P, dP/dN) must be positive semi-definite (|correlations| <= 1)")
+        models.append(PolynomialEphemeris(float(row.t0_bjd_tdb), float(row.period_d), float(quad["dp_dn_d"][i]), c,
+                                          int(np.nan_to_num(origin[i]))))
+    return models
+
+
+def epochs_between(model: Ephemeris, start_bjd_tdb: float, end_bjd_tdb: float) -> np.ndarray:
+    """All epochs n with start <= T(n) <= end (both inclusive), as an int64 array.
+
+    Examples
+    --------
+    >>> epochs_between(linear_ephemeris(2460000.0, 0.0, 2.0, 0.0), 2460001.0, 2460006.0).tolist()
+    [1, 2, 3]
+    """
+    first, last = model.epoch_range(start_bjd_tdb, end_bjd_tdb)
+    return np.arange(first, last + 1, dtype=np.int64)
