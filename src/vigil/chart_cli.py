@@ -14,7 +14,7 @@ import typer
 
 from vigil.cli_options import (BASELINE_OPTION, COVERAGE_OPTION, FORCE_OPTION, MIN_ALTITUDE_OPTION,
                                MIN_FRACTION_OPTION, MOON_SEP_OPTION, SIGMA_OPTION, SITE_OPTION, SITES_OPTION,
-                               TWILIGHT_OPTION)
+                               TWILIGHT_OPTION, constraint_overrides)
 from vigil.cli_support import out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.palette import save_png
@@ -63,8 +63,7 @@ def night(
     from vigil.export.night_chart import night_chart
 
     setup_logging()
-    overrides = {"min_altitude_deg": min_altitude, "twilight": twilight, "baseline_h": baseline,
-                 "sigma_k": sigma, "moon_sep_deg": moon_sep}
+    overrides = constraint_overrides(min_altitude, twilight, baseline, sigma, moon_sep)
     with user_errors():
         refuse_overwrite([out_path], force)
         windows, sites = _windows(targets_file, sites_file, site, start, end or start, overrides, include_all,
@@ -102,8 +101,7 @@ def timeline(
     from vigil.export.timeline_chart import timeline_chart
 
     setup_logging()
-    overrides = {"min_altitude_deg": min_altitude, "twilight": twilight, "baseline_h": baseline,
-                 "sigma_k": sigma, "moon_sep_deg": moon_sep}
+    overrides = constraint_overrides(min_altitude, twilight, baseline, sigma, moon_sep)
     with user_errors():
         refuse_overwrite([out_path], force)
         windows, _ = _windows(targets_file, sites_file, site, start, end, overrides, False, coverage, min_fraction)
@@ -130,7 +128,7 @@ def sigma_growth(
     from vigil.export.sigma_chart import sigma_chart
 
     setup_logging()
-    overrides = {"baseline_h": baseline, "sigma_k": sigma}
+    overrides = {k: v for k, v in constraint_overrides(baseline=baseline, sigma=sigma).items() if v is not None}
     with user_errors():
         from vigil.cli import _check_options
 

@@ -13,12 +13,13 @@ import pandas as pd
 import typer
 from astropy.time import Time
 
-from vigil import catalog
+from vigil import catalog, schema
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.run import run_campaign
 from vigil.campaign.spec import read_campaign
 from vigil.cli_options import (BASELINE_OPTION, COVERAGE_OPTION, MIN_ALTITUDE_OPTION, MIN_FRACTION_OPTION,
-                               MOON_SEP_OPTION, SIGMA_OPTION, SITE_OPTION, SITES_OPTION, TWILIGHT_OPTION)
+                               MOON_SEP_OPTION, SIGMA_OPTION, SITE_OPTION, SITES_OPTION, TWILIGHT_OPTION,
+                               constraint_overrides)
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
@@ -153,7 +154,8 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
                                      {n: s.timezone for n, s in sites.items()} if local_time else None)
         else:
             collections.deque(pieces, maxlen=0)
-    windows = pd.concat(kept, ignore_index=True) if kept else pd.DataFrame()
+    windows = (pd.concat(kept, ignore_index=True) if kept
+               else pd.DataFrame(columns=[*schema.TRANSIT_COLUMNS, *schema.WINDOW_COLUMNS]))
     if ics_path is not None:
         write_windows_ics(windows, ics_path, {n: s.timezone for n, s in sites.items()})
     return WindowsRun(add_tallies(tallies), windows, sites, sum(listed))
@@ -196,8 +198,7 @@ def windows(
     also in BJD_TDB. Longitudes in the sites file are east positive.
     """
     setup_logging()
-    overrides = {"min_altitude_deg": min_altitude, "twilight": twilight, "baseline_h": baseline,
-                 "sigma_k": sigma, "moon_sep_deg": moon_sep}
+    overrides = constraint_overrides(min_altitude, twilight, baseline, sigma, moon_sep)
     with user_errors():
         _check_options(overrides)
         refuse_overwrite((csv_path, ics_path, html_path), force)

@@ -23,3 +23,12 @@ SITES_OPTION = typer.Option(..., "--sites", metavar="SITES.toml", help="Sites TO
 SITE_OPTION = typer.Option(None, "--site", metavar="NAME",
                            help="Site name to use (repeatable); default every site in the file.")
 FORCE_OPTION = typer.Option(False, "--force", help="Replace existing output files (otherwise vigil refuses).")
+
+
+def constraint_overrides(min_altitude=None, twilight=None, baseline=None, sigma=None, moon_sep=None) -> dict:
+    """The constraint options as `resolve_constraints` overrides (None: not given on the command line).
+
+    Example: ``constraint_overrides(sigma=2.0)["sigma_k"] == 2.0``.
+    """
+    return {"min_altitude_deg": min_altitude, "twilight": twilight, "baseline_h": baseline, "sigma_k": sigma,
+            "moon_sep_deg": moon_sep}
