@@ -33,9 +33,7 @@ TARGET_ERRORS = {
     "blank_lines_only.csv": ("empty", "header line"),
     "header_only.csv": ("header only", "one row per target"),
     "nan_period.csv": ("line 3", "field period_d", "positive period in days", "'NaN'"),
-    "empty_duration.csv": ("line 2", "field duration_h", "duration in hours", "empty cell"),
     "infinite_duration.csv": ("line 3", "field duration_h", "duration in hours", "'inf'"),
-    "empty_name.csv": ("line 3", "field name", "target name", "empty cell"),
     "text_in_dec.csv": ("line 2", "field dec_deg", "declination in degrees", "'minus thirty'"),
     "text_in_radius.csv": ("line 3", "field planet_radius_earth", "a number", "'large'"),
     "negative_period.csv": ("line 2", "field period_d", "period of at least", "-2.84631"),
@@ -64,6 +62,20 @@ TARGET_ERRORS = {
     "nul_byte.csv": ("line 2", "control character U+0000", "plain text"),
     "unclosed_quote.csv": ("line 3", "quotes"),
     "very_long_line.csv": ("line 3", "characters long", "at most 10000"),
+    "no_complete_row.csv": ("no row has every required value", "line 2 (t0_err_d)"),
+    "ra_bare_number.csv": ("line 2", "field ra", "bare number", "hours or degrees", "ra_deg"),
+    "wrong_unit.ecsv": ("column 'period_d'", "unit 'm'", "cannot be read as d"),
+    "unknown_unit.ecsv": ("column 'period_d'", "'fortnights_x'", "not a unit vigil knows"),
+    "broken.xml": ("not a readable VOTable table", "--format"),
+}
+# Rows lacking a required value are left out with a warning; --strict refuses them instead.
+STRICT_TARGET_ERRORS = {
+    "empty_duration.csv": ("line 2", "field duration_h", "duration in hours", "empty cell"),
+    "empty_name.csv": ("line 3", "field name", "target name", "empty cell"),
+}
+# Column mappings (--columns) with the good targets file: mapping -> words.
+MAPPING_ERRORS = {
+    "mapping_missing_column.toml": ("[columns] period_d", "'orbital_period'", "is not in", "good/targets.csv"),
 }
 SITE_ERRORS = {
     "latitude_out_of_range.toml": ("[sites.alto_verde] latitude_deg", "from -90 to 90 degrees", "-95.0"),
@@ -173,6 +185,13 @@ def _error_cases():
     for name, (companion, words) in CAMPAIGN_COMPANION_ERRORS.items():
         path = CORPUS / "campaign" / name
         yield pytest.param("campaign", path, path.parent / companion, words, WINDOW_DATES, id=f"campaign/{name}")
+    for name, words in STRICT_TARGET_ERRORS.items():
+        path = CORPUS / "targets" / name
+        yield pytest.param("windows", path, path, words, (*WINDOW_DATES, "--strict"), id=f"targets/{name}-strict")
+    for name, words in MAPPING_ERRORS.items():
+        mapping = CORPUS / "targets" / name
+        yield pytest.param("windows", GOOD / "targets.csv", mapping, words, (*WINDOW_DATES, "--columns", mapping),
+                           id=f"targets/{name}")
     for name, (options, words) in OPTION_ERRORS.items():
         yield pytest.param("windows", GOOD / "targets.csv", None, words, options, id=f"options/{name}")
 
@@ -194,7 +213,7 @@ def _assert_one_error_line(result, named: Path | None, words) -> str:
 def test_corpus_is_large_enough():
     cases = [p for p in CORPUS.rglob("*") if p.is_file() and "good" not in p.parts and "companions" not in p.parts]
     assert len(cases) >= 40
-    listed = {f"targets/{n}" for n in TARGET_ERRORS} | {f"sites/{n}" for n in SITE_ERRORS} | \
+    listed = {f"targets/{n}" for n in (*TARGET_ERRORS, *STRICT_TARGET_ERRORS, *MAPPING_ERRORS)} | {f"sites/{n}" for n in SITE_ERRORS} | \
              {f"campaign/{n}" for n in (*CAMPAIGN_ERRORS, *CAMPAIGN_COMPANION_ERRORS)} | \
              {f"timings/{n}" for n in (*TIMING_ERRORS, "single_timing.csv")} | \
              {str(Path(*a)) for a, *_ in ACCEPTED + WARNED}

@@ -16,7 +16,8 @@ import vigil  # noqa: F401  (configures astropy offline before anything else)
 from vigil import journal as journal_module
 from vigil.errors import InputError
 from vigil.journal import COLUMNS, SCHEMA_VERSION, open_journal
-from vigil.ephemeris.refit import fit_linear_ephemeris, refit_targets
+from vigil.ephemeris.fitting import fit_polynomial
+from vigil.ephemeris.refit import refit_targets
 
 # Invented targets, sites and ephemeris.
 TRUE_T0_BJD_TDB = 2461102.34567
@@ -225,7 +226,7 @@ def test_other_entry_checks_give_one_clear_line(tmp_path):
 
 def test_timings_feed_refit_and_recover_a_known_ephemeris(tmp_path):
     # Synthetic timings from a known ephemeris with Gaussian errors (seeded numpy RNG), mixed in
-    # with visits that yield no timing. Reference: vigil.refit.fit_linear_ephemeris on the same
+    # with visits that yield no timing. Reference: vigil.ephemeris.fitting.fit_polynomial on the same
     # arrays (checked against numpy.polyfit in test_refit.py) must give the same fit to rounding
     # (the journal keeps every float exactly), and the truth must lie within 3 sigma.
     rng = np.random.default_rng(42)
@@ -245,14 +246,15 @@ def test_timings_feed_refit_and_recover_a_known_ephemeris(tmp_path):
     catalogue = pd.DataFrame({"name": ["Marrow b"], "ra_deg": [75.0], "dec_deg": [12.0],
                               "t0_bjd_tdb": [TRUE_T0_BJD_TDB + 0.002], "t0_err_d": [3e-3],
                               "period_d": [TRUE_PERIOD_D - 3e-6], "period_err_d": [2e-5], "duration_h": [2.2]})
-    fitted, oc = refit_targets(timings, catalogue)
+    refit = refit_targets(timings, catalogue, use_prior=False)
+    fitted, oc = refit.targets, refit.o_minus_c
     row = fitted.iloc[0]
-    reference = fit_linear_ephemeris(epochs, times, errors)
+    reference = fit_polynomial(epochs, times, errors).ephemeris
     assert row["period_d"] == pytest.approx(reference.period_d, abs=1e-12)
     assert row["t0_bjd_tdb"] == pytest.approx(reference.t0_bjd_tdb, abs=1e-9)
     assert row["period_err_d"] == pytest.approx(reference.period_err_d, rel=1e-9)
     assert abs(row["period_d"] - TRUE_PERIOD_D) < 3 * row["period_err_d"]
-    truth_t0 = TRUE_T0_BJD_TDB + reference.reference_epoch * TRUE_PERIOD_D
+    truth_t0 = TRUE_T0_BJD_TDB + reference.t0_epoch * TRUE_PERIOD_D
     assert abs(row["t0_bjd_tdb"] - truth_t0) < 3 * row["t0_err_d"]
     assert set(oc["note"]) == {f"Cerro Lento epoch {n}; run {n}" for n in epochs}
 

@@ -11,7 +11,7 @@ from authorities import transits
 from vigil.ephemeris.models import linear_ephemeris, mid_sigma_d
 from vigil.ephemeris.projection import project_transits
 from vigil.errors import InputError
-from vigil.ephemeris.refit import fit_linear_ephemeris
+from vigil.ephemeris.fitting import fit_polynomial
 from vigil.ephemeris.staleness import DURATION_FRACTION, first_stale_epoch, refresh_sigma, stale_date, staleness
 
 SCAN = 200_000  # epochs scanned by brute force; the random cases below go stale well inside it
@@ -87,7 +87,7 @@ def test_staleness_table_matches_a_scan_of_projected_transits(make_targets):
 
 
 def test_refresh_equals_refit_with_the_added_timing():
-    # Reference: vigil.refit.fit_linear_ephemeris (weighted least-squares normal equations, itself
+    # Reference: vigil.ephemeris.fitting.fit_polynomial (weighted least-squares normal equations, itself
     # checked against numpy.polyfit in test_refit.py) on the timings plus one more at epoch n_new.
     # Its formal covariance does not depend on the measured value, only on epochs and errors, so
     # the refresh prediction must equal it. Compared through sigma_T at several absolute epochs
@@ -97,17 +97,17 @@ def test_refresh_equals_refit_with_the_added_timing():
         epochs = np.sort(rng.choice(np.arange(-50, 300), size=8, replace=False)).astype(float)
         errors = rng.uniform(0.3, 2.0, epochs.size) / 1440.0
         times = 2461000.5 + 3.7 * epochs + rng.normal(0.0, errors)
-        before = fit_linear_ephemeris(epochs, times, errors)
+        before = fit_polynomial(epochs, times, errors).ephemeris
         new_epoch, new_err = int(rng.integers(300, 900)), rng.uniform(0.2, 1.5) / 1440.0
-        after = fit_linear_ephemeris(np.append(epochs, new_epoch), np.append(times, 2461000.5 + 3.7 * new_epoch),
-                                     np.append(errors, new_err))
+        after = fit_polynomial(np.append(epochs, new_epoch), np.append(times, 2461000.5 + 3.7 * new_epoch),
+                                     np.append(errors, new_err)).ephemeris
         refreshed = refresh_sigma(before.t0_err_d, before.period_err_d, before.t0_period_cov_d2,
-                                  new_epoch - before.reference_epoch, new_err)
+                                  new_epoch - before.t0_epoch, new_err)
         assert refreshed.period_err_d == pytest.approx(after.period_err_d, rel=1e-12)
         for m in (-200, 0, 150, new_epoch, 2000):
-            predicted = mid_sigma_d(m - before.reference_epoch, refreshed.t0_err_d, refreshed.period_err_d,
+            predicted = mid_sigma_d(m - before.t0_epoch, refreshed.t0_err_d, refreshed.period_err_d,
                                     refreshed.t0_period_cov_d2)
-            refit = mid_sigma_d(m - after.reference_epoch, after.t0_err_d, after.period_err_d, after.t0_period_cov_d2)
+            refit = mid_sigma_d(m - after.t0_epoch, after.t0_err_d, after.period_err_d, after.t0_period_cov_d2)
             assert predicted == pytest.approx(refit, rel=1e-12)
 
 

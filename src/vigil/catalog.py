@@ -27,7 +27,8 @@ from vigil.errors import InputError
 from vigil.facility import FACILITY_KEYS, read_facility
 from vigil.sites import (DEFAULT_INTERRUPTION_START_JD_UTC, DEFAULT_SUN_ANGLE_MAX_DEG, DEFAULT_SUN_ANGLE_MIN_DEG,
                          DEFAULT_TEMPERATURE_C, Site, SpaceSettings)
-from vigil.textfile import csv_number, line_of, load_toml, number_in_range, read_csv, spelling_hint
+from vigil.target_source import CatalogueOptions, drop_incomplete, target_cells
+from vigil.textfile import csv_number, line_of, load_toml, number_in_range, read_csv, row_label, spelling_hint
 from vigil.timescales import MAX_PLAUSIBLE_JD, MIN_PLAUSIBLE_JD
 
 log = logging.getLogger("vigil")
@@ -69,12 +70,12 @@ def _require_columns(path: Path, line: int, columns, required, time_column: str)
         return
     other = _other_time_column(columns, time_column) if time_column in missing else None
     if other is not None:
-        raise InputError(f"{path}: line {line}: column {other!r} found, but vigil needs {time_column}: times as "
+        raise InputError(f"{line_of(path, line)}: column {other!r} found, but vigil needs {time_column}: times as "
                          "Barycentric Julian Dates in TDB (BJD_TDB); rename the column if it holds BJD_TDB, else "
                          "convert the times first (HJD, JD or UTC-based times differ from BJD_TDB by up to about "
                          "10 minutes)")
     hint = spelling_hint(missing, [c for c in columns if c not in required])
-    raise InputError(f"{path}: line {line}: missing column(s) {', '.join(missing)}{hint}; found {', '.join(columns)}")
+    raise InputError(f"{line_of(path, line)}: missing column(s) {', '.join(missing)}{hint}; found {', '.join(columns)}")
 
 
 # --- values --------------------------------------------------------------------------------
@@ -97,8 +98,8 @@ def _coordinate_columns(path: Path, line: int, columns) -> tuple[str, str]:
     for pair in (("ra_deg", "dec_deg"), ("ra", "dec")):
         if all(c in columns for c in pair):
             return pair
-    raise InputError(f"{path}: line {line}: missing coordinates; expected columns ra_deg and dec_deg (or ra and dec)"
-                     f"{spelling_hint(('ra_deg', 'dec_deg'), columns)}; found {', '.join(columns)}")
+    raise InputError(f"{line_of(path, line)}: missing coordinates; expected columns ra_deg and dec_deg (or ra and dec)"
+                     f"{spelling_hint(('ra_deg', 'dec_deg'), [c for c in columns if c not in ('ra_deg', 'dec_deg')])}; found {', '.join(columns)}")
 
 
 def _coordinates(path: Path, line: int, row: pd.Series, ra_field: str, dec_field: str) -> tuple[float, float]:
@@ -106,6 +107,7 @@ def _coordinates(path: Path, line: int, row: pd.Series, ra_field: str, dec_field
         ra = csv_number(path, line, ra_field, row[ra_field], "right ascension in degrees")
         dec = csv_number(path, line, dec_field, row[dec_field], "declination in degrees")
     else:
+        _refuse_bare_ra(path, line, row[ra_field])
         ra = _angle_deg(path, line, ra_field, row[ra_field], "hourangle", "hh:mm:ss")
         dec = _angle_deg(path, line, dec_field, row[dec_field], "deg", "±dd:mm:ss")
     if not 0.0 <= ra < 360.0:
@@ -113,6 +115,18 @@ def _coordinates(path: Path, line: int, row: pd.Series, ra_field: str, dec_field
     if not -90.0 <= dec <= 90.0:
         raise InputError(f"{line_of(path, line)}, field {dec_field}: expected -90 <= Dec <= 90 degrees, got {dec:g}")
     return ra, dec
+
+
+def _refuse_bare_ra(path: Path, line, text: str) -> None:
+    """A plain number in `ra` could be hours or degrees: refused, saying how to state it."""
+    try:
+        value = float(text)
+    except ValueError:
+        return
+    hms = Angle(value, unit="hourangle").to_string(sep=":", precision=0, pad=True) if 0 <= value < 24 else None
+    hours = f"{hms} or {text}h if it is hours, " if hms else ""
+    raise InputError(f"{line_of(path, line)}, field ra: {text!r} is a bare number, which could be hours or degrees; "
+                     f"write {hours}{text}d if it is degrees, or give degrees in a column named ra_deg")
 
 
 def _angle_deg(path: Path, line: int, column: str, text: str, unit: str, form: str) -> float:
@@ -193,31 +207,35 @@ def _odd_target_notes(path: Path, line: int, v: dict) -> list[str]:
     return notes
 
 
-def read_targets(path: str | Path) -> pd.DataFrame:
-    """Read a targets CSV into a table with the columns of `schema.TARGET_COLUMNS`.
+def read_targets(path: str | Path, options: CatalogueOptions | None = None) -> pd.DataFrame:
+    """Read a targets catalogue into a table with the columns of `schema.TARGET_COLUMNS`.
 
-    Extra columns are kept as text (numbers where bodies.NUMBER_COLUMNS says so are checked);
-    one `InputError` line reports the first problem.
+    `options` give the format (default by extension: CSV, ECSV, VOTable, IPAC), a column
+    mapping and strictness (target_source.py). Rows lacking a required value are left out with
+    a warning, or refused when strict. Extra columns are kept as text (numbers where
+    bodies.NUMBER_COLUMNS says so are checked); one `InputError` line reports the first problem.
     """
     path = Path(path)
-    header_line, table = read_csv(path, "target")
-    _require_columns(path, header_line, table.columns, REQUIRED_TARGET_FIELDS, "t0_bjd_tdb")
-    coordinates = _coordinate_columns(path, header_line, table.columns)
+    options = options or CatalogueOptions()
+    source = target_cells(path, options)
+    _require_columns(path, source.header, source.cells.columns, REQUIRED_TARGET_FIELDS, "t0_bjd_tdb")
+    coordinates = _coordinate_columns(path, source.header, source.cells.columns)
+    table = drop_incomplete(source, (*REQUIRED_TARGET_FIELDS, *coordinates), options.strict)
     rows = [_target_row(path, line, row, coordinates) for line, row in table.iterrows()]
     parsed = pd.DataFrame(rows)
     duplicated = parsed["name"].duplicated().to_numpy()
     if duplicated.any():
         first = int(np.flatnonzero(duplicated)[0])
         name = parsed["name"][first]
-        earlier = int(table.index[int(np.flatnonzero(parsed["name"] == name)[0])])
-        raise InputError(f"{line_of(path, int(table.index[first]))}, field name: target {name!r} appears twice "
-                         f"(also on line {earlier}); expected unique names")
+        earlier = table.index[int(np.flatnonzero(parsed["name"] == name)[0])]
+        raise InputError(f"{line_of(path, table.index[first])}, field name: target {name!r} appears twice "
+                         f"(also on {row_label(earlier)}); expected unique names")
     for line, values in zip(table.index, rows):  # warnings only once the whole file is valid
-        for note in _odd_target_notes(path, int(line), values):
+        for note in _odd_target_notes(path, line, values):
             log.warning("%s", note)
     extra = [c for c in table.columns if c not in parsed.columns and c not in ("ra", "dec")]
     result = pd.concat([parsed, table[extra].reset_index(drop=True)], axis=1)
-    result.attrs["source_lines"] = dict(zip(parsed["name"], (int(line) for line in table.index)))
+    result.attrs["source_lines"] = dict(zip(parsed["name"], table.index))
     return result
 
 

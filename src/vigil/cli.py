@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import collections
 import sys
+from dataclasses import replace
 from importlib import resources
 from pathlib import Path
 from typing import NamedTuple, Optional
@@ -20,7 +21,7 @@ from vigil.campaign.spec import read_campaign
 from vigil.cli_options import (BASELINE_OPTION, COVERAGE_OPTION, MIN_ALTITUDE_OPTION, MIN_FRACTION_OPTION,
                                MOON_SEP_OPTION, SIGMA_OPTION, SITE_OPTION, SITES_OPTION, TWILIGHT_OPTION,
                                constraint_overrides)
-from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
+from vigil.cli_support import LazyProgress, did_you_mean, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
@@ -30,7 +31,10 @@ from vigil.export.html_report import campaign_sections, html_page, windows_secti
 from vigil.export.terminal_tables import UPCOMING_ROWS, compact_table, windows_table
 from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.chart_cli import chart_app
+from vigil.hosts import host_of, mark_shared
+from vigil.target_source import CatalogueOptions
 from vigil.journal_cli import journal_app
+from vigil.refit_cli import run_refit
 from vigil.constraints import Constraints
 from vigil.cluster import workers_for
 from vigil.sweep import iter_windows
@@ -60,7 +64,8 @@ def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dic
         return sites
     unknown = [n for n in names if n not in sites]
     if unknown:
-        raise InputError(f"{sites_file}: no site named {unknown[0]!r}; sites are {', '.join(sites)}")
+        raise InputError(f"{sites_file}: no site named {unknown[0]!r}{did_you_mean(unknown[0], sites)} "
+                         f"(sites are {', '.join(sites)})")
     return {n: sites[n] for n in names}
 
 
@@ -91,6 +96,14 @@ CHUNK_DIR_HELP = ("With --scheduler: folder where workers leave their results as
                   "other machines must see it too [default: a temporary folder here].")
 EXACT_HELP = ("Use the exact astropy engine (samples every 5 min; about 100x slower) instead of the fast "
               "analytic one (edges within about a minute of it).")
+
+
+FORMAT_OPTION = typer.Option(None, "--format", metavar="FORMAT", help="Targets file format: csv, ecsv, votable or "
+                             "ipac [default by extension: .csv, .ecsv, .xml/.vot, .tbl]; any case.")
+COLUMNS_OPTION = typer.Option(None, "--columns", metavar="MAP.toml", help="Column mapping: which column of your "
+                              "catalogue holds each vigil field, in which unit (see examples/).")
+STRICT_OPTION = typer.Option(False, "--strict", help="Refuse a targets file with a row that lacks a required value "
+                             "(otherwise such rows are left out with a warning).")
 
 
 OPTION_OF = {"min_altitude_deg": "--min-altitude", "twilight": "--twilight", "baseline_h": "--baseline",
@@ -124,12 +137,12 @@ class WindowsRun(NamedTuple):
 def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
                  include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast",
                  event: str = "transit", local_time: bool = False, jobs: int = 1, scheduler: str | None = None,
-                 chunk_dir: Path | None = None, coverage: str | None = None, min_fraction: float | None = None,
-                 keep_all: bool = False) -> WindowsRun:
+                 chunk_dir: Path | None = None, catalogue: CatalogueOptions = CatalogueOptions(),
+                 coverage: str | None = None, min_fraction: float | None = None, keep_all: bool = False) -> WindowsRun:
     """Plan, write the CSV piece by piece and the calendar; return the coverage tally, the sites
     and the windows kept: all of them with a calendar or `keep_all`, else the first UPCOMING_ROWS."""
     chosen = parse_coverage(coverage)
-    targets = catalog.read_targets(targets_file)
+    targets = catalog.read_targets(targets_file, catalogue)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
     start_time, end_time = _parse_date(start, "--start"), _parse_end(end)
     keep_all = keep_all or ics_path is not None
@@ -145,10 +158,11 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
             yield piece
 
     with LazyProgress("windows (chunks)") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
-        pieces = tallied(iter_windows(targets, sites, overrides, start_time, end_time, jobs=workers.count,
-                                      engine=engine, include_unobservable=include_all, event=event,
-                                      on_chunk=lambda _, done, total: progress.advance(done, total),
-                                      executor=workers.executor, chunk_dir=workers.chunk_dir))
+        pieces = tallied(mark_shared(iter_windows(targets, sites, overrides, start_time, end_time, jobs=workers.count,
+                                                  engine=engine, include_unobservable=include_all, event=event,
+                                                  on_chunk=lambda _, done, total: progress.advance(done, total),
+                                                  executor=workers.executor, chunk_dir=workers.chunk_dir),
+                                     host_of(targets)))
         if csv_path is not None:
             write_windows_csv_pieces(pieces, csv_path,
                                      {n: s.timezone for n, s in sites.items()} if local_time else None)
@@ -191,6 +205,9 @@ def windows(
     coverage: Optional[str] = COVERAGE_OPTION,
     min_fraction: Optional[float] = MIN_FRACTION_OPTION,
     html_path: Optional[Path] = typer.Option(None, "--html", metavar="FILE", help=HTML_HELP),
+    fmt: Optional[str] = FORMAT_OPTION,
+    columns: Optional[Path] = COLUMNS_OPTION,
+    strict: bool = STRICT_OPTION,
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -203,7 +220,8 @@ def windows(
         _check_options(overrides)
         refuse_overwrite((csv_path, ics_path, html_path), force)
         run = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
-                           _engine(exact), event, local_time, jobs, scheduler, chunk_dir, coverage, min_fraction,
+                           _engine(exact), event.lower(), local_time, jobs, scheduler, chunk_dir,
+                           CatalogueOptions(fmt, columns, strict), coverage, min_fraction,
                            keep_all=html_path is not None)
         if html_path is not None:
             write_html(html_path, html_page(f"Transit windows {start} to {end}",
@@ -276,12 +294,12 @@ def _verdict(row, spec) -> str:
 
 
 def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1,
-                  scheduler: str | None = None, chunk_dir: Path | None = None):
+                  scheduler: str | None = None, chunk_dir: Path | None = None, strict: bool = False):
     spec = read_campaign(campaign_file)
-    targets = catalog.read_targets(spec.targets_file)
+    targets = catalog.read_targets(spec.targets_file, replace(spec.targets_options, strict=strict))
     if target is not None:
         if target not in set(targets["name"]):
-            raise InputError(f"{spec.targets_file}: no target named {target!r}")
+            raise InputError(f"{spec.targets_file}: no target named {target!r}{did_you_mean(target, targets['name'])}")
         targets = targets[targets["name"] == target].reset_index(drop=True)
     sites = catalog.read_sites(spec.sites_file)
     done = [0]
@@ -312,6 +330,7 @@ def campaign_command(
     scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
     chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
     html_path: Optional[Path] = typer.Option(None, "--html", metavar="FILE", help=HTML_HELP),
+    strict: bool = STRICT_OPTION,
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
@@ -321,7 +340,8 @@ def campaign_command(
     setup_logging()
     with user_errors():
         refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES] + [html_path], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs, scheduler, chunk_dir)
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs, scheduler, chunk_dir,
+                                            strict)
         if html_path is not None:
             write_html(html_path, html_page(f"Campaign {campaign_file.name}", campaign_sections(result, spec)))
             paths.append(html_path)
@@ -338,37 +358,25 @@ def refit(
                                         "mid_err_d (days), optional note."),
     out_path: Path = typer.Option(..., "--out", metavar="FILE", help="Refitted targets CSV (readable by every vigil command)."),
     targets_file: Optional[Path] = typer.Option(None, "--targets", metavar="TARGETS.csv",
-                                                help="Catalog whose coordinates, durations and ephemerides (to number "
-                                                     "the epochs) carry over."),
+                                                help="Catalogue: its ephemerides number the epochs and are the prior "
+                                                     "of the fit; coordinates and durations carry over."),
+    no_prior: bool = typer.Option(False, "--no-prior", help="Fit the timings alone (the catalogue only numbers epochs)."),
+    sigma_k: float = typer.Option(1.0, "--sigma", metavar="K", min=0.1, max=10.0,
+                                  help="Timing padding K for the stale threshold [default 1]."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs (otherwise vigil refuses)."),
+    fmt: Optional[str] = FORMAT_OPTION,
+    columns: Optional[Path] = COLUMNS_OPTION,
+    strict: bool = STRICT_OPTION,
 ):
-    """Refit each target's linear ephemeris from measured transit times (weighted least squares).
+    """Update each target's ephemeris with measured transit times (weighted least squares).
 
-    Also writes the O-C table (FILE stem + _o_minus_c.csv, minutes) and its plot (.png).
-    Timings more than 5 sigma off the fit are flagged and left out of it.
+    The catalogue ephemeris is the prior unless --no-prior; outliers are removed one at a time
+    when more than 5 sigma from the prediction of all the other timings; linear and quadratic
+    models are compared by BIC. Epochs keep the catalogue's numbering. Also writes the O-C table
+    (FILE stem + _o_minus_c.csv, minutes) and its picture (.png).
     """
-    from vigil.ephemeris.refit import plot_o_minus_c, refit_targets
-
-    setup_logging()
-    oc_path = out_path.with_name(out_path.stem + "_o_minus_c.csv")
-    plot_path = oc_path.with_suffix(".png")
-    with user_errors():
-        refuse_overwrite((out_path, oc_path, plot_path), force)
-        timings = catalog.read_timings(timings_file)
-        targets = catalog.read_targets(targets_file) if targets_file is not None else None
-        try:
-            refitted, o_minus_c = refit_targets(timings, targets)
-        except InputError as exc:
-            raise InputError(f"{timings_file}: {exc}") from None
-        write_csv(refitted, out_path, text_columns=("name",))
-        write_csv(o_minus_c, oc_path, text_columns=("target",))
-        plot_o_minus_c(o_minus_c, plot_path)
-    fitted = refitted[refitted["n_timings"] > 0]
-    for row in fitted.itertuples(index=False):
-        out.print(f"{row.name}: P = {row.period_d:.8f} ± {row.period_err_d:.8f} d, T0 = {row.t0_bjd_tdb:.6f} ± "
-                  f"{row.t0_err_d * 1440:.2f} min (BJD_TDB), reduced chi2 {row.reduced_chi2:.2f}, "
-                  f"{row.n_timings} timings, {row.n_outliers} flagged")
-    out.print(f"wrote {out_path}, {oc_path}, {plot_path}")
+    run_refit(timings_file, out_path, targets_file, CatalogueOptions(fmt, columns, strict), not no_prior, sigma_k,
+              force)
 
 
 @app.command("space-seasons")
@@ -381,6 +389,9 @@ def space_seasons(
     csv_path: Optional[Path] = typer.Option(None, "--csv", metavar="FILE", help="Write the date ranges here (CSV, UTC)."),
     plot_path: Optional[Path] = typer.Option(None, "--plot", metavar="FILE", help="Write the chart here (PNG)."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs (otherwise vigil refuses)."),
+    fmt: Optional[str] = FORMAT_OPTION,
+    columns: Optional[Path] = COLUMNS_OPTION,
+    strict: bool = STRICT_OPTION,
 ):
     """Date ranges in each year when a space observatory's Sun-angle band admits each target.
 
@@ -395,7 +406,7 @@ def space_seasons(
     setup_logging()
     with user_errors():
         refuse_overwrite((csv_path, plot_path), force)
-        targets = catalog.read_targets(targets_file)
+        targets = catalog.read_targets(targets_file, CatalogueOptions(fmt, columns, strict))
         site = _select_sites(catalog.read_sites(sites_file), [site_name], sites_file)[site_name]
         if site.kind != "space":
             raise InputError(f"{sites_file}: [sites.{site_name}] is a ground site; space-seasons needs kind = \"space\"")

@@ -33,6 +33,8 @@ class Constraints:
     moon_sep_deg: float = 0.0
 
     def __post_init__(self):
+        if isinstance(self.twilight, str):  # keywords in any case: Astronomical, NAUTICAL
+            object.__setattr__(self, "twilight", self.twilight.strip().lower())
         if self.twilight not in TWILIGHT_SUN_ALT_DEG:
             raise InputError(f"twilight: expected civil, nautical or astronomical, got {self.twilight!r}")
         number_in_range("min_altitude_deg", self.min_altitude_deg, -5.0, 89.0, "degrees")

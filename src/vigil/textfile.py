@@ -2,7 +2,8 @@
 
 Every problem is reported as one `InputError` line naming the file, the line and the field,
 with what was expected. CSV files are UTF-8, with or without a byte-order mark,
-comma-separated, with a point as the decimal mark; blank lines are skipped, and rows shorter
+comma-separated, with a point as the decimal mark; blank lines and lines starting with `#`
+(comments, as catalogue exports begin with) are skipped, and rows shorter
 than the header are padded with empty cells. `number_in_range` is the one check of a number
 against its allowed range that every reader uses.
 """
@@ -24,9 +25,20 @@ from vigil.errors import InputError
 MAX_LINE_CHARS = 10_000
 
 
-def line_of(path: Path, line: int) -> str:
-    """'PATH: line N', the start of a message about one line of a file."""
-    return f"{path}: line {line}"
+def row_label(line: int | str) -> str:
+    """'line N' for a line number; a row label of a table read by astropy ('row 3', 'header') as it is.
+
+    Examples
+    --------
+    >>> row_label(4), row_label("row 2")
+    ('line 4', 'row 2')
+    """
+    return f"line {line}" if str(line).isdigit() else str(line)
+
+
+def line_of(path: Path, line: int | str) -> str:
+    """'PATH: line N' (or 'PATH: row N'), the start of a message about one row of a file."""
+    return f"{path}: {row_label(line)}"
 
 
 def spelling_hint(wanted, found) -> str:
@@ -41,6 +53,7 @@ def spelling_hint(wanted, found) -> str:
 
 
 _LINE_BREAK = re.compile(r"\r\n|\r|\n")
+_COMMENT_LINE = re.compile(r"^[ \t]*#[^\r\n]*", re.MULTILINE)
 _CONTROL_CHARACTER = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
 
 
@@ -70,7 +83,9 @@ def _check_plain_lines(path: Path, text: str, rows_are: str) -> None:
 
 
 def _records(path: Path, text: str) -> list[tuple[int, list[str]]]:
-    """(first line, stripped fields) of every record that is not blank."""
+    """(first line, stripped fields) of every record that is not blank or a comment."""
+    # Comment lines become blank lines, so line numbers stay those of the file.
+    text = _COMMENT_LINE.sub("", text)
     reader = csv.reader(io.StringIO(text, newline=""), strict=True)
     records, line = [], 1
     try:

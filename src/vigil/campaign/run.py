@@ -18,6 +18,7 @@ from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.journal import open_journal
 from vigil.sweep import plan_windows_chunked
+from vigil.textfile import line_of
 
 TRIAL_CHUNK = 50
 
@@ -27,7 +28,7 @@ def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
     lines = targets.attrs.get("source_lines", {})  # file line of each target, kept by read_targets
     for row in targets.to_dict("records"):
         line = lines.get(row["name"])
-        where = f"{spec.targets_file}: line {line}" if line else str(spec.targets_file)
+        where = line_of(spec.targets_file, line) if line else str(spec.targets_file)
         planet, star = bodies.target_bodies(pd.Series(row), where)
         found[row["name"]] = forecast.Body(planet, star)
         priority[row["name"]] = bodies.priority_of(pd.Series(row), where)

@@ -16,6 +16,8 @@ from astropy.time import Time
 from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
 from vigil.textfile import load_toml, spelling_hint
 from vigil.errors import InputError
+from vigil.table_formats import FORMATS
+from vigil.target_source import CatalogueOptions
 from vigil.schema import COVERAGE_CLASSES
 from vigil.spectrum import Instrument
 
@@ -24,7 +26,8 @@ MONTHS = 12
 FIRST_START_YEAR, LAST_START_YEAR = 1950, 2300
 KNOWN = {
     "campaign": {"start", "horizon_years", "targets", "sites_file", "sites", "trials", "seed", "coverage",
-                 "min_fraction", "min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg", "journal"},
+                 "min_fraction", "min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg", "journal",
+                 "targets_format", "targets_columns"},
     "refresh": {"every_years", "timing_err_min"},
     "allocation": {"per_target_per_semester", "per_site_per_semester", "overhead_h"},
     "instrument": {"aperture_m", "central_obstruction", "throughput", "wavelength_min_um", "wavelength_max_um",
@@ -58,6 +61,7 @@ class CampaignSpec:
     overhead_h: float = 0.0
     constraints: dict = field(default_factory=dict)
     journal_file: Path | None = None
+    targets_options: CatalogueOptions = CatalogueOptions()
     refresh_every_years: float | None = None
     refresh_timing_err_d: float = 0.0
 
@@ -197,6 +201,16 @@ def _refresh(path: Path, table: dict) -> dict:
     return {"refresh_every_years": every, "refresh_timing_err_d": error_min / 1440.0}
 
 
+def _targets_options(path: Path, c: dict) -> CatalogueOptions:
+    """targets_format (csv, ecsv, votable, ipac; default by extension) and targets_columns (a
+    column mapping TOML, relative to the campaign file) of the targets catalogue."""
+    fmt = _get(path, c, "campaign", "targets_format", str, default=None)
+    if fmt is not None and fmt.lower() not in FORMATS:
+        raise InputError(f"{path}: [campaign] targets_format: expected one of {', '.join(FORMATS)}, got {fmt!r}")
+    columns = _get(path, c, "campaign", "targets_columns", str, default=None)
+    return CatalogueOptions(format=fmt, columns=path.parent / columns if columns else None)
+
+
 def read_campaign(path: str | Path) -> CampaignSpec:
     """Read a campaign TOML file (see configs/campaign.example.toml for every key)."""
     path = Path(path)
@@ -233,6 +247,7 @@ def read_campaign(path: str | Path) -> CampaignSpec:
         overhead_h=float(_get(path, allocation, "allocation", "overhead_h", (int, float), 0.0, 24.0, 0.0, " hours")),
         constraints=checked_constraints(f"{path}: [campaign]", constraints),
         journal_file=path.parent / c["journal"] if _get(path, c, "campaign", "journal", str, default=None) else None,
+        targets_options=_targets_options(path, c),
         **_refresh(path, _table(path, document, "refresh", required=False)),
     )
     _warn_unknown(path, document, sites)

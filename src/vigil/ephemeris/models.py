@@ -103,6 +103,22 @@ class PolynomialEphemeris:
         quadratic = np.any(np.asarray(self.dp_dn_d) != 0) or np.any(np.asarray(self.covariance_d2)[..., 2, 2] > 0)
         return "quadratic" if quadratic else "linear"
 
+    @property
+    def t0_err_d(self):
+        return np.sqrt(np.asarray(self.covariance_d2)[..., 0, 0])
+
+    @property
+    def period_err_d(self):
+        return np.sqrt(np.asarray(self.covariance_d2)[..., 1, 1])
+
+    @property
+    def dp_dn_err_d(self):
+        return np.sqrt(np.asarray(self.covariance_d2)[..., 2, 2])
+
+    @property
+    def t0_period_cov_d2(self):
+        return np.asarray(self.covariance_d2)[..., 0, 1]
+
     def mid_bjd_tdb(self, epochs) -> np.ndarray:
         k = np.asarray(epochs, dtype=float) - self.t0_epoch
         return self.t0_bjd_tdb + k * self.period_d + 0.5 * k * k * self.dp_dn_d

@@ -3,7 +3,9 @@
 Each observable window is one VEVENT spanning its observable stretch (UTC); the padded window
 and the transit's times are in the description, the safety note once in the calendar's own
 description (RFC 7986 DESCRIPTION, and X-WR-CALDESC which many programs read). Windows with
-nothing observable (coverage none) are never exported.
+nothing observable (coverage none) are never exported. Transits of planets of one host whose
+windows overlap at a site (the `shared_with` column) are one pointing and one VEVENT naming
+every planet, spanning their observable stretches.
 
 The UID is derived from target, site, epoch and event kind, so importing a newer calendar
 updates events instead of duplicating them. When the file being replaced is an earlier vigil
@@ -24,10 +26,12 @@ from datetime import datetime, timezone
 from pathlib import Path
 
 import icalendar
+import numpy as np
 import pandas as pd
 
 from vigil.export.files import write_atomic
 from vigil.export.table import iso_utc
+from vigil.hosts import overlap_groups
 
 log = logging.getLogger("vigil")
 _UID_NAMESPACE = uuid.UUID("5f1c2b9e-3d4a-4e8f-9b6c-7a1d2e3f4b5c")
@@ -37,12 +41,13 @@ TIMES_KEY = "X-VIGIL-TIMES"  # digest of the event's times, to tell a revision f
 _TIME_COLUMNS = ("observable_start_jd_utc", "observable_end_jd_utc", "ingress_jd_utc", "mid_jd_utc", "egress_jd_utc")
 
 
-def event_uid(target: str, site: str, epoch: int, kind: str = "transit") -> str:
-    """Stable identifier of one transit (or occultation) at one site.
+def event_uid(target: str, site: str, epoch, kind: str = "transit") -> str:
+    """Stable identifier of one transit (or occultation) at one site; for a shared pointing,
+    target is "b + c" and epoch "12+7" (each planet's epoch).
 
     Example: ``event_uid("Tamsin-7 b", "mirador_sur", 1567)`` ends in ``@vigil``.
     """
-    key = f"{target}|{site}|{int(epoch)}" + ("" if kind == "transit" else f"|{kind}")
+    key = f"{target}|{site}|{epoch if isinstance(epoch, str) else int(epoch)}" + ("" if kind == "transit" else f"|{kind}")
     return f"{uuid.uuid5(_UID_NAMESPACE, key)}@vigil"
 
 
@@ -63,8 +68,9 @@ def _utc(jd_utc: float) -> datetime:
     return datetime.fromisoformat(_iso(jd_utc))
 
 
-def _times_digest(w) -> str:
-    return hashlib.sha256("|".join(_iso(getattr(w, c)) for c in _TIME_COLUMNS).encode()).hexdigest()[:16]
+def _times_digest(rows) -> str:
+    times = "|".join(_iso(getattr(w, c)) for w in rows for c in _TIME_COLUMNS)
+    return hashlib.sha256(times.encode()).hexdigest()[:16]
 
 
 def _conditions(w) -> str:
@@ -83,8 +89,8 @@ def _meridian(w) -> list[str]:
     return [f"Meridian crossing {_iso(meridian)}{inside}"]
 
 
-def _describe(w, kind: str, timezone_name: str | None = None) -> str:
-    lines = [
+def _event_lines(w, kind: str) -> list[str]:
+    return [
         f"Observable {_iso(w.observable_start_jd_utc)} to {_iso(w.observable_end_jd_utc)}: coverage {w.coverage}, "
         f"{100 * w.observable_fraction:.0f}% of the {kind} observable",
         f"Mid-{kind} {_iso(w.mid_jd_utc)} ± {w.mid_sigma_d * 1440:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
@@ -93,9 +99,33 @@ def _describe(w, kind: str, timezone_name: str | None = None) -> str:
         *_meridian(w),
         _conditions(w),
         *(["Stale ephemeris: the timing padding exceeds the limit; refresh it (vigil refit)"] if w.stale else []),
-        *([f"Times are UTC; the site's time zone is {timezone_name}"] if timezone_name else []),
     ]
+
+
+def _describe(rows, kind: str, timezone_name: str | None = None) -> str:
+    """The description of one event: one window, or each planet's window of a shared pointing."""
+    lines = _event_lines(rows[0], kind) if len(rows) == 1 else [
+        line for w in rows for line in (f"{w.target}:", *(f"  {text}" for text in _event_lines(w, kind)))]
+    lines += [f"Times are UTC; the site's time zone is {timezone_name}"] if timezone_name else []
     return "\n".join(lines)
+
+
+def _pointing_key(w) -> str:
+    """Rows with one key whose windows overlap are one pointing (hosts.overlap_groups)."""
+    shared = getattr(w, "shared_with", "")
+    if not (isinstance(shared, str) and shared):
+        return f"{w.site}|{w.target}|{w.epoch}"
+    return f"{w.site}|" + "; ".join(sorted({w.target, *shared.split("; ")}))
+
+
+def _pointings(windows: pd.DataFrame) -> list[list]:
+    """Window rows grouped by pointing: alone, or with the planets of its host it is shared with."""
+    rows = list(windows.itertuples(index=False))
+    if not rows:
+        return []
+    groups = overlap_groups([_pointing_key(w) for w in rows], windows["window_start_jd_utc"],
+                            windows["window_end_jd_utc"])
+    return [[rows[i] for i in np.flatnonzero(groups == g)] for g in range(int(groups.max()) + 1)]
 
 
 def _previous_revisions(path: Path | None) -> dict:
@@ -127,10 +157,12 @@ def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None, previ
     calendar.add("x-wr-caldesc", SAFETY_NOTE)
     stamp = run_stamp()
     observable = windows[(windows["coverage"].astype(str) != "none") & windows["observable_start_jd_utc"].notna()]
-    for w in observable.itertuples(index=False):
+    for rows in _pointings(observable.reset_index(drop=True)):
+        w = rows[0]
         kind = str(getattr(w, "event", "transit"))
-        uid = event_uid(w.target, w.site, w.epoch, kind)
-        digest = _times_digest(w)
+        names = " + ".join(r.target for r in rows)
+        uid = event_uid(names, w.site, "+".join(str(int(r.epoch)) for r in rows), kind)
+        digest = _times_digest(rows)
         old_digest, sequence, modified = (previous or {}).get(uid, (digest, 0, None))
         if old_digest != digest:
             sequence, modified = sequence + 1, None
@@ -139,13 +171,15 @@ def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None, previ
         event.add("dtstamp", stamp)
         event.add("sequence", sequence)
         event.add("last-modified", modified or stamp)
-        event.add("dtstart", _utc(w.observable_start_jd_utc))
-        event.add("dtend", _utc(w.observable_end_jd_utc))
-        event.add("summary", f"{w.target} {kind}, {w.coverage} {100 * w.observable_fraction:.0f}% ({w.site})"
-                             + (" STALE ephemeris" if w.stale else ""))
+        event.add("dtstart", _utc(min(r.observable_start_jd_utc for r in rows)))
+        event.add("dtend", _utc(max(r.observable_end_jd_utc for r in rows)))
+        coverage = ", ".join(f"{r.coverage} {100 * r.observable_fraction:.0f}%" for r in rows)
+        stale = any(bool(r.stale) for r in rows)
+        event.add("summary", f"{names} {kind}{'s' if len(rows) > 1 else ''}, {coverage} ({w.site})"
+                             + (" STALE ephemeris" if stale else ""))
         event.add("location", str(w.site))
-        event.add("description", _describe(w, kind, (timezones or {}).get(w.site)))
-        event.add("categories", [kind, str(w.coverage)] + (["stale"] if w.stale else []))
+        event.add("description", _describe(rows, kind, (timezones or {}).get(w.site)))
+        event.add("categories", [kind, *dict.fromkeys(str(r.coverage) for r in rows)] + (["stale"] if stale else []))
         event.add("transp", "TRANSPARENT")
         event.add(TIMES_KEY, digest)
         calendar.add_component(event)

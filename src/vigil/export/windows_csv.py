@@ -22,7 +22,7 @@ TIME_COLUMNS = {
 }
 COLUMNS = ["target", "site", "event", "epoch", "mid_bjd_tdb", "mid_utc", "mid_sigma_min", "ingress_utc", "egress_utc",
            "window_start_utc", "window_end_utc", "coverage", "observable_fraction", "observable_start_utc",
-           "observable_end_utc", "alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale"]
+           "observable_end_utc", "alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale", "shared_with"]
 DECIMALS = {"mid_bjd_tdb": 6, "mid_sigma_min": 2, "observable_fraction": 4, "alt_mid_deg": 2,
             "airmass_mid": 3, "sun_alt_mid_deg": 2, "moon_sep_deg": 2, "moon_illumination": 3}
 
@@ -33,6 +33,7 @@ def windows_for_export(windows: pd.DataFrame) -> pd.DataFrame:
                                                  "observable_fraction", "alt_mid_deg", "airmass_mid",
                                                  "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale")})
     out["mid_sigma_min"] = windows["mid_sigma_d"] * MINUTES_PER_DAY
+    out["shared_with"] = windows["shared_with"] if "shared_with" in windows.columns else ""
     for name, source in TIME_COLUMNS.items():
         out[name] = iso_utc(windows[source].to_numpy())
     return out[COLUMNS].round(DECIMALS)
@@ -70,4 +71,4 @@ def write_windows_csv_pieces(pieces: Iterable[pd.DataFrame], path, timezones: di
             table = windows_for_export(windows)
             if timezones is not None:
                 table = pd.concat([table, local_times(windows, timezones)], axis=1)
-            stream.write(csv_bytes(table, text_columns=("target", "site"), header=number == 0))
+            stream.write(csv_bytes(table, text_columns=("target", "site", "shared_with"), header=number == 0))
