@@ -54,7 +54,8 @@ def _window(target, epoch, start, end, shared=""):
             "mid_jd_utc": (start + end) / 2, "mid_sigma_d": 0.001, "ingress_jd_utc": start + 0.04,
             "egress_jd_utc": end - 0.04, "window_start_jd_utc": start, "window_end_jd_utc": end,
             "coverage": "full", "observable_fraction": 1.0, "alt_mid_deg": 50.0, "airmass_mid": 1.3,
-            "moon_sep_deg": 80.0, "shared_with": shared}
+            "moon_sep_deg": 80.0, "shared_with": shared, "stale": False,
+            "observable_start_jd_utc": start, "observable_end_jd_utc": end}  # full: the whole window observable
 
 
 def test_calendar_shows_a_shared_pointing_as_one_event_naming_both_planets():
