@@ -203,7 +203,9 @@ def test_per_target_cap_limits_visits_per_half_year():
 
 def test_per_site_cap_limits_visits_per_half_year_over_all_targets():
     # As above, for the time a site grants the whole programme (common practice, no source).
-    targets = targets_table({}, {"name": "Ferrun-2 b", "period_d": 1.3, "t0_bjd_tdb": START_BJD_TDB + 0.7})
+    # Same sky position, but two stars (a host column says so; otherwise they would share pointings).
+    targets = targets_table({}, {"name": "Ferrun-2 b", "period_d": 1.3, "t0_bjd_tdb": START_BJD_TDB + 0.7,
+                                 "host": "Ferrun-2"})
     ledger = run(campaign_spec(per_site_per_semester=5), targets).ledger
     per_half = pd.Series(half_year_of(ledger["mid_jd_utc"])).value_counts().to_dict()
     assert per_half == {(2031, 0): 5, (2031, 1): 5}

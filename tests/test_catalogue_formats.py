@@ -6,6 +6,7 @@ mapping. Unit factors are those of the SI Brochure (tests/authorities/catalogue_
 """
 
 import logging
+from pathlib import Path
 
 import astropy.units as u
 import pytest
@@ -200,3 +201,33 @@ def test_masked_votable_cells_count_as_missing(tmp_path, demo_table, caplog):
         targets = read_targets(tmp_path / "gaps.xml")
     assert len(targets) == len(demo_table) - 1 and "row 3 (period_err_d)" in caplog.text
     assert demo_table["name"][2] not in set(targets["name"])
+
+
+EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
+
+
+def test_the_example_layout_reads_through_its_mapping(caplog):
+    with caplog.at_level(logging.WARNING, logger="vigil"):
+        targets = read_targets(EXAMPLES / "team_planets.csv",
+                               CatalogueOptions(columns=EXAMPLES / "team_columns.toml")).set_index("name")
+    assert "Tesela b" not in targets.index and "line 8 (duration_h)" in caplog.text  # no duration: left out
+    b = targets.loc["Corvina b"]
+    # By hand, from the row of Corvina b: 138 min = 2.3 h (SI Brochure); 10688.43120 + 2450000;
+    # larger of |+0.00042|, |-0.00051|; mean of 3.1e-6 and 2.7e-6; 05:41:12 = 15 x 5.6867 h.
+    assert b["duration_h"] == pytest.approx(138 * MINUTE_S / 3600.0, rel=1e-15)
+    assert b["t0_bjd_tdb"] == pytest.approx(2460688.43120, abs=1e-9)
+    assert b["t0_err_d"] == pytest.approx(0.00051, rel=1e-12)
+    assert b["period_err_d"] == pytest.approx(2.9e-6, rel=1e-9)
+    assert b["ra_deg"] == pytest.approx(DEG_PER_HOUR_OF_RA * (5 + 41 / 60 + 12 / 3600), abs=1e-9)
+    assert b["host"] == targets.loc["Corvina c", "host"] == "Corvina"
+
+
+def test_campaign_file_names_the_catalogue_format_and_mapping(tmp_path):
+    from vigil.campaign.spec import read_campaign
+
+    text = (Path(__file__).resolve().parents[1] / "configs" / "campaign.example.toml").read_text()
+    text = text.replace("# targets_format", "targets_format").replace("# targets_columns", "targets_columns")
+    (tmp_path / "campaign.toml").write_text(text.replace('"sites.example.toml"', '"sites.toml"'))
+    (tmp_path / "sites.toml").write_text((DEMO_DIR / "sites.toml").read_text())
+    options = read_campaign(tmp_path / "campaign.toml").targets_options
+    assert options.format == "ecsv" and options.columns == tmp_path / "../examples/team_columns.toml"

@@ -14,14 +14,14 @@ import pandas as pd
 import typer
 from astropy.time import Time
 
-from vigil import catalog, schema
+from vigil import catalog, notes, schema
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.run import run_campaign
 from vigil.campaign.spec import read_campaign
 from vigil.cli_options import (BASELINE_OPTION, COVERAGE_OPTION, MIN_ALTITUDE_OPTION, MIN_FRACTION_OPTION,
                                MOON_SEP_OPTION, SIGMA_OPTION, SITE_OPTION, SITES_OPTION, TWILIGHT_OPTION,
                                constraint_overrides)
-from vigil.cli_support import LazyProgress, did_you_mean, out, refuse_overwrite, setup_logging, user_errors
+from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
@@ -33,6 +33,7 @@ from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.chart_cli import chart_app
 from vigil.hosts import host_of, mark_shared
 from vigil.target_source import CatalogueOptions
+from vigil.textfile import did_you_mean
 from vigil.journal_cli import journal_app
 from vigil.refit_cli import run_refit
 from vigil.constraints import Constraints
@@ -146,7 +147,12 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
     start_time, end_time = _parse_date(start, "--start"), _parse_end(end)
     keep_all = keep_all or ics_path is not None
-    tallies, kept, listed = [], [], []
+    tallies, kept, listed, found = [], [], [], []
+
+    def noted(pieces):
+        for piece in pieces:
+            found.append(notes.of(piece))
+            yield piece
 
     def tallied(pieces):
         for piece in pieces:
@@ -158,10 +164,11 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
             yield piece
 
     with LazyProgress("windows (chunks)") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
-        pieces = tallied(mark_shared(iter_windows(targets, sites, overrides, start_time, end_time, jobs=workers.count,
-                                                  engine=engine, include_unobservable=include_all, event=event,
-                                                  on_chunk=lambda _, done, total: progress.advance(done, total),
-                                                  executor=workers.executor, chunk_dir=workers.chunk_dir),
+        pieces = tallied(mark_shared(noted(iter_windows(targets, sites, overrides, start_time, end_time,
+                                                        jobs=workers.count, engine=engine,
+                                                        include_unobservable=include_all, event=event,
+                                                        on_chunk=lambda _, done, total: progress.advance(done, total),
+                                                        executor=workers.executor, chunk_dir=workers.chunk_dir)),
                                      host_of(targets)))
         if csv_path is not None:
             write_windows_csv_pieces(pieces, csv_path,
@@ -170,6 +177,7 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
             collections.deque(pieces, maxlen=0)
     windows = (pd.concat(kept, ignore_index=True) if kept
                else pd.DataFrame(columns=[*schema.TRANSIT_COLUMNS, *schema.WINDOW_COLUMNS]))
+    notes.report(notes.merged(*found))
     if ics_path is not None:
         write_windows_ics(windows, ics_path, {n: s.timezone for n, s in sites.items()})
     return WindowsRun(add_tallies(tallies), windows, sites, sum(listed))
@@ -311,6 +319,7 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine
     with LazyProgress("weather trials") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
         result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=workers.count,
                               executor=workers.executor, chunk_dir=workers.chunk_dir)
+    notes.report(result.notes)
     paths = write_campaign_csvs(result, out_dir)
     resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
                     out_dir / "resolution.png", result.summary)

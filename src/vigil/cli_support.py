@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import difflib
 import logging
 from contextlib import contextmanager
 
@@ -82,18 +81,3 @@ class LazyProgress:
         if self._task is not None:  # a never-started bar would still print an empty line
             self._progress.stop()
 
-
-def did_you_mean(name: str, known) -> str:
-    """'; did you mean 'X'?' naming the known names closest to `name` (any case), or ''.
-
-    Names are matched exactly elsewhere; this only helps the user see a near miss.
-
-    Examples
-    --------
-    >>> did_you_mean("mirador sur", ["mirador_sur", "alto_verde"])
-    "; did you mean 'mirador_sur'?"
-    """
-    known = [str(k) for k in known]
-    by_case = [k for k in known if k.casefold() == name.casefold()]
-    close = by_case or difflib.get_close_matches(name, known, n=3, cutoff=0.6)
-    return f"; did you mean {' or '.join(repr(c) for c in close)}?" if close else ""

@@ -17,7 +17,6 @@ mapping does not name are kept under their own names.
 
 from __future__ import annotations
 
-import difflib
 import math
 import tomllib
 from dataclasses import dataclass
@@ -29,7 +28,7 @@ import pandas as pd
 from vigil.errors import InputError
 from vigil.field_units import conversion_factor, field_unit
 from vigil.table_formats import SourceTable, unit_of
-from vigil.textfile import csv_number
+from vigil.textfile import csv_number, did_you_mean
 
 COMBINE = ("larger", "mean")
 _KEYS = {"column", "plus", "minus", "combine", "unit", "value", "offset"}
@@ -86,8 +85,7 @@ def read_column_map(path: str | Path, known_fields) -> ColumnMap:
 def _field_source(path: Path, name: str, entry, known: list[str]) -> FieldSource:
     where = f"{path}: [columns] {name}"
     if name not in known:
-        close = difflib.get_close_matches(name, known, n=3, cutoff=0.6)
-        hint = f"; did you mean {', '.join(close)}?" if close else f"; vigil fields are {', '.join(known)}"
+        hint = did_you_mean(name, known) or f"; vigil fields are {', '.join(known)}"
         raise InputError(f"{where}: not a vigil field{hint}")
     if isinstance(entry, str):
         entry = {"column": entry}
@@ -158,8 +156,7 @@ def _check_columns(mapping: ColumnMap, source: SourceTable) -> None:
     for spec in mapping.fields:
         for column in spec.columns:
             if column not in found:
-                close = difflib.get_close_matches(column, found, n=3, cutoff=0.6)
-                hint = f"; did you mean {', '.join(repr(c) for c in close)}?" if close else ""
+                hint = did_you_mean(column, found)
                 listed = ", ".join(found[:12]) + (", ..." if len(found) > 12 else "")
                 raise InputError(f"{mapping.path}: [columns] {spec.field}: column {column!r} is not in {source.path}"
                                  f"{hint} (found: {listed})")

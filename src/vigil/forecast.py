@@ -9,7 +9,6 @@ in at least half the trials.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable
 
 import numpy as np
 import pandas as pd
@@ -121,7 +120,7 @@ def expected_in_transit_h(visits: pd.DataFrame, spec: CampaignSpec, target: str)
 
 
 def limiting_factor(row: dict, body: Body, spec: CampaignSpec, scheduled_h: float, candidate_h: float,
-                    candidate_h_without_padding: Callable[[], float], baseline_per_in_transit: float) -> str:
+                    candidate_h_without_padding: float | None, baseline_per_in_transit: float) -> str:
     """Why a target misses its goal within the horizon ('' when it is reachable).
 
     noise floor: the goal SNR exceeds what the floor allows at any resolution; weather: the
@@ -129,7 +128,9 @@ def limiting_factor(row: dict, body: Body, spec: CampaignSpec, scheduled_h: floa
     counted window together would suffice, the caps and clashes do not let them all in;
     ephemeris too stale: the windows lost to timing padding would have sufficed; too few
     windows: even all counted windows, attempted, fall short. Hours are expectations over the
-    weather; `candidate_h_without_padding` is called only when needed (it recomputes windows).
+    weather. `candidate_h_without_padding` (the windows again with K = 0) may be None when not
+    computed: the verdict is then "too few windows" where it could be "ephemeris too stale", and
+    the campaign runner computes it for those targets and asks again.
     """
     if row["reachable"]:
         return ""
@@ -141,6 +142,6 @@ def limiting_factor(row: dict, body: Body, spec: CampaignSpec, scheduled_h: floa
         return "weather"
     if candidate_h >= need:
         return "allocation"
-    if candidate_h_without_padding() >= need:
+    if candidate_h_without_padding is not None and candidate_h_without_padding >= need:
         return "ephemeris too stale"
     return "too few windows"

@@ -106,7 +106,7 @@ def shared_with(windows: pd.DataFrame, hosts: dict[str, str]) -> pd.Series:
     """
     if windows.empty:
         return pd.Series([], dtype=str, index=windows.index)
-    keys = windows["target"].map(hosts).fillna(windows["target"]).astype(str) + "|" + windows["site"].astype(str)
+    keys = [f"{hosts.get(t, t)}|{s}" for t, s in zip(windows["target"], windows["site"])]
     group = overlap_groups(keys, windows["window_start_jd_utc"], windows["window_end_jd_utc"])
     targets = windows["target"].astype(str).to_numpy()
     members = pd.Series(targets).groupby(group).agg(lambda t: sorted(set(t)))

@@ -1,10 +1,11 @@
 """Keep astropy offline: bundled Earth-orientation data only, predictions beyond it accepted.
 
 vigil plans observations years and decades ahead, far beyond the Earth-orientation
-predictions bundled with astropy (about one year). Beyond that range astropy extrapolates
-UT1-UTC and polar motion; the resulting error (at most a few seconds in UT1, arcseconds in
-pointing) is far below what transit planning needs. We accept that, log one note, and never
-let astropy reach for the network.
+predictions bundled with astropy (about one year). Beyond that range astropy holds UT1-UTC at
+its last tabulated value (it does not extrapolate it) and takes polar motion from its 50-year
+mean; the unforeseeable drift of UT1 (under a second a year) moves rising, setting and
+twilight by about as much. We accept that, say so in one note (`timescales.
+beyond_earth_orientation_note`), and never let astropy reach for the network.
 """
 
 import logging

@@ -29,9 +29,10 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil import windows
+from vigil import notes, windows
 from vigil.sites import Site
 from vigil.errors import InputError
+from vigil.notes import Note
 
 # With chunk_targets=None, consecutive targets are grouped until their expected transits
 # (segment length / period, each) reach CHUNK_TRANSITS; each transit makes one row per site.
@@ -176,16 +177,19 @@ def _chunk_bounds(targets: pd.DataFrame, start: Time, end: Time, chunk_targets: 
     return list(zip(edges[:-1].tolist(), edges[1:].tolist()))
 
 
-def _plan_chunk(task: _Task) -> pd.DataFrame | str:
+def _plan_chunk(task: _Task) -> tuple[pd.DataFrame | str, tuple[Note, ...]]:
     """One task through `windows.plan_windows`: its table, or the path of the Parquet file it
-    was written to (module level, so that spawned and remote workers can run it)."""
+    was written to, and its notes (module level, so that spawned and remote workers can run it).
+    The notes travel beside the table: Parquet files do not keep them."""
     table = windows.plan_windows(task.targets, task.sites, task.overrides, task.start, task.end, **task.settings)
+    found = notes.of(table)
     if task.cut_jd_utc is not None:
         table = table[table["mid_jd_utc"].to_numpy(dtype=float) < task.cut_jd_utc].reset_index(drop=True)
     if task.chunk_path is None:
-        return table
+        return table, found
+    table.attrs.clear()  # the notes go back beside the file
     table.to_parquet(task.chunk_path, index=False)
-    return task.chunk_path
+    return task.chunk_path, found
 
 
 def _results(tasks: list[_Task], jobs: int, executor: Executor | None) -> Iterator[pd.DataFrame]:
@@ -197,21 +201,21 @@ def _results(tasks: list[_Task], jobs: int, executor: Executor | None) -> Iterat
     else:
         outputs = _in_processes(tasks, jobs)
     try:
-        for output in outputs:
-            yield _read_chunk(output) if isinstance(output, str) else output
+        for output, found in outputs:
+            yield notes.attach(_read_chunk(output) if isinstance(output, str) else output, found)
     finally:
         for task in tasks:  # whatever a failed or abandoned run left behind
             if task.chunk_path is not None:
                 Path(task.chunk_path).unlink(missing_ok=True)
 
 
-def _in_processes(tasks: list[_Task], jobs: int) -> Iterator[pd.DataFrame | str]:
+def _in_processes(tasks: list[_Task], jobs: int) -> Iterator[tuple[pd.DataFrame | str, tuple[Note, ...]]]:
     context = multiprocessing.get_context("spawn")
     with ProcessPoolExecutor(max_workers=min(jobs, len(tasks)), mp_context=context) as pool:
         yield from _in_order(pool, tasks, IN_FLIGHT_PER_WORKER * jobs)
 
 
-def _in_order(executor: Executor, tasks: Iterable[_Task], in_flight: int) -> Iterator[pd.DataFrame | str]:
+def _in_order(executor: Executor, tasks: Iterable[_Task], in_flight: int) -> Iterator[tuple[pd.DataFrame | str, tuple[Note, ...]]]:
     """Results of _plan_chunk over the tasks, in order, with at most in_flight tasks handed out
     beyond the one awaited (so finished tables do not pile up here)."""
     pending = deque()
@@ -236,9 +240,10 @@ def _read_chunk(path: str) -> pd.DataFrame:
 def _joined(tables: list[pd.DataFrame], sort: bool) -> pd.DataFrame:
     """Tables into one, in plan_windows' order (windows.in_time_order) if sort; an empty result
     keeps the typed columns of an empty table that had them."""
+    found = notes.merged(*(notes.of(t) for t in tables))
     filled = [t for t in tables if len(t)]
     if not filled:
         typed = [t for t in tables if "ra_deg" in t.columns]
-        return (typed or tables)[0]
+        return notes.attach((typed or tables)[0], found)
     joined = pd.concat(filled, ignore_index=True) if len(filled) > 1 else filled[0]
-    return windows.in_time_order(joined) if sort else joined.reset_index(drop=True)
+    return notes.attach(windows.in_time_order(joined) if sort else joined.reset_index(drop=True), found)

@@ -52,6 +52,22 @@ def spelling_hint(wanted, found) -> str:
     return ""
 
 
+def did_you_mean(name: str, known) -> str:
+    """'; did you mean 'X'?' naming the known names closest to `name` (any case), or ''.
+
+    Names are matched exactly elsewhere; this only helps the user see a near miss.
+
+    Examples
+    --------
+    >>> did_you_mean("mirador sur", ["mirador_sur", "alto_verde"])
+    "; did you mean 'mirador_sur'?"
+    """
+    known = [str(k) for k in known]
+    by_case = [k for k in known if k.casefold() == name.casefold()]
+    close = by_case or difflib.get_close_matches(name, known, n=3, cutoff=0.6)
+    return f"; did you mean {' or '.join(repr(c) for c in close)}?" if close else ""
+
+
 _LINE_BREAK = re.compile(r"\r\n|\r|\n")
 _COMMENT_LINE = re.compile(r"^[ \t]*#[^\r\n]*", re.MULTILINE)
 _CONTROL_CHARACTER = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")

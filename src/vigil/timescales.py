@@ -14,7 +14,6 @@ fixed-point iteration; ltt changes by < 1e-4 s per second, so each pass shrinks 
 
 from __future__ import annotations
 
-import logging
 import warnings
 from functools import lru_cache
 
@@ -25,10 +24,11 @@ from astropy.coordinates import EarthLocation, SkyCoord
 from astropy.time import Time
 from astropy.utils import iers
 
+from vigil import notes
+from vigil.notes import Note
 from vigil.tabulated import BLOCKS_KEPT, Table, block_nodes
 from vigil.vectors import row_dot, unit_vectors
 
-log = logging.getLogger("vigil")
 # Full Julian dates of the telescope era (years 1858 to 2406); smaller values are MJDs or
 # truncated JDs, larger ones a unit or offset mistake.
 MIN_PLAUSIBLE_JD = 2_400_000.0
@@ -60,7 +60,6 @@ def bjd_tdb_to_site_time(bjd_tdb, ra_deg, dec_deg, location: EarthLocation) -> T
     for _ in range(_ITERATIONS):
         ltt = light_travel_time_d(seen, ra_deg, dec_deg, location)
         seen = Time(bjd, -ltt, format="jd", scale="tdb")
-    note_beyond_earth_orientation(seen)
     return seen
 
 
@@ -69,19 +68,15 @@ def site_time_to_bjd_tdb(times: Time, ra_deg, dec_deg, location: EarthLocation) 
     return (times.tdb + light_travel_time_d(times, ra_deg, dec_deg, location) * u.day).jd
 
 
-_noted = False
-
-
-def note_beyond_earth_orientation(times: Time) -> None:
-    """Log once when dates lie beyond the bundled Earth-orientation predictions."""
-    global _noted
-    if _noted or times.size == 0:
-        return
-    table_end = Time(iers.earth_orientation_table.get()["MJD"][-1].value, format="mjd")
-    if np.max(times.utc.mjd) > table_end.mjd:
-        log.info("dates after %s lie beyond the bundled Earth-orientation predictions; "
-                 "UT1-UTC and polar motion are extrapolated (seconds of time at most)", table_end.utc.iso[:10])
-        _noted = True
+def beyond_earth_orientation_note(jd_utc_end: float) -> tuple[Note, ...]:
+    """A note when dates up to jd_utc_end lie beyond the bundled Earth-orientation predictions
+    (what astropy does there: UT1-UTC held at its last tabulated value, polar motion from its
+    50-year mean); no note otherwise."""
+    table = iers.earth_orientation_table.get()
+    table_end = Time(table["MJD"][-1].value, format="mjd", scale="utc").jd
+    if not jd_utc_end > table_end:
+        return ()
+    return (notes.beyond_earth_orientation(table_end, float(table["UT1_UTC"][-1].to_value(u.s)), jd_utc_end),)
 
 
 def tt_minus_utc_s(jd_utc):

@@ -10,7 +10,7 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil import schema, visibility
+from vigil import notes, schema, visibility
 from vigil.constraints import Constraints, resolve_constraints
 from vigil.engines import engine_for, reference
 from vigil.engines.protocol import Engine
@@ -32,34 +32,38 @@ def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time, engine: 
 
 def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints,
                  start: Time, end: Time, engine: str = "fast") -> pd.DataFrame:
-    """Windows table for one site: padded windows, coverage, conditions at mid. A site of kind
-    space always goes to the space engine; `engine` chooses for ground sites."""
+    """Windows table for one site: padded windows, coverage, conditions at mid, carrying the
+    engine's notes (`vigil.notes.of`). A site of kind space always goes to the space engine;
+    `engine` chooses for ground sites."""
     engine_module = engine_for(site, engine)
     padded = visibility.pad_windows(at_site(transits, site, start, end, engine_module), constraints)
     # Once K sigma exceeds half a period the transit's phase is lost: it cannot be planned
     # (coverage none), and its days-wide window is not handed to the engine.
     timed = (constraints.sigma_k * padded["mid_sigma_d"] < 0.5 * padded["period_d"]).to_numpy()
-    observable, conditions = engine_module.evaluate(padded, site, constraints, timed)
-    return pd.concat([visibility.classify(padded, observable, constraints.sigma_k), conditions], axis=1)
+    observable, conditions, found = engine_module.evaluate(padded, site, constraints, timed)
+    table = pd.concat([visibility.classify(padded, observable, constraints.sigma_k), conditions], axis=1)
+    return notes.attach(table, found)
 
 
 def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,
                  engine: str = "fast", include_unobservable: bool = False, event: str = "transit") -> pd.DataFrame:
     """All windows of one event type (transit or occultation) of all targets at all sites in
-    [start, end], sorted by time then target."""
+    [start, end], sorted by time then target; the table carries the engines' notes
+    (`vigil.notes.of`), for the caller to report."""
     if not end > start:
         raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
     transits = project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
                                           end.tdb.jd + _LIGHT_TIME_MARGIN_D, event)
     tables = [site_windows(transits, site, resolve_constraints(site.defaults, overrides), start, end, engine)
               for site in sites.values() if not transits.empty]
+    found = notes.merged(*(notes.of(t) for t in tables))
     tables = [t for t in tables if not t.empty]
     if not tables:
-        return pd.DataFrame(columns=[*schema.TRANSIT_COLUMNS, *schema.WINDOW_COLUMNS])
+        return notes.attach(pd.DataFrame(columns=[*schema.TRANSIT_COLUMNS, *schema.WINDOW_COLUMNS]), found)
     table = pd.concat(tables, ignore_index=True)
     if not include_unobservable:
         table = table[table["coverage"] != "none"]
-    return in_time_order(table)
+    return notes.attach(in_time_order(table), found)
 
 
 def in_time_order(table: pd.DataFrame) -> pd.DataFrame:

@@ -7,6 +7,8 @@ from dataclasses import dataclass
 
 import pandas as pd
 
+from vigil.notes import Note
+
 
 @dataclass
 class CampaignResult:
@@ -16,3 +18,4 @@ class CampaignResult:
     yearly: pd.DataFrame
     ledger: pd.DataFrame
     years_to_goal: dict  # target -> per-trial years (inf if never)
+    notes: tuple[Note, ...] = ()  # for the user (vigil.notes), each once

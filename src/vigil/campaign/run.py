@@ -9,7 +9,7 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from vigil import bodies, forecast
+from vigil import bodies, forecast, notes
 from vigil.campaign import schedule, weather
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.spec import CampaignSpec
@@ -18,6 +18,7 @@ from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.journal import open_journal
 from vigil.sweep import plan_windows_chunked
+from vigil.hosts import host_of
 from vigil.textfile import line_of
 
 TRIAL_CHUNK = 50
@@ -37,14 +38,16 @@ def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
 
 def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str, jobs: int = 1,
                 executor: Executor | None = None, chunk_dir: Path | None = None) -> pd.DataFrame:
-    """Counted windows over the horizon, each stretch between planned refreshes with its own sigma."""
+    """Counted windows over the horizon, each stretch between planned refreshes with its own
+    sigma, as visits; the table carries the windows' notes (`vigil.notes.of`)."""
     pieces = [plan_windows_chunked(part, sites, constraints, lo, hi, jobs=jobs, engine=engine, executor=executor,
                                    chunk_dir=chunk_dir)
               for lo, hi, part in upkeep.segments(targets, spec.start, spec.end, spec.refresh_every_years,
                                                    spec.refresh_timing_err_d)]
     windows = pd.concat([p for p in pieces if len(p)] or pieces[:1], ignore_index=True)
     windows = windows.drop_duplicates(["target", "site", "epoch"])  # a transit on a segment edge
-    return schedule.visits_from_windows(windows, sites, spec.coverage, spec.min_fraction, spec.overhead_h)
+    visits = schedule.visits_from_windows(windows, sites, spec.coverage, spec.min_fraction, spec.overhead_h)
+    return notes.attach(visits, notes.merged(*(notes.of(p) for p in pieces)))
 
 
 def _from_journal(spec: CampaignSpec, targets: pd.DataFrame) -> tuple[pd.DataFrame, dict]:
@@ -86,37 +89,41 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
     candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs, executor, chunk_dir)
     gain = {name: forecast.snr2_per_hour(body, spec) for name, body in found.items()}
     scheduled = schedule.schedule(candidates, gain, priority, spec.per_target_per_semester,
-                                  spec.per_site_per_semester)
+                                  spec.per_site_per_semester, host_of(targets))
     clear = _trials(scheduled, spec, on_progress)
-    rows, yearly, years = [], [], {}
+    rows, yearly, years, found_notes = [], [], {}, [notes.of(candidates)]
     for name, body in found.items():
         row, table, years[name] = forecast.target_summary(name, body, spec, scheduled, clear,
                                                           stacked.get(name, (0.0, 0.0)))
-        row["limited_by"] = _limit(row, body, spec, scheduled, candidates, targets, sites, engine,
-                                   stacked.get(name, (0.0, 0.0))[0])
+        row["limited_by"], limit_notes = _limit(row, body, spec, scheduled, candidates, targets, sites, engine,
+                                                stacked.get(name, (0.0, 0.0))[0])
+        found_notes.append(limit_notes)
         rows.append(row)
         yearly.append(table)
-    return CampaignResult(pd.DataFrame(rows), pd.concat(yearly, ignore_index=True), _ledger(scheduled, clear), years)
+    return CampaignResult(pd.DataFrame(rows), pd.concat(yearly, ignore_index=True), _ledger(scheduled, clear), years,
+                          notes.merged(*found_notes))
 
 
-def _limit(row, body, spec, scheduled, candidates, targets, sites, engine, prior_in_h: float) -> str:
-    """limited_by for one target; hours already stacked (journal) count towards every option."""
+def _limit(row, body, spec, scheduled, candidates, targets, sites, engine, prior_in_h: float):
+    """(limited_by, notes) for one target; hours already stacked (journal) count towards every
+    option. Where even every counted window falls short, the windows are computed again with
+    K = 0 (no timing padding) to tell "ephemeris too stale" from "too few windows"."""
     name = row["target"]
     mine = candidates[candidates["target"] == name]
     ratio = float(mine["baseline_h"].sum() / mine["in_transit_h"].sum()) if len(mine) else 1.0
-
-    def without_padding() -> float:
-        unpadded = _candidates(targets[targets["name"] == name], sites, spec, {**spec.constraints, "sigma_k": 0.0}, engine)
-        return prior_in_h + forecast.expected_in_transit_h(unpadded, spec, name)
-
-    return forecast.limiting_factor(row, body, spec, prior_in_h + forecast.expected_in_transit_h(scheduled, spec, name),
-                                    prior_in_h + forecast.expected_in_transit_h(candidates, spec, name),
-                                    without_padding, ratio)
+    scheduled_h = prior_in_h + forecast.expected_in_transit_h(scheduled, spec, name)
+    candidate_h = prior_in_h + forecast.expected_in_transit_h(candidates, spec, name)
+    verdict = forecast.limiting_factor(row, body, spec, scheduled_h, candidate_h, None, ratio)
+    if verdict != "too few windows":
+        return verdict, ()
+    unpadded = _candidates(targets[targets["name"] == name], sites, spec, {**spec.constraints, "sigma_k": 0.0}, engine)
+    unpadded_h = prior_in_h + forecast.expected_in_transit_h(unpadded, spec, name)
+    return forecast.limiting_factor(row, body, spec, scheduled_h, candidate_h, unpadded_h, ratio), notes.of(unpadded)
 
 
 def _ledger(scheduled: pd.DataFrame, clear: np.ndarray) -> pd.DataFrame:
     columns = ["target", "site", "epoch", "coverage", "mid_jd_utc", "start_jd_utc", "end_jd_utc",
-               "in_transit_h", "baseline_h", "telescope_h"]
+               "in_transit_h", "baseline_h", "telescope_h", "shared_with"]
     ledger = scheduled[columns].copy()
     ledger["weather"] = np.where(clear[0], "clear", "lost") if clear.size else []
     ledger["clear_share"] = clear.mean(axis=0) if clear.size else []

@@ -14,7 +14,7 @@ from pathlib import Path
 from astropy.time import Time
 
 from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
-from vigil.textfile import load_toml, spelling_hint
+from vigil.textfile import did_you_mean, load_toml, spelling_hint
 from vigil.errors import InputError
 from vigil.table_formats import FORMATS
 from vigil.target_source import CatalogueOptions
@@ -188,8 +188,8 @@ def _check_sites_known(path: Path, sites_file: Path, names: tuple[str, ...]) -> 
         return
     for name in names:
         if name not in known:
-            raise InputError(f"{path}: [campaign] sites: {name!r} is not a site of {sites_file}; expected one of "
-                             f"{', '.join(known)}")
+            raise InputError(f"{path}: [campaign] sites: {name!r} is not a site of {sites_file}"
+                             f"{did_you_mean(name, known)}; expected one of {', '.join(known)}")
 
 
 def _refresh(path: Path, table: dict) -> dict:

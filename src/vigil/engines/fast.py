@@ -1,6 +1,6 @@
 """Fast visibility engine: interval arithmetic on analytic rise/set times (numpy only).
 
-Per site, the dark intervals over the whole span are found once (local_sky.dark_intervals).
+Per site, the dark intervals over the whole span are found once (engines.darkness).
 Per transit, the target's apparent place of date gives the hour-angle half-width above the
 altitude limit; the limit is an apparent altitude, so it is lowered by the refraction there
 (constant for a site). The stretches above the limit around the culminations nearest
@@ -29,23 +29,20 @@ the same numbers bit for bit (vigil.sweep relies on this).
 
 from __future__ import annotations
 
-import logging
 from functools import lru_cache
 from typing import Callable, NamedTuple
 
 import numpy as np
 import pandas as pd
-from astropy.time import Time
 
 from vigil import intervals, local_sky, places_of_date
 from vigil.constraints import Constraints
+from vigil.engines.darkness import ground_notes, span_dark_intervals
 from vigil.sites import Site
 from vigil.sky import airmass_kasten_young
 from vigil.tabulated import BLOCKS_KEPT, Table, block_nodes
 from vigil.timescales import geocentre_mid_jd_utc, jd_tt_from_utc
 from vigil.vectors import unit_vectors
-
-log = logging.getLogger("vigil")
 
 SIDEREAL_DEG_PER_DAY = 360.98564736629  # Earth's rotation relative to the equinox, per UT day
 MOON_STEP_MIN = 20.0
@@ -54,10 +51,8 @@ MOON_STEP_MIN = 20.0
 # 26; the Moon-target angle changes no faster (triangle inequality).
 MOON_SEPARATION_RATE_DEG_PER_D = 26.0
 FACILITY_STEP_MIN = 5.0
-_NOTED_NO_NIGHT: set = set()
 SKY_STEP_D = 1.0 / 8.0
 MOON_STEP_D = 1.0 / 24.0
-_DARK_MARGIN_D = 1.0
 
 
 @lru_cache(maxsize=BLOCKS_KEPT)
@@ -235,23 +230,14 @@ def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, poi
     return row[order], np.concatenate([start, lo[clear]])[order], np.concatenate([end, hi[clear]])[order]
 
 
-@lru_cache(maxsize=64)
-def _dark_intervals(lat_deg, lon_deg, elev_m, jd_utc_start, jd_utc_end, sun_alt_deg):
-    """local_sky.dark_intervals, kept for repeated calls (chunks of a catalog share their span:
-    it is rounded out to whole days, which changes no night inside it). Read-only arrays."""
-    starts, ends = local_sky.dark_intervals(lat_deg, lon_deg, elev_m, jd_utc_start, jd_utc_end, sun_alt_deg)
-    starts.setflags(write=False)
-    ends.setflags(write=False)
-    return starts, ends
-
-
 def evaluate(windows: pd.DataFrame, site: Site, constraints: Constraints, timed: np.ndarray):
     """Observable intervals of the `timed` rows (row numbers of `windows`) and conditions at mid
     of all rows, from one pointing computation."""
     pointing = _pointing(windows, site)
     subset = _Pointing(*(a[..., timed] for a in pointing))
     row, start, end = observable_intervals(windows[timed].reset_index(drop=True), site, constraints, subset)
-    return (np.flatnonzero(timed)[row], start, end), conditions_at_mid(windows, site, pointing)
+    return ((np.flatnonzero(timed)[row], start, end), conditions_at_mid(windows, site, pointing),
+            ground_notes(windows, site, constraints))
 
 
 def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing | None = None):
@@ -261,14 +247,7 @@ def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constra
         empty = np.array([], dtype=float)
         return np.array([], dtype=int), empty, empty
     lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
-    dark_start, dark_end = _dark_intervals(site.latitude_deg, site.longitude_deg, site.elevation_m,
-                                           float(np.floor(lo.min()) - _DARK_MARGIN_D),
-                                           float(np.ceil(hi.max()) + _DARK_MARGIN_D), constraints.sun_altitude_deg)
-    if dark_start.size == 0 and (site.name, constraints.twilight) not in _NOTED_NO_NIGHT:
-        _NOTED_NO_NIGHT.add((site.name, constraints.twilight))  # once per site, not once per chunk
-        log.info("%s: the Sun's centre stays above %g deg from %s to %s: no %s darkness, so no transit there "
-                 "is observable", site.name, constraints.sun_altitude_deg, _date(lo.min()), _date(hi.max()),
-                 constraints.twilight)
+    dark_start, dark_end = span_dark_intervals(windows, site, constraints)
     pointing = _pointing(windows, site) if pointing is None else pointing
     observable = intervals.intersect(intervals.clip_to_windows(dark_start, dark_end, lo, hi),
                                      _above_limit(windows, site, constraints, pointing), n)
@@ -277,10 +256,6 @@ def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constra
     if constraints.moon_sep_deg > 0 or site.facility.moon_table:
         observable = intervals.intersect(observable, _moon_clear(windows, site, constraints, pointing), n)
     return observable
-
-
-def _date(jd_utc: float) -> str:
-    return Time(jd_utc, format="jd", scale="utc").iso[:10]
 
 
 def _facility_clear(windows: pd.DataFrame, site: Site, pointing: _Pointing):

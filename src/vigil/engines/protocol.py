@@ -13,6 +13,7 @@ import numpy as np
 import pandas as pd
 
 from vigil.constraints import Constraints
+from vigil.notes import Note
 from vigil.sites import Site
 
 # A flat interval set: (row, start, end) arrays, JD UTC (see vigil.intervals).
@@ -26,15 +27,17 @@ class Engine(Protocol):
         """JD UTC at which each transit's mid-time (column mid_bjd_tdb, BJD_TDB) is seen at the site."""
 
     def evaluate(self, windows: pd.DataFrame, site: Site, constraints: Constraints,
-                 timed: np.ndarray) -> tuple[Intervals, pd.DataFrame]:
+                 timed: np.ndarray) -> tuple[Intervals, pd.DataFrame, tuple[Note, ...]]:
         """Observable intervals inside the windows of the rows numbered by `timed` (row numbers
-        of `windows`), and the conditions at mid-transit of every row (columns alt_mid_deg,
-        airmass_mid, sun_alt_mid_deg, moon_sep_deg, moon_illumination, indexed like `windows`)."""
+        of `windows`), the conditions at mid-transit of every row (columns alt_mid_deg,
+        airmass_mid, sun_alt_mid_deg, moon_sep_deg, moon_illumination, indexed like `windows`),
+        and the notes for the user on these windows (`vigil.notes`)."""
 
 
 def evaluate_in_two_steps(observable_intervals: Callable, conditions_at_mid: Callable, windows: pd.DataFrame,
-                          site: Site, constraints: Constraints, timed: np.ndarray) -> tuple[Intervals, pd.DataFrame]:
+                          site: Site, constraints: Constraints, timed: np.ndarray,
+                          notes: tuple[Note, ...]) -> tuple[Intervals, pd.DataFrame, tuple[Note, ...]]:
     """`Engine.evaluate` for an engine whose observable intervals and conditions at mid share
-    no work: each is computed by its own function."""
+    no work: each is computed by its own function; `notes` are handed back with them."""
     row, start, end = observable_intervals(windows[timed].reset_index(drop=True), site, constraints)
-    return (np.flatnonzero(timed)[row], start, end), conditions_at_mid(windows, site)
+    return (np.flatnonzero(timed)[row], start, end), conditions_at_mid(windows, site), notes

@@ -18,6 +18,7 @@ from astropy.time import Time
 
 from vigil import intervals, sky
 from vigil.constraints import Constraints
+from vigil.engines.darkness import ground_notes
 from vigil.engines.protocol import evaluate_in_two_steps
 from vigil.sites import Site
 from vigil.timescales import bjd_tdb_to_site_time, earth_location
@@ -85,6 +86,7 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
 
 
 def evaluate(windows: pd.DataFrame, site: Site, constraints: Constraints, timed: np.ndarray):
-    """Observable intervals of the `timed` rows and conditions at mid of all rows (the
+    """Observable intervals of the `timed` rows, conditions at mid of all rows, notes (the
     `vigil.engines.protocol.Engine` interface)."""
-    return evaluate_in_two_steps(observable_intervals, conditions_at_mid, windows, site, constraints, timed)
+    return evaluate_in_two_steps(observable_intervals, conditions_at_mid, windows, site, constraints, timed,
+                                 ground_notes(windows, site, constraints))

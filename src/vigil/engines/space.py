@@ -162,8 +162,9 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
 
 def evaluate(windows: pd.DataFrame, site: Site, constraints: Constraints, timed: np.ndarray):
     """Observable intervals of the `timed` rows and conditions at mid of all rows (the
-    `vigil.engines.protocol.Engine` interface)."""
-    return evaluate_in_two_steps(observable_intervals, conditions_at_mid, windows, site, constraints, timed)
+    `vigil.engines.protocol.Engine` interface). No notes: there is no night in space, and the
+    times do not depend on the Earth's rotation."""
+    return evaluate_in_two_steps(observable_intervals, conditions_at_mid, windows, site, constraints, timed, ())
 
 
 def field_of_regard_jd_utc(ra_deg: float, dec_deg: float, space: SpaceSettings, jd_utc_start: float,

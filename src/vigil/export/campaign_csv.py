@@ -31,5 +31,5 @@ def write_campaign_csvs(result: CampaignResult, folder: Path) -> list[Path]:
     paths = [folder / "summary.csv", folder / "forecast.csv", folder / "ledger.csv"]
     write_csv(_summary(result.summary), paths[0], text_columns=("target", "limited_by"))
     write_csv(result.yearly.round(3), paths[1], text_columns=("target",))
-    write_csv(_ledger(result.ledger), paths[2], text_columns=("target", "site"))
+    write_csv(_ledger(result.ledger), paths[2], text_columns=("target", "site", "shared_with"))
     return paths
