@@ -40,11 +40,11 @@ def _varied_entries():
     """Visits covering every field, with text that a CSV writer and a spreadsheet find awkward."""
     return [
         _visit(in_transit_h=2.5, baseline_h=2.0, notes="first try, \"quoted\" and, commas"),
-        _executed(12, 2461136.8270212345, 0.00041, notes="=HYPERLINK(\"http://x.invalid\",\"click\")"),
+        _executed(12, 2461469.5270212345, 0.00041, notes="=HYPERLINK(\"http://x.invalid\",\"click\")"),
         _visit(epoch=13, site="Isla Quieta", start_utc="2027-03-07T21:00:00Z", end_utc="2027-03-08T01:00:00Z",
                status="executed", outcome="weather", notes="'already quoted"),
         _visit(target="+Pellucid c", epoch=-4, start_utc="2026-12-31T23:00:00Z", end_utc="2027-01-01T03:30:00Z",
-               status="executed", outcome="partial", mid_bjd_tdb=2461042.123456789, mid_err_d=1.2e-3,
+               status="executed", outcome="partial", mid_bjd_tdb=2461406.523456789, mid_err_d=1.2e-3,
                in_transit_h=1.0, notes="two lines\nsecond line; ünïcode"),
         _visit(target="+Pellucid c", epoch=-3, start_utc="2027-01-03T23:00:00Z", end_utc="2027-01-04T03:30:00Z",
                status="executed", outcome="technical", baseline_h=0.5, notes="@dome stuck"),
@@ -70,7 +70,7 @@ def test_csv_round_trip_gives_identical_entries(tmp_path):
         second.export_csv(tmp_path / "b.csv")
     pd.testing.assert_frame_equal(copied, original)
     assert (tmp_path / "a.csv").read_bytes() == (tmp_path / "b.csv").read_bytes()
-    assert original.loc[original["epoch"] == 12, "mid_bjd_tdb"].dropna().iloc[0] == 2461136.8270212345  # exact float
+    assert original.loc[original["epoch"] == 12, "mid_bjd_tdb"].dropna().iloc[0] == 2461469.5270212345  # exact float
     with open(tmp_path / "a.csv", newline="", encoding="utf-8") as handle:
         rows = list(csv.DictReader(handle))
     assert list(rows[0]) == list(COLUMNS) and len(rows) == len(original)
@@ -92,7 +92,7 @@ def test_stored_times_are_iso_8601_utc_and_equal_the_given_instant(tmp_path):
 def test_duplicate_visit_is_rejected_with_target_site_and_epoch(tmp_path):
     with open_journal(tmp_path / "j.db") as journal:
         journal.add(_visit())
-        journal.add(_executed(12, 2461136.827, 4e-4))  # same visit, now executed: a different record
+        journal.add(_executed(12, 2461469.527, 4e-4))  # same visit, now executed: a different record
         before = journal.entries()
         with pytest.raises(InputError, match=r"planned visit of target 'Marrow b' at site 'Cerro Lento', epoch 12, "
                                              r"is already in the journal"):
@@ -211,7 +211,7 @@ def test_other_entry_checks_give_one_clear_line(tmp_path):
             (_visit(colour="red"), "unknown field.*colour"),
             (_visit(end_utc="2027-03-04T20:00:00Z"), "field end_utc: expected a time after start_utc"),
             (_visit(status="executed"), "field outcome: expected one of clear, partial, weather, technical"),
-            (_visit(status="executed", outcome="weather", mid_bjd_tdb=2461136.8, mid_err_d=1e-3),
+            (_visit(status="executed", outcome="weather", mid_bjd_tdb=2461469.5, mid_err_d=1e-3),
              "field mid_bjd_tdb: a measured mid-time needs an executed clear or partial visit"),
             (_executed(12, 61136.8, 1e-3), "field mid_bjd_tdb: expected a full Julian date"),
             (_executed(12, 2461136.8, -1e-3), "field mid_err_d: expected a positive uncertainty in days"),
@@ -242,7 +242,8 @@ def test_timings_feed_refit_and_recover_a_known_ephemeris(tmp_path):
         journal.add(_visit(epoch=999, status="executed", outcome="weather", start_utc="2029-01-01T00:00:00Z",
                            end_utc="2029-01-01T03:00:00Z"))
         timings = journal.timings()
-    assert list(timings.columns) == ["target", "mid_bjd_tdb", "mid_err_d", "note"] and len(timings) == epochs.size
+    assert list(timings.columns) == ["target", "mid_bjd_tdb", "mid_err_d", "note", "epoch", "forced"]
+    assert len(timings) == epochs.size and not timings["forced"].any()
     catalogue = pd.DataFrame({"name": ["Marrow b"], "ra_deg": [75.0], "dec_deg": [12.0],
                               "t0_bjd_tdb": [TRUE_T0_BJD_TDB + 0.002], "t0_err_d": [3e-3],
                               "period_d": [TRUE_PERIOD_D - 3e-6], "period_err_d": [2e-5], "duration_h": [2.2]})
@@ -264,7 +265,7 @@ def test_executed_hours_sum_clear_and_partial_visits_only(tmp_path):
     with open_journal(tmp_path / "j.db") as journal:
         for entry in _varied_entries():
             journal.add(entry)
-        journal.add(_executed(40, 2461217.28, 5e-4, target="+Pellucid c", start_utc="2027-06-01T01:00:00Z",
+        journal.add(_executed(40, 2461557.6, 5e-4, target="+Pellucid c", start_utc="2027-06-01T01:00:00Z",
                               end_utc="2027-06-01T05:30:00Z"))
         hours = journal.executed_hours().set_index("target")
         table = journal.entries()
@@ -297,7 +298,7 @@ def test_export_neutralises_formula_text_for_spreadsheets(tmp_path):
     assert "'+Pellucid c" in {row["target"] for row in rows}
     assert "''already quoted" in notes  # an apostrophe of the user's own is doubled, so import restores it
     numbers = [float(row["mid_bjd_tdb"]) for row in rows if row["mid_bjd_tdb"]]
-    assert 2461042.123456789 in numbers  # numeric cells stay numbers
+    assert 2461406.523456789 in numbers  # numeric cells stay numbers
 
 
 def test_planned_visits_from_a_campaign_visits_table(tmp_path):

@@ -7,6 +7,7 @@ import pytest
 import vigil  # noqa: F401  (configures astropy offline before astropy is used)
 from vigil.ephemeris import upkeep
 from vigil.ephemeris.models import mid_sigma_d
+from vigil.errors import InputError
 from vigil.journal import open_journal
 from vigil.ephemeris.fitting import fit_polynomial
 from vigil.ephemeris.staleness import refresh_sigma
@@ -69,10 +70,45 @@ def test_journal_hours_and_timings_start_the_campaign(tmp_path):
     baseline = run(campaign_spec(), targets_table({})).summary.iloc[0]
     needed = baseline["hours_needed"]
     with open_journal(spec.journal_file) as journal:
-        journal.add({"target": GIANT["name"], "site": "cerro_tordo", "epoch": 1, "start_utc": "2030-12-01T01:00:00Z",
-                     "end_utc": "2030-12-03T01:00:00Z", "status": "executed", "outcome": "clear",
+        journal.add({"target": GIANT["name"], "site": "cerro_tordo", "epoch": 1, "start_utc": "2031-01-01T06:00:00Z",
+                     "end_utc": "2031-01-03T06:00:00Z", "status": "executed", "outcome": "clear",
                      "mid_bjd_tdb": GIANT["t0_bjd_tdb"] + GIANT["period_d"], "mid_err_d": 1e-4,
                      "in_transit_h": needed, "baseline_h": needed})
     started = run(spec, targets_table({})).summary.iloc[0]
     assert started["years_to_goal_p50"] == 0.0 and baseline["years_to_goal_p50"] > 0.0
     assert started["in_transit_hours_per_year"] == pytest.approx(baseline["in_transit_hours_per_year"], rel=1e-6)
+
+
+def test_far_timing_is_refused_unless_forced_and_the_journal_epoch_is_kept():
+    # A timing 1.5 d after its prediction (more than 5 combined sigma, vigil.ephemeris.timing_checks)
+    # is refused; forced, it is used at the epoch the journal gave (400, so it pulls P up), not at the
+    # nearest predicted transit (401, 1.0 d later, which would pull P down).
+    # Reference for the forced case: the Gaussian update formula (refresh_sigma) at that epoch.
+    row = {"name": "x", "t0_bjd_tdb": 2461000.0, "period_d": 2.5, "t0_err_d": 1e-3, "period_err_d": 2e-5,
+           "t0_period_cov_d2": 0.0}
+    far = pd.DataFrame({"target": ["x"], "mid_bjd_tdb": [2461000.0 + 400 * 2.5 + 1.5], "mid_err_d": [5e-4],
+                        "epoch": [400], "forced": [False]})
+    with pytest.raises(InputError, match="x.*combined sigma.*--force"):
+        upkeep.assimilate_timings(pd.DataFrame([row]), far)
+    got = upkeep.assimilate_timings(pd.DataFrame([row]), far.assign(forced=True)).iloc[0]
+    expected = refresh_sigma(1e-3, 2e-5, 0.0, 400, 5e-4)
+    assert got["period_err_d"] == pytest.approx(expected.period_err_d, rel=1e-12)
+    assert got["period_d"] > 2.5 + 1e-3
+
+
+def test_quadratic_ephemeris_is_updated_in_all_three_parameters():
+    # A quadratic targets row (dp_dn columns) updated by a timing equals the weighted least-squares
+    # fit with the row as prior (vigil.ephemeris.fitting, checked against numpy.polyfit).
+    from vigil.ephemeris.models import target_ephemerides
+
+    row = {"name": "q", "t0_bjd_tdb": 2461000.0, "period_d": 1.09, "t0_err_d": 2e-4, "period_err_d": 1e-6,
+           "t0_period_cov_d2": 0.0, "dp_dn_d": -1e-9, "dp_dn_err_d": 3e-10}
+    timing = pd.DataFrame({"target": ["q"], "mid_bjd_tdb": [2461000.0 + 3000 * 1.09 - 4.5e-3 - 2e-4],
+                           "mid_err_d": [3e-4], "epoch": [3000], "forced": [False]})
+    got = upkeep.assimilate_timings(pd.DataFrame([row]), timing)
+    updated = target_ephemerides(got)[0]
+    prior = target_ephemerides(pd.DataFrame([row]))[0]
+    fit = fit_polynomial([3000], timing["mid_bjd_tdb"], [3e-4], degree=2, prior=prior).ephemeris
+    for epoch in (0, 3000, 6000):
+        assert float(updated.mid_bjd_tdb(epoch)) == pytest.approx(float(fit.mid_bjd_tdb(epoch)), abs=1e-8)
+        assert float(updated.mid_sigma_d(epoch)) == pytest.approx(float(fit.mid_sigma_d(epoch)), rel=1e-6)

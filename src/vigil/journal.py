@@ -39,6 +39,7 @@ import pandas as pd
 from astropy.time import Time
 
 from vigil.timescales import MIN_PLAUSIBLE_JD
+from vigil.ephemeris.timing_checks import is_forced, outside_visit
 from vigil.errors import InputError
 from vigil.export.table import iso_utc, write_csv
 
@@ -213,7 +214,8 @@ class Journal:
         return pd.DataFrame(rows, columns=["target", "visits", "in_transit_h", "baseline_h"])
 
     def timings(self) -> pd.DataFrame:
-        """Measured mid-times as vigil.ephemeris.refit.refit_targets reads them: target, mid_bjd_tdb, mid_err_d, note.
+        """Measured mid-times as vigil.ephemeris.refit.refit_targets reads them: target, mid_bjd_tdb,
+        mid_err_d, note, plus the visit's epoch and whether the timing was forced past its checks.
 
         The note names the site and epoch, then the visit's notes if any.
         """
@@ -222,10 +224,10 @@ class Journal:
             "WHERE status = 'executed' AND mid_bjd_tdb IS NOT NULL ORDER BY target, mid_bjd_tdb"
         ).fetchall()
         return pd.DataFrame(
-            [(t, mid, err, f"{site} epoch {epoch}" + (f"; {notes}" if notes else ""))
+            [(t, mid, err, f"{site} epoch {epoch}" + (f"; {notes}" if notes else ""), epoch, is_forced(notes))
              for t, mid, err, site, epoch, notes in rows],
-            columns=["target", "mid_bjd_tdb", "mid_err_d", "note"],
-        )
+            columns=["target", "mid_bjd_tdb", "mid_err_d", "note", "epoch", "forced"],
+        ).astype({"epoch": np.int64, "forced": bool})
 
 
 def _insert(db: sqlite3.Connection, row: dict, where: str) -> None:
@@ -320,6 +322,11 @@ def _check_consistency(where: str, row: dict) -> None:
                          f"got status {row['status']} and outcome {row['outcome']}")
     start, end = (Time(row[c][:-1], format="isot", scale="utc") for c in ("start_utc", "end_utc"))
     span_h = (end - start).to_value("hour")
+    if row["mid_bjd_tdb"] is not None and not is_forced(row["notes"]):
+        problem = outside_visit(row["mid_bjd_tdb"], start.jd, end.jd)
+        if problem:
+            raise InputError(f"{where}, field mid_bjd_tdb: {problem} (BJD_TDB {row['mid_bjd_tdb']}); refused, "
+                             "add it with --force if it is right")
     if span_h <= 0:
         raise InputError(f"{where}, field end_utc: expected a time after start_utc {row['start_utc']}, got {row['end_utc']}")
     hours = (row["in_transit_h"] or 0.0) + (row["baseline_h"] or 0.0)

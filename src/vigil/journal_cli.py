@@ -8,6 +8,10 @@ from typing import Optional
 import typer
 
 from vigil.cli_support import out, refuse_overwrite, user_errors
+from vigil.catalog import read_targets
+from vigil.ephemeris.models import target_ephemerides
+from vigil.ephemeris.timing_checks import FORCED_MARK, far_from_prediction
+from vigil.errors import InputError
 from vigil.export.terminal_tables import journal_table
 from vigil.journal import open_journal
 
@@ -33,14 +37,34 @@ def add(
     in_transit_h: Optional[float] = typer.Option(None, "--in-transit-h", metavar="HOURS", help="In-transit hours collected."),
     baseline_h: Optional[float] = typer.Option(None, "--baseline-h", metavar="HOURS", help="Out-of-transit hours collected."),
     notes: str = typer.Option("", "--notes", metavar="TEXT", help="Free text."),
+    targets_file: Optional[Path] = typer.Option(None, "--targets", metavar="TARGETS.csv",
+                                                help="Check the mid-time against this catalogue's prediction (5 sigma)."),
+    force: bool = typer.Option(False, "--force", help="Record a mid-time that fails its checks (marked in the notes)."),
 ):
-    """Add one visit to the journal."""
+    """Add one visit to the journal.
+
+    A measured mid-time outside the visit's start and end, or (with --targets) more than 5
+    combined sigma from the prediction for its epoch, is refused unless --force.
+    """
     entry = {"target": target, "site": site, "epoch": epoch, "start_utc": start, "end_utc": end, "status": status,
              "outcome": outcome, "mid_bjd_tdb": mid_bjd_tdb, "mid_err_d": mid_err_d, "in_transit_h": in_transit_h,
-             "baseline_h": baseline_h, "notes": notes}
-    with user_errors(), open_journal(journal_file) as journal:
-        journal.add(entry)
-    typer.echo(f"added {status} visit of {target} at {site}, epoch {epoch}")
+             "baseline_h": baseline_h, "notes": f"{FORCED_MARK} {notes}".strip() if force else notes}
+    with user_errors():
+        if targets_file is not None and mid_bjd_tdb is not None and mid_err_d is not None and not force:
+            _check_against_catalogue(targets_file, target, epoch, mid_bjd_tdb, mid_err_d)
+        with open_journal(journal_file) as journal:
+            journal.add(entry)
+    typer.echo(f"added {status} visit of {target} at {site}, epoch {epoch}" + (" (timing forced)" if force else ""))
+
+
+def _check_against_catalogue(targets_file: Path, target: str, epoch: int, mid_bjd_tdb: float, mid_err_d: float):
+    targets = read_targets(targets_file)
+    row = targets[targets["name"] == target]
+    if row.empty:
+        raise InputError(f"{targets_file}: no target {target!r}")
+    problem = far_from_prediction(target_ephemerides(row)[0], epoch, mid_bjd_tdb, mid_err_d)
+    if problem:
+        raise InputError(f"--mid-bjd-tdb: {problem} in {targets_file}; refused, add it with --force if it is right")
 
 
 @journal_app.command("list")

@@ -154,6 +154,32 @@ class PolynomialEphemeris:
                              "check the sign and units of dp_dn_d (days per epoch)")
         return self.t0_epoch - 2.0 * c / (float(self.period_d) + np.sqrt(discriminant))
 
+    def updated(self, epoch: int, timing_err_d: float, mid_bjd_tdb: float | None = None) -> "PolynomialEphemeris":
+        """This ephemeris updated by one timing at `epoch` of 1-sigma timing_err_d (days).
+
+        Information (Kalman) update of theta = (T0, P, dP/dN) with covariance C by a timing
+        t = a^T theta + e, a = (1, k, k^2/2), e ~ N(0, s^2): with u = C a,
+            theta_new = theta + u (t - a^T theta) / (s^2 + a^T u),  C_new = C - u u^T / (s^2 + a^T u)
+        (exact when the ephemeris is itself a least-squares fit or a Gaussian prior; Sherman-Morrison
+        needs no inverse of C, so zero uncertainties are fine). With mid_bjd_tdb None (a timing
+        planned, its value unknown) only C shrinks. T0 stays at t0_epoch.
+
+        Examples
+        --------
+        >>> before = linear_ephemeris(2460000.0, 1e-3, 2.0, 0.0)  # sigma_T = 1e-3 d at every epoch
+        >>> round(float(before.updated(100, 1e-3).mid_sigma_d(100)) / 1e-3, 3)  # equal weights: 1/sqrt(2)
+        0.707
+        """
+        k = float(epoch) - float(self.t0_epoch)
+        a = np.array([1.0, k, 0.5 * k * k])
+        c = np.asarray(self.covariance_d2, dtype=float)
+        u = c @ a
+        denominator = timing_err_d**2 + a @ u
+        shift = 0.0 if mid_bjd_tdb is None else (mid_bjd_tdb - float(self.mid_bjd_tdb(epoch))) / denominator
+        return PolynomialEphemeris(float(self.t0_bjd_tdb) + u[0] * shift, float(self.period_d) + u[1] * shift,
+                                   float(self.dp_dn_d) + u[2] * shift, c - np.outer(u, u) / denominator,
+                                   int(self.t0_epoch))
+
     def take(self, index) -> "PolynomialEphemeris":
         """The ephemerides at `index` of a stacked one (arrays indexed, scalars kept)."""
         pick = lambda v: np.asarray(v)[index]  # noqa: E731

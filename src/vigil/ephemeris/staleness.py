@@ -26,7 +26,7 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil.ephemeris.models import PolynomialEphemeris, mid_sigma_d, target_ephemerides
+from vigil.ephemeris.models import PolynomialEphemeris, linear_ephemeris, mid_sigma_d, target_ephemerides
 from vigil.errors import InputError
 
 DURATION_FRACTION = 0.25
@@ -216,10 +216,7 @@ def refresh_sigma(t0_err_d: float, period_err_d: float, cov_d2: float, epoch: in
     _check_positive("timing_err_d", timing_err_d, "days")
     if isinstance(epoch, bool) or not float(epoch).is_integer():
         raise InputError(f"epoch: expected a whole transit number, got {epoch!r}")
-    covariance = np.array([[t0_err_d**2, cov_d2], [cov_d2, period_err_d**2]], dtype=float)
-    a = np.array([1.0, float(epoch)])
-    u = covariance @ a
-    refreshed = covariance - np.outer(u, u) / (timing_err_d**2 + a @ u)
+    refreshed = linear_ephemeris(0.0, t0_err_d, 1.0, period_err_d, cov_d2).updated(int(epoch), timing_err_d).covariance_d2
     return EphemerisSigma(float(math.sqrt(max(refreshed[0, 0], 0.0))), float(math.sqrt(max(refreshed[1, 1], 0.0))),
                           float(refreshed[0, 1]))
 

@@ -1,10 +1,13 @@
 """Ephemeris upkeep during a campaign: measured timings folded in, planned refreshes applied.
 
-Both use the information (Kalman) update of a linear ephemeris theta = (T0, P) with covariance
-C by a timing t at epoch n of 1-sigma s (derivation in staleness.refresh_sigma):
-    gain g = C a / (s^2 + a^T C a),  theta_new = theta + g (t - a^T theta),  C_new = C - g a^T C,
-with a = (1, n). A measured timing moves T0 and P; a planned refresh (its value unknown in
-advance) only shrinks C. T0 stays at its reference epoch.
+Both are the information update of each target's ephemeris by one timing
+(vigil.ephemeris.models.PolynomialEphemeris.updated): a measured timing moves T0 and P (and
+dP/dN for a quadratic ephemeris) and shrinks their covariance; a planned refresh, its value
+unknown in advance, only shrinks the covariance. T0 stays at its reference epoch.
+
+A journal timing keeps the epoch the journal recorded (catalogue numbering) and is refused
+when it lies more than 5 combined sigma from the prediction for that epoch, unless it was
+forced into the journal (vigil.ephemeris.timing_checks).
 """
 
 from __future__ import annotations
@@ -13,55 +16,68 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
+from vigil.ephemeris.models import PolynomialEphemeris, target_ephemerides
+from vigil.ephemeris.timing_checks import far_from_prediction
 from vigil.errors import InputError
-from vigil.ephemeris.staleness import refresh_sigma
 
 DAYS_PER_YEAR = 365.25
 
 
-def _state(row) -> tuple[np.ndarray, np.ndarray]:
-    cov = row.t0_period_cov_d2
-    return (np.array([row.t0_bjd_tdb, row.period_d]),
-            np.array([[row.t0_err_d ** 2, cov], [cov, row.period_err_d ** 2]]))
-
-
-def _with_state(targets: pd.DataFrame, i: int, theta: np.ndarray, covariance: np.ndarray) -> None:
-    targets.iloc[i, targets.columns.get_indexer(["t0_bjd_tdb", "period_d", "t0_err_d", "period_err_d",
-                                                 "t0_period_cov_d2"])] = [
-        theta[0], theta[1], np.sqrt(max(covariance[0, 0], 0.0)), np.sqrt(max(covariance[1, 1], 0.0)),
-        covariance[0, 1]]
+def _with_model(targets: pd.DataFrame, i: int, model: PolynomialEphemeris) -> None:
+    """Write the model's ephemeris columns into row i (quadratic columns only for a quadratic model)."""
+    c = np.asarray(model.covariance_d2)
+    values = {"t0_bjd_tdb": model.t0_bjd_tdb, "period_d": model.period_d, "t0_err_d": np.sqrt(max(c[0, 0], 0.0)),
+              "period_err_d": np.sqrt(max(c[1, 1], 0.0)), "t0_period_cov_d2": c[0, 1]}
+    if model.kind == "quadratic":
+        values.update({"dp_dn_d": model.dp_dn_d, "dp_dn_err_d": np.sqrt(max(c[2, 2], 0.0)),
+                       "t0_dp_dn_cov_d2": c[0, 2], "period_dp_dn_cov_d2": c[1, 2]})
+    for column, value in values.items():
+        if column not in targets.columns:
+            targets[column] = np.nan
+        targets.iloc[i, targets.columns.get_loc(column)] = float(value)
 
 
 def assimilate_timings(targets: pd.DataFrame, timings: pd.DataFrame) -> pd.DataFrame:
-    """Targets whose ephemerides include measured mid-times (target, mid_bjd_tdb, mid_err_d).
+    """Targets whose ephemerides include measured mid-times (target, mid_bjd_tdb, mid_err_d, and
+    optionally epoch and forced as vigil.journal.Journal.timings gives them).
 
-    The catalog ephemeris acts as the prior (exact if it was itself a least-squares fit);
-    each timing's epoch is the nearest whole number of periods from T0.
+    The catalogue ephemeris acts as the prior (exact if it was itself a least-squares fit). A
+    timing without an epoch takes the nearest whole epoch of the prediction. InputError when a
+    timing that was not forced lies more than 5 combined sigma from its prediction.
+
+    Examples
+    --------
+    >>> targets = pd.DataFrame([{"name": "b", "t0_bjd_tdb": 2460000.0, "t0_err_d": 1e-3, "period_d": 2.0,
+    ...                          "period_err_d": 1e-5, "t0_period_cov_d2": 0.0}])
+    >>> timing = pd.DataFrame({"target": ["b"], "mid_bjd_tdb": [2460200.0], "mid_err_d": [1e-3]})
+    >>> float(assimilate_timings(targets, timing)["t0_err_d"].iloc[0]) < 1e-3
+    True
     """
     out = targets.copy()
+    models = target_ephemerides(out)
     by_name = {name: i for i, name in enumerate(out["name"])}
-    for timing in timings.itertuples(index=False):
-        if timing.target not in by_name:
-            raise InputError(f"journal timing of {timing.target!r}: no such target in the targets file")
-        i = by_name[timing.target]
-        theta, covariance = _state(out.iloc[i])
-        epoch = round((timing.mid_bjd_tdb - theta[0]) / theta[1])
-        a = np.array([1.0, float(epoch)])
-        gain = covariance @ a / (timing.mid_err_d ** 2 + a @ covariance @ a)
-        theta = theta + gain * (timing.mid_bjd_tdb - a @ theta)
-        _with_state(out, i, theta, covariance - np.outer(gain, a @ covariance))
+    for timing in timings.to_dict("records"):
+        if timing["target"] not in by_name:
+            raise InputError(f"journal timing of {timing['target']!r}: no such target in the targets file")
+        i = by_name[timing["target"]]
+        model = models[i]
+        epoch = timing.get("epoch")
+        epoch = int(round(model.epoch_at(timing["mid_bjd_tdb"]))) if epoch is None or pd.isna(epoch) else int(epoch)
+        problem = far_from_prediction(model, epoch, timing["mid_bjd_tdb"], timing["mid_err_d"])
+        if problem and not timing.get("forced", False):
+            raise InputError(f"journal timing of {timing['target']!r} at BJD_TDB {timing['mid_bjd_tdb']}: {problem}; "
+                             "refused (check its epoch, or record it with --force)")
+        models[i] = model.updated(epoch, timing["mid_err_d"], timing["mid_bjd_tdb"])
+        _with_model(out, i, models[i])
     return out
 
 
 def refreshed(targets: pd.DataFrame, when: Time, timing_err_d: float) -> pd.DataFrame:
     """Targets after one refresh timing each (1-sigma timing_err_d) at the transit nearest `when`."""
     out = targets.copy()
-    for i, row in enumerate(out.itertuples(index=False)):
-        epoch = round((when.tdb.jd - row.t0_bjd_tdb) / row.period_d)
-        sigma = refresh_sigma(row.t0_err_d, row.period_err_d, row.t0_period_cov_d2, epoch, timing_err_d)
-        _with_state(out, i, np.array([row.t0_bjd_tdb, row.period_d]),
-                    np.array([[sigma.t0_err_d ** 2, sigma.t0_period_cov_d2],
-                              [sigma.t0_period_cov_d2, sigma.period_err_d ** 2]]))
+    for i, model in enumerate(target_ephemerides(out)):
+        epoch = int(round(model.epoch_at(when.tdb.jd)))
+        _with_model(out, i, model.updated(epoch, timing_err_d))
     return out
 
 
