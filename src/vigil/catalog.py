@@ -21,7 +21,7 @@ import pandas as pd
 from astropy.coordinates import Angle
 from astropy.time import Time
 
-from vigil import bodies
+from vigil import bodies, schema
 from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
 from vigil.errors import InputError
 from vigil.facility import FACILITY_KEYS, read_facility
@@ -236,7 +236,7 @@ def read_targets(path: str | Path, options: CatalogueOptions | None = None) -> p
     extra = [c for c in table.columns if c not in parsed.columns and c not in ("ra", "dec")]
     result = pd.concat([parsed, table[extra].reset_index(drop=True)], axis=1)
     result.attrs["source_lines"] = dict(zip(parsed["name"], table.index))
-    return result
+    return schema.TARGETS.check(result)
 
 
 def _timing_row(path: Path, line: int, row: pd.Series) -> dict:

@@ -22,6 +22,8 @@ from vigil.cli_options import (BASELINE_OPTION, COVERAGE_OPTION, MIN_ALTITUDE_OP
                                MOON_SEP_OPTION, SIGMA_OPTION, SITE_OPTION, SITES_OPTION, TWILIGHT_OPTION,
                                constraint_overrides)
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
+from vigil.ephemeris.projection import with_models
+from vigil.ephemeris.table import read_ephemeris_table
 from vigil.errors import InputError
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
@@ -139,11 +141,14 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
                  include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast",
                  event: str = "transit", local_time: bool = False, jobs: int = 1, scheduler: str | None = None,
                  chunk_dir: Path | None = None, catalogue: CatalogueOptions = CatalogueOptions(),
-                 coverage: str | None = None, min_fraction: float | None = None, keep_all: bool = False) -> WindowsRun:
+                 tables: dict | None = None, coverage: str | None = None, min_fraction: float | None = None,
+                 keep_all: bool = False) -> WindowsRun:
     """Plan, write the CSV piece by piece and the calendar; return the coverage tally, the sites
     and the windows kept: all of them with a calendar or `keep_all`, else the first UPCOMING_ROWS."""
     chosen = parse_coverage(coverage)
     targets = catalog.read_targets(targets_file, catalogue)
+    if tables:
+        targets = with_models(targets, tables)
     sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
     start_time, end_time = _parse_date(start, "--start"), _parse_end(end)
     keep_all = keep_all or ics_path is not None
@@ -216,6 +221,11 @@ def windows(
     fmt: Optional[str] = FORMAT_OPTION,
     columns: Optional[Path] = COLUMNS_OPTION,
     strict: bool = STRICT_OPTION,
+    ephemeris_table: Optional[Path] = typer.Option(None, "--ephemeris-table", metavar="TABLE.csv",
+                                                   help="Predicted mid-times per epoch (target, epoch, mid_bjd_tdb, "
+                                                        "mid_err_d) replacing the named targets' ephemerides."),
+    extrapolate_table: bool = typer.Option(False, "--extrapolate-table", help="Beyond a table's span, continue it "
+                                           "linearly (otherwise dates outside it are refused)."),
 ):
     """List the transits observable from your sites, with their windows, coverage and conditions.
 
@@ -227,9 +237,10 @@ def windows(
     with user_errors():
         _check_options(overrides)
         refuse_overwrite((csv_path, ics_path, html_path), force)
+        tables = read_ephemeris_table(ephemeris_table, extrapolate_table) if ephemeris_table is not None else None
         run = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
                            _engine(exact), event.lower(), local_time, jobs, scheduler, chunk_dir,
-                           CatalogueOptions(fmt, columns, strict), coverage, min_fraction,
+                           CatalogueOptions(fmt, columns, strict), tables, coverage, min_fraction,
                            keep_all=html_path is not None)
         if html_path is not None:
             write_html(html_path, html_page(f"Transit windows {start} to {end}",

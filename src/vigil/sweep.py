@@ -29,7 +29,7 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil import notes, windows
+from vigil import notes, schema, windows
 from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.notes import Note
@@ -243,7 +243,6 @@ def _joined(tables: list[pd.DataFrame], sort: bool) -> pd.DataFrame:
     found = notes.merged(*(notes.of(t) for t in tables))
     filled = [t for t in tables if len(t)]
     if not filled:
-        typed = [t for t in tables if "ra_deg" in t.columns]
-        return notes.attach((typed or tables)[0], found)
+        return notes.attach(schema.WINDOWS.empty(), found)
     joined = pd.concat(filled, ignore_index=True) if len(filled) > 1 else filled[0]
     return notes.attach(windows.in_time_order(joined) if sort else joined.reset_index(drop=True), found)

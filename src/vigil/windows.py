@@ -52,18 +52,18 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
     (`vigil.notes.of`), for the caller to report."""
     if not end > start:
         raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
-    transits = project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
-                                          end.tdb.jd + _LIGHT_TIME_MARGIN_D, event)
+    transits = schema.TRANSITS.check(project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
+                                                      end.tdb.jd + _LIGHT_TIME_MARGIN_D, event))
     tables = [site_windows(transits, site, resolve_constraints(site.defaults, overrides), start, end, engine)
               for site in sites.values() if not transits.empty]
     found = notes.merged(*(notes.of(t) for t in tables))
     tables = [t for t in tables if not t.empty]
     if not tables:
-        return notes.attach(pd.DataFrame(columns=[*schema.TRANSIT_COLUMNS, *schema.WINDOW_COLUMNS]), found)
+        return notes.attach(schema.WINDOWS.empty(), found)
     table = pd.concat(tables, ignore_index=True)
     if not include_unobservable:
-        table = table[table["coverage"] != "none"]
-    return notes.attach(in_time_order(table), found)
+        table = table[table[schema.COVERAGE] != "none"]
+    return notes.attach(schema.WINDOWS.check(in_time_order(table)), found)
 
 
 def in_time_order(table: pd.DataFrame) -> pd.DataFrame:

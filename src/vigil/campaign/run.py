@@ -9,7 +9,7 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from vigil import bodies, forecast, notes
+from vigil import bodies, forecast, notes, schema
 from vigil.campaign import schedule, weather
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.spec import CampaignSpec
@@ -100,7 +100,8 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
         found_notes.append(limit_notes)
         rows.append(row)
         yearly.append(table)
-    return CampaignResult(pd.DataFrame(rows), pd.concat(yearly, ignore_index=True), _ledger(scheduled, clear), years,
+    return CampaignResult(schema.SUMMARY.check(pd.DataFrame(rows)),
+                          schema.FORECAST.check(pd.concat(yearly, ignore_index=True)), _ledger(scheduled, clear), years,
                           notes.merged(*found_notes))
 
 
@@ -122,9 +123,9 @@ def _limit(row, body, spec, scheduled, candidates, targets, sites, engine, prior
 
 
 def _ledger(scheduled: pd.DataFrame, clear: np.ndarray) -> pd.DataFrame:
-    columns = ["target", "site", "epoch", "coverage", "mid_jd_utc", "start_jd_utc", "end_jd_utc",
-               "in_transit_h", "baseline_h", "telescope_h", "shared_with"]
-    ledger = scheduled[columns].copy()
-    ledger["weather"] = np.where(clear[0], "clear", "lost") if clear.size else []
-    ledger["clear_share"] = clear.mean(axis=0) if clear.size else []
-    return ledger
+    """The visits of trial 0 with their weather, and the share of trials in which each was clear."""
+    ledger = scheduled[[c for c in schema.LEDGER.names if c in scheduled.columns]].copy()
+    first = clear[0] if clear.size else np.zeros(len(ledger), dtype=bool)
+    ledger["weather"] = pd.Categorical(np.where(first, "clear", "lost"), categories=("clear", "lost"))
+    ledger["clear_share"] = clear.mean(axis=0) if clear.size else np.zeros(len(ledger))
+    return schema.LEDGER.check(ledger)

@@ -18,6 +18,7 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
+from vigil import schema
 from vigil.hosts import overlap_groups
 
 
@@ -41,14 +42,14 @@ def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str,
     # the local noon-to-noon day (JD starts at noon UT); a space site keeps UTC days
     east_deg = {name: 0.0 if site.kind == "space" else site.longitude_deg for name, site in sites.items()}
     local_day = np.floor(w["mid_jd_utc"].to_numpy() + w["site"].map(east_deg).to_numpy() / 360.0)
-    return pd.DataFrame({
+    return schema.VISITS.check(pd.DataFrame({
         "target": w["target"], "site": w["site"], "epoch": w["epoch"], "coverage": w["coverage"],
         "mid_jd_utc": w["mid_jd_utc"], "start_jd_utc": start, "end_jd_utc": end,
         "in_transit_h": inside * HOURS_PER_DAY,
         "baseline_h": (end - start - inside) * HOURS_PER_DAY,
         "telescope_h": (end - start) * HOURS_PER_DAY + overhead_h,
         "night": local_day.astype(np.int64), "month": months, "half_year": years * 2 + (months > 6),
-    })
+    }))
 
 
 def _month_year(jd_utc: np.ndarray):

@@ -12,6 +12,7 @@ quadrature (the timing variations themselves are not predicted beyond the table)
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 from pathlib import Path
 
 import numpy as np
@@ -47,6 +48,7 @@ class TableEphemeris:
         n = np.asarray(epochs)
         return (n >= self.epochs[0]) & (n <= self.epochs[-1])
 
+    @cached_property
     def _trend(self) -> tuple[PolynomialEphemeris, float]:
         fit = fit_polynomial(self.epochs, self.mids_bjd_tdb, self.errors_d, degree=1)
         rms_d = float(np.sqrt(np.mean((self.mids_bjd_tdb - fit.ephemeris.mid_bjd_tdb(self.epochs)) ** 2)))
@@ -61,7 +63,7 @@ class TableEphemeris:
 
     def epoch_range(self, start_bjd_tdb: float, end_bjd_tdb: float) -> tuple[int, int]:
         self._refuse(start_bjd_tdb, end_bjd_tdb)
-        first, last = self._trend()[0].epoch_range(start_bjd_tdb, end_bjd_tdb)
+        first, last = self._trend[0].epoch_range(start_bjd_tdb, end_bjd_tdb)
         mids = self.mid_bjd_tdb(np.arange(first - 1, last + 2))  # timing variations can cross an edge
         inside = np.flatnonzero((mids >= start_bjd_tdb) & (mids <= end_bjd_tdb)) + first - 1
         return (int(inside[0]), int(inside[-1])) if inside.size else (first, first - 1)
@@ -69,7 +71,7 @@ class TableEphemeris:
     def mid_bjd_tdb(self, epochs) -> np.ndarray:
         n = np.asarray(epochs, dtype=np.int64)
         inside = self._inside(n)
-        out = np.asarray(self._trend()[0].mid_bjd_tdb(n), dtype=float) if not inside.all() else np.empty(n.shape)
+        out = np.asarray(self._trend[0].mid_bjd_tdb(n), dtype=float) if not inside.all() else np.empty(n.shape)
         out[inside] = self.mids_bjd_tdb[n[inside] - self.epochs[0]]
         return out
 
@@ -78,7 +80,7 @@ class TableEphemeris:
         inside = self._inside(n)
         out = np.empty(n.shape)
         if not inside.all():
-            trend, rms_d = self._trend()
+            trend, rms_d = self._trend
             out = np.hypot(trend.mid_sigma_d(n), rms_d)
         out[inside] = self.errors_d[n[inside] - self.epochs[0]]
         return out
@@ -111,6 +113,9 @@ def read_ephemeris_table(path: str | Path, extrapolate: bool = False) -> dict[st
         rows = rows.sort_values("epoch")
         epochs = rows["epoch"].to_numpy().astype(np.int64)
         steps = np.diff(epochs)
+        if epochs.size < 2:
+            raise InputError(f"{path}: line {rows['_line'].iat[0]}: target {target!r} has one row; a table needs two "
+                             "or more consecutive epochs")
         if np.any(steps != 1):
             i = int(np.flatnonzero(steps != 1)[0]) + 1
             raise InputError(f"{path}: line {rows['_line'].iat[i]}, field epoch: expected consecutive epochs for "

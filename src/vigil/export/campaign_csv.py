@@ -7,6 +7,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from vigil import schema
 from vigil.export.table import iso_utc, write_csv
 from vigil.campaign.result import CampaignResult
 
@@ -29,7 +30,7 @@ def _ledger(ledger: pd.DataFrame) -> pd.DataFrame:
 def write_campaign_csvs(result: CampaignResult, folder: Path) -> list[Path]:
     """summary.csv, forecast.csv and ledger.csv in `folder` (atomic writes)."""
     paths = [folder / "summary.csv", folder / "forecast.csv", folder / "ledger.csv"]
-    write_csv(_summary(result.summary), paths[0], text_columns=("target", "limited_by"))
-    write_csv(result.yearly.round(3), paths[1], text_columns=("target",))
-    write_csv(_ledger(result.ledger), paths[2], text_columns=("target", "site", "shared_with"))
+    write_csv(_summary(schema.SUMMARY.check(result.summary)), paths[0], text_columns=("target", "limited_by"))
+    write_csv(schema.FORECAST.check(result.yearly).round(3), paths[1], text_columns=("target",))
+    write_csv(_ledger(schema.LEDGER.check(result.ledger)), paths[2], text_columns=("target", "site", "shared_with"))
     return paths

@@ -7,6 +7,7 @@ from zoneinfo import ZoneInfo
 
 import pandas as pd
 
+from vigil import schema
 from vigil.export.files import atomic_stream
 from vigil.export.table import csv_bytes, iso_utc
 
@@ -68,7 +69,7 @@ def write_windows_csv_pieces(pieces: Iterable[pd.DataFrame], path, timezones: di
     """
     with atomic_stream(path) as stream:
         for number, windows in enumerate(pieces):
-            table = windows_for_export(windows)
+            table = windows_for_export(schema.WINDOWS.check(windows))
             if timezones is not None:
                 table = pd.concat([table, local_times(windows, timezones)], axis=1)
             stream.write(csv_bytes(table, text_columns=("target", "site", "shared_with"), header=number == 0))
