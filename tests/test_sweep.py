@@ -128,3 +128,13 @@ def test_duplicate_target_names_are_refused(catalog, demo_sites):
 def test_end_before_start_is_refused_like_plan_windows(catalog, demo_sites):
     with pytest.raises(InputError, match="must come after"):
         sweep.plan_windows_chunked(catalog, demo_sites, {}, END, START)
+
+
+def test_time_order_equals_pandas_three_key_sort(catalog, demo_sites):
+    # Reference: pandas' stable sort_values on (mid_jd_utc, target, site); the fast engine's
+    # mid-times are geocentric, so every transit ties across the three sites.
+    table = windows.plan_windows(catalog, demo_sites, {}, START, END, include_unobservable=True, ordered=False)
+    shuffled = table.sample(frac=1.0, random_state=3).reset_index(drop=True)
+    expected = shuffled.sort_values(["mid_jd_utc", "target", "site"], kind="stable").reset_index(drop=True)
+    assert expected["mid_jd_utc"].duplicated().sum() > 100
+    pd.testing.assert_frame_equal(windows.in_time_order(shuffled), expected, check_exact=True)

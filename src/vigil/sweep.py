@@ -181,7 +181,8 @@ def _plan_chunk(task: _Task) -> tuple[pd.DataFrame | str, tuple[Note, ...]]:
     """One task through `windows.plan_windows`: its table, or the path of the Parquet file it
     was written to, and its notes (module level, so that spawned and remote workers can run it).
     The notes travel beside the table: Parquet files do not keep them."""
-    table = windows.plan_windows(task.targets, task.sites, task.overrides, task.start, task.end, **task.settings)
+    table = windows.plan_windows(task.targets, task.sites, task.overrides, task.start, task.end, **task.settings,
+                                 ordered=False)
     found = notes.of(table)
     if task.cut_jd_utc is not None:
         table = table[table["mid_jd_utc"].to_numpy(dtype=float) < task.cut_jd_utc].reset_index(drop=True)

@@ -23,7 +23,7 @@ def pad_windows(transits: pd.DataFrame, constraints: Constraints) -> pd.DataFram
     """Add ingress, egress and the padded window (JD UTC) around each site-time mid-transit."""
     half = transits["duration_h"] / (2 * HOURS_PER_DAY)
     pad = constraints.baseline_h / HOURS_PER_DAY + constraints.sigma_k * transits["mid_sigma_d"]
-    out = transits.copy()
+    out = transits.copy(deep=False)  # copy-on-write: the new columns leave the input alone
     out["ingress_jd_utc"] = out["mid_jd_utc"] - half
     out["egress_jd_utc"] = out["mid_jd_utc"] + half
     out["window_start_jd_utc"] = out["ingress_jd_utc"] - pad
@@ -53,7 +53,7 @@ def classify(windows: pd.DataFrame, observable, sigma_k: float) -> pd.DataFrame:
     post = intervals.any_covers(row, start, end, mid - ksig, hi, n)
     codes = np.select([full, pre, post, fraction > 0], [0, 1, 2, 3], 4)  # positions in COVERAGE_CLASSES
     coverage = pd.Categorical.from_codes(codes, categories=COVERAGE_CLASSES)
-    out = windows.copy()
+    out = windows.copy(deep=False)  # copy-on-write: the new columns leave the input alone
     out["coverage"] = coverage
     out["observable_fraction"] = np.where(full, 1.0, fraction)
     out["observable_start_jd_utc"], out["observable_end_jd_utc"] = _main_stretch(observable, ingress, egress, n)

@@ -30,48 +30,69 @@ def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time, engine: 
     return out[inside].reset_index(drop=True)
 
 
-def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints,
-                 start: Time, end: Time, engine: str = "fast") -> pd.DataFrame:
-    """Windows table for one site: padded windows, coverage, conditions at mid, carrying the
-    engine's notes (`vigil.notes.of`). A site of kind space always goes to the space engine;
-    `engine` chooses for ground sites."""
+def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints, start: Time, end: Time,
+                 engine: str = "fast", include_unobservable: bool = True) -> pd.DataFrame | None:
+    """Windows table for one site: padded windows, coverage, conditions at mid (only of the rows
+    kept: every row, or those with some coverage), carrying the engine's notes
+    (`vigil.notes.of`); None if no transit falls at the site (no window, no note). A site of
+    kind space always goes to the space engine; `engine` chooses for ground sites."""
     engine_module = engine_for(site, engine)
     padded = visibility.pad_windows(at_site(transits, site, start, end, engine_module), constraints)
+    if padded.empty:
+        return None
     # Once K sigma exceeds half a period the transit's phase is lost: it cannot be planned
     # (coverage none), and its days-wide window is not handed to the engine.
     timed = (constraints.sigma_k * padded["mid_sigma_d"] < 0.5 * padded["period_d"]).to_numpy()
-    observable, conditions, found = engine_module.evaluate(padded, site, constraints, timed)
-    table = pd.concat([visibility.classify(padded, observable, constraints.sigma_k), conditions], axis=1)
-    return notes.attach(table, found)
+    observable, conditions_of, found = engine_module.evaluate(padded, site, constraints, timed)
+    classified = visibility.classify(padded, observable, constraints.sigma_k)
+    if include_unobservable:
+        rows = np.arange(len(classified))
+    else:
+        rows = np.flatnonzero((classified["coverage"] != "none").to_numpy())
+        classified = classified.take(rows).reset_index(drop=True)
+    return notes.attach(pd.concat([classified, conditions_of(rows)], axis=1), found)
 
 
 def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,
-                 engine: str = "fast", include_unobservable: bool = False, event: str = "transit") -> pd.DataFrame:
+                 engine: str = "fast", include_unobservable: bool = False, event: str = "transit",
+                 ordered: bool = True) -> pd.DataFrame:
     """All windows of one event type (transit or occultation) of all targets at all sites in
-    [start, end], sorted by time then target; the table carries the engines' notes
-    (`vigil.notes.of`), for the caller to report."""
+    [start, end], sorted by time then target then site (`in_time_order`); with ordered=False
+    by site, then target, then time (for callers that merge several tables and sort once). The
+    table carries the engines' notes (`vigil.notes.of`), for the caller to report."""
     if not end > start:
         raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
     transits = schema.TRANSITS.check(project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
                                                       end.tdb.jd + _LIGHT_TIME_MARGIN_D, event))
-    tables = [site_windows(transits, site, resolve_constraints(site.defaults, overrides), start, end, engine)
-              for site in sites.values() if not transits.empty]
+    tables = [site_windows(transits, site, resolve_constraints(site.defaults, overrides), start, end, engine,
+                           include_unobservable) for site in sites.values() if not transits.empty]
+    tables = [t for t in tables if t is not None]
     found = notes.merged(*(notes.of(t) for t in tables))
-    tables = [t for t in tables if not t.empty]
     if not tables:
         return notes.attach(schema.WINDOWS.empty(), found)
-    table = pd.concat(tables, ignore_index=True)
-    if not include_unobservable:
-        table = table[table[schema.COVERAGE] != "none"]
-    return notes.attach(schema.WINDOWS.check(in_time_order(table)), found)
+    filled = [t for t in tables if not t.empty] or tables[:1]
+    table = pd.concat(filled, ignore_index=True) if len(filled) > 1 else filled[0]
+    return notes.attach(schema.WINDOWS.check(in_time_order(table) if ordered else table.reset_index(drop=True)), found)
 
 
 def in_time_order(table: pd.DataFrame) -> pd.DataFrame:
-    """Rows sorted by mid-time, then target, then site (the three-key sort only if mid-times tie)."""
-    mid = table["mid_jd_utc"].to_numpy()
-    order = np.argsort(mid, kind="stable")
-    if np.any(np.diff(mid[order]) == 0):
-        return table.sort_values(["mid_jd_utc", "target", "site"], kind="stable").reset_index(drop=True)
+    """Rows sorted by mid-time, then target, then site (stable; names compared as strings).
+
+    Examples
+    --------
+    >>> rows = pd.DataFrame({"mid_jd_utc": [2.0, 1.0, 1.0], "target": ["a", "b", "a"], "site": ["x", "x", "y"]})
+    >>> in_time_order(rows)["target"].tolist()
+    ['a', 'b', 'a']
+    """
+    order = np.lexsort((_name_ranks(table["site"]), _name_ranks(table["target"]), table["mid_jd_utc"].to_numpy()))
     if np.all(order[1:] > order[:-1]):
         return table.reset_index(drop=True)
     return table.take(order).reset_index(drop=True)
+
+
+def _name_ranks(names: pd.Series) -> np.ndarray:
+    """Each name's rank among the distinct names (hashing, then sorting only the distinct ones)."""
+    codes, distinct = pd.factorize(names)
+    ranks = np.empty(len(distinct), dtype=np.intp)
+    ranks[np.argsort(np.asarray(distinct, dtype=object), kind="stable")] = np.arange(len(distinct))
+    return ranks[codes]

@@ -125,18 +125,18 @@ class _Pointing(NamedTuple):
 def _pointing(windows: pd.DataFrame, site: Site) -> _Pointing:
     """Each window's pointing at mid-transit; read-only arrays."""
     mid, ra, dec = (windows[c].to_numpy(dtype=float) for c in ("mid_jd_utc", "ra_deg", "dec_deg"))
-    terms = np.ascontiguousarray(SKY_TABLE.nearest(mid, _POINTING).T)
+    terms = SKY_TABLE.nearest(mid, _POINTING)  # (n, 13): its columns are read strided, not copied
     x0, y0, z0 = unit_vectors(ra, dec).T
     v = np.empty((3, mid.size))
     for r in range(3):
-        np.multiply(terms[3 * r], x0, out=v[r])
-        v[r] += terms[3 * r + 1] * y0
-        v[r] += terms[3 * r + 2] * z0
-    beta = terms[9:12]
+        np.multiply(terms[:, 3 * r], x0, out=v[r])
+        v[r] += terms[:, 3 * r + 1] * y0
+        v[r] += terms[:, 3 * r + 2] * z0
+    beta = terms[:, 9:12].T
     v_dot_beta = v[0] * beta[0] + v[1] * beta[1] + v[2] * beta[2]
     v += beta
     v -= v_dot_beta * v
-    lst = _local_sidereal_deg(mid, terms[12], site)
+    lst = _local_sidereal_deg(mid, terms[:, 12], site)
     lst_rad = np.radians(lst)
     pointing = _Pointing(v, lst, np.cos(lst_rad), np.sin(lst_rad))
     return pointing
@@ -231,13 +231,17 @@ def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, poi
 
 
 def evaluate(windows: pd.DataFrame, site: Site, constraints: Constraints, timed: np.ndarray):
-    """Observable intervals of the `timed` rows (row numbers of `windows`) and conditions at mid
-    of all rows, from one pointing computation."""
+    """Observable intervals of the `timed` rows (row numbers of `windows`) and the conditions at
+    mid of any rows asked for later, from one pointing computation."""
     pointing = _pointing(windows, site)
-    subset = _Pointing(*(a[..., timed] for a in pointing))
-    row, start, end = observable_intervals(windows[timed].reset_index(drop=True), site, constraints, subset)
-    return ((np.flatnonzero(timed)[row], start, end), conditions_at_mid(windows, site, pointing),
-            ground_notes(windows, site, constraints))
+    row, start, end = observable_intervals(windows[timed].reset_index(drop=True), site, constraints,
+                                           _Pointing(*(a[..., timed] for a in pointing)))
+    mid = windows["mid_jd_utc"].to_numpy(dtype=float)
+
+    def conditions_of(rows: np.ndarray) -> pd.DataFrame:
+        return _conditions(mid[rows], site, _Pointing(*(a[..., rows] for a in pointing)))
+
+    return (np.flatnonzero(timed)[row], start, end), conditions_of, ground_notes(windows, site, constraints)
 
 
 def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing | None = None):
@@ -274,10 +278,15 @@ def _facility_clear(windows: pd.DataFrame, site: Site, pointing: _Pointing):
     return intervals.from_samples(row, jd, site.facility.margin_deg(apparent, azimuth, ha, dec))
 
 
-def conditions_at_mid(windows: pd.DataFrame, site: Site, pointing: _Pointing | None = None) -> pd.DataFrame:
-    """Target altitude (apparent) and airmass, Sun altitude and Moon separation at mid-transit."""
-    mid = windows["mid_jd_utc"].to_numpy(dtype=float)
-    pointing = _pointing(windows, site) if pointing is None else pointing
+def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
+    """Target altitude (apparent) and airmass, Sun altitude, Moon separation and illumination at
+    mid-transit, indexed like `windows`."""
+    conditions = _conditions(windows["mid_jd_utc"].to_numpy(dtype=float), site, _pointing(windows, site))
+    return conditions.set_axis(windows.index)
+
+
+def _conditions(mid: np.ndarray, site: Site, pointing: _Pointing) -> pd.DataFrame:
+    """conditions_at_mid at the JD UTC `mid` with the pointing there (index 0, 1, ...)."""
     geometric = np.degrees(np.arcsin(np.clip(_sin_altitude(*pointing.target, pointing, site), -1.0, 1.0)))
     sun = SKY_TABLE.at(mid, SKY_SUN).T
     sin_sun_alt = _sin_altitude(*sun, pointing, site) / np.sqrt(sun[0] ** 2 + sun[1] ** 2 + sun[2] ** 2)
@@ -287,4 +296,4 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site, pointing: _Pointing | N
         "sun_alt_mid_deg": np.degrees(np.arcsin(np.clip(sin_sun_alt, -1.0, 1.0))),
         "moon_sep_deg": _moon_separation_deg(mid, pointing.target, site, pointing.lst_deg),
         "moon_illumination": MOON_TABLE.at(mid, MOON_ILLUMINATION)[:, 0],
-    }, index=windows.index)
+    })
