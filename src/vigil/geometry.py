@@ -17,9 +17,8 @@ import numpy as np
 from astropy import constants as const
 
 from vigil.errors import InputError
+from vigil.time_units import HOURS_PER_DAY, SECONDS_PER_DAY
 
-_SECONDS_PER_DAY = 86400.0
-_HOURS_PER_DAY = 24.0
 _GM_SUN_M3_S2 = const.GM_sun.si.value  # IAU 2015 nominal
 _R_SUN_M = const.R_sun.si.value  # IAU 2015 nominal
 _G_SI = const.G.si.value
@@ -59,7 +58,7 @@ def transit_duration_h(period_d, a_over_rstar, radius_ratio, impact_parameter=0.
     cos_i = b / a_over_rstar
     sin_i = np.sqrt(1.0 - cos_i**2)
     argument = np.sqrt((1.0 + k) ** 2 - b**2) / (a_over_rstar * sin_i)
-    return period_d / np.pi * np.arcsin(argument) * _HOURS_PER_DAY
+    return period_d / np.pi * np.arcsin(argument) * HOURS_PER_DAY
 
 
 def a_over_rstar_from_mass_radius(period_d, star_mass_sun, star_radius_sun):
@@ -67,7 +66,7 @@ def a_over_rstar_from_mass_radius(period_d, star_mass_sun, star_radius_sun):
 
     period_d in days, stellar mass and radius in IAU nominal solar units; numpy-broadcast.
     """
-    period_s = _positive("period_d", period_d) * _SECONDS_PER_DAY
+    period_s = _positive("period_d", period_d) * SECONDS_PER_DAY
     gm = _positive("star_mass_sun", star_mass_sun) * _GM_SUN_M3_S2
     radius_m = _positive("star_radius_sun", star_radius_sun) * _R_SUN_M
     return np.cbrt(gm * period_s**2 / (4.0 * np.pi**2)) / radius_m
@@ -76,6 +75,6 @@ def a_over_rstar_from_mass_radius(period_d, star_mass_sun, star_radius_sun):
 def a_over_rstar_from_density(period_d, star_density_kg_m3):
     """a / R* from the mean stellar density, (a / R*)^3 = G rho* P^2 / (3 pi) (planet mass
     neglected); period_d in days, density in kg m^-3; numpy-broadcast."""
-    period_s = _positive("period_d", period_d) * _SECONDS_PER_DAY
+    period_s = _positive("period_d", period_d) * SECONDS_PER_DAY
     density = _positive("star_density_kg_m3", star_density_kg_m3)
     return np.cbrt(_G_SI * density * period_s**2 / (3.0 * np.pi))

@@ -11,16 +11,14 @@ import numpy as np
 from vigil import catalog
 from vigil.cli_support import out, refuse_overwrite, setup_logging, user_errors
 from vigil.ephemeris.fitting import BIC_MARGIN, OUTLIER_RULE
-from vigil.ephemeris.refit import MINUTES_PER_DAY, TargetRefit, refit_targets
+from vigil.ephemeris.refit import TargetRefit, refit_targets
 from vigil.ephemeris.staleness import DURATION_FRACTION, stale_date
 from vigil.errors import InputError
 from vigil.export.o_minus_c_plot import plot_o_minus_c
 from vigil.export.table import write_csv
 from vigil.target_source import CatalogueOptions
+from vigil.time_units import DAYS_PER_JULIAN_YEAR, HOURS_PER_DAY, MINUTES_PER_DAY
 
-HOURS_PER_DAY = 24.0
-DAYS_PER_YEAR = 365.25
-#: How far past the last timing the printed comparison of mid-time sigmas looks.
 COMPARE_AFTER_YEARS = 2.0
 
 
@@ -68,7 +66,7 @@ def _report(fit: TargetRefit, rows, duration_h: float, sigma_k: float) -> list[s
         lines.append(f"  removed BJD_TDB {row.mid_bjd_tdb:.5f} (epoch {row.epoch}): {row.removed_by}"
                      + (f", O-C {row.o_minus_c_min:+.1f} min = {row.residual_sigma:+.1f} sigma"
                         if row.removed_by == OUTLIER_RULE else ""))
-    last = float(rows["mid_bjd_tdb"].max()) + COMPARE_AFTER_YEARS * DAYS_PER_YEAR
+    last = float(rows["mid_bjd_tdb"].max()) + COMPARE_AFTER_YEARS * DAYS_PER_JULIAN_YEAR
     epoch = int(np.round(model.epoch_at(last)))
     compare = f"  mid-time sigma {COMPARE_AFTER_YEARS:g} years after the last timing (epoch {epoch}): refit " \
               f"{float(model.mid_sigma_d(epoch)) * MINUTES_PER_DAY:.2f} min"

@@ -185,7 +185,7 @@ def _plan_chunk(task: _Task) -> tuple[pd.DataFrame | str, tuple[Note, ...]]:
                                  ordered=False)
     found = notes.of(table)
     if task.cut_jd_utc is not None:
-        table = table[table["mid_jd_utc"].to_numpy(dtype=float) < task.cut_jd_utc].reset_index(drop=True)
+        table = table[table[schema.MID_JD_UTC].to_numpy(dtype=float) < task.cut_jd_utc].reset_index(drop=True)
     if task.chunk_path is None:
         return table, found
     table.attrs.clear()  # the notes go back beside the file

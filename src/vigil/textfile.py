@@ -14,6 +14,7 @@ import csv
 import difflib
 import io
 import math
+import numbers
 import re
 import tomllib
 from pathlib import Path
@@ -200,4 +201,18 @@ def number_in_range(field: str, value, low: float, high: float, unit: str) -> fl
     """
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not low <= value <= high:
         raise InputError(f"{field}: expected a number from {low:g} to {high:g} {unit}, got {value!r}")
+    return float(value)
+
+
+def positive_number(field: str, value, unit: str) -> float:
+    """`value` as a float if it is a finite number (not a bool) above 0; else an InputError
+    "FIELD: expected a positive number UNIT, got VALUE".
+
+    Examples
+    --------
+    >>> positive_number("limit_d", 0.5, "days")
+    0.5
+    """
+    if isinstance(value, bool) or not isinstance(value, numbers.Real) or not math.isfinite(value) or value <= 0:
+        raise InputError(f"{field}: expected a positive number {unit}, got {value!r}")
     return float(value)

@@ -27,6 +27,7 @@ from astropy.utils import iers
 from vigil import notes
 from vigil.notes import Note
 from vigil.tabulated import BLOCKS_KEPT, Table, block_nodes
+from vigil.time_units import SECONDS_PER_DAY
 from vigil.vectors import row_dot, unit_vectors
 
 # Full Julian dates of the telescope era (years 1858 to 2406); smaller values are MJDs or
@@ -37,7 +38,6 @@ _ITERATIONS = 2
 _TT_MINUS_TAI_S = 32.184  # TT - TAI, IAU definition
 _FIRST_UTC_YEAR = 1960  # erfa's leap-second table starts here
 _INTEGRAL_LEAP_SECONDS_JD = 2441317.5  # 1972-01-01 0h UTC: whole leap seconds from here on
-SECONDS_PER_DAY = 86400.0
 EARTH_STEP_D = 1.0
 _AU_LIGHT_D = 499.004783836 / SECONDS_PER_DAY  # light time for one astronomical unit, days
 

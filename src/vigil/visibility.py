@@ -10,25 +10,29 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from vigil import intervals
+from vigil import intervals, schema
 from vigil.constraints import Constraints
 from vigil.ephemeris.staleness import stale_flags
 from vigil.errors import InputError
 from vigil.schema import COVERAGE_CLASSES
+from vigil.time_units import HOURS_PER_DAY
 
-HOURS_PER_DAY = 24.0
+def window_bounds(windows: pd.DataFrame) -> tuple[np.ndarray, np.ndarray]:
+    """(start, end) of each padded window, JD UTC, as float arrays."""
+    return (windows[schema.WINDOW_START_JD_UTC].to_numpy(dtype=float),
+            windows[schema.WINDOW_END_JD_UTC].to_numpy(dtype=float))
 
 
 def pad_windows(transits: pd.DataFrame, constraints: Constraints) -> pd.DataFrame:
     """Add ingress, egress and the padded window (JD UTC) around each site-time mid-transit."""
     half = transits["duration_h"] / (2 * HOURS_PER_DAY)
-    pad = constraints.baseline_h / HOURS_PER_DAY + constraints.sigma_k * transits["mid_sigma_d"]
+    pad = constraints.baseline_h / HOURS_PER_DAY + constraints.sigma_k * transits[schema.MID_SIGMA_D]
     out = transits.copy(deep=False)  # copy-on-write: the new columns leave the input alone
-    out["ingress_jd_utc"] = out["mid_jd_utc"] - half
-    out["egress_jd_utc"] = out["mid_jd_utc"] + half
-    out["window_start_jd_utc"] = out["ingress_jd_utc"] - pad
-    out["window_end_jd_utc"] = out["egress_jd_utc"] + pad
-    out["stale"] = stale_flags(out["mid_sigma_d"], out["duration_h"], constraints.sigma_k, constraints.baseline_h)
+    out[schema.INGRESS_JD_UTC] = out[schema.MID_JD_UTC] - half
+    out[schema.EGRESS_JD_UTC] = out[schema.MID_JD_UTC] + half
+    out[schema.WINDOW_START_JD_UTC] = out[schema.INGRESS_JD_UTC] - pad
+    out[schema.WINDOW_END_JD_UTC] = out[schema.EGRESS_JD_UTC] + pad
+    out["stale"] = stale_flags(out[schema.MID_SIGMA_D], out["duration_h"], constraints.sigma_k, constraints.baseline_h)
     return out
 
 
@@ -43,10 +47,10 @@ def classify(windows: pd.DataFrame, observable, sigma_k: float) -> pd.DataFrame:
     """
     row, start, end = observable
     n = len(windows)
-    lo, hi = windows["window_start_jd_utc"].to_numpy(), windows["window_end_jd_utc"].to_numpy()
-    ingress, egress = windows["ingress_jd_utc"].to_numpy(), windows["egress_jd_utc"].to_numpy()
-    mid = windows["mid_jd_utc"].to_numpy()
-    ksig = sigma_k * windows["mid_sigma_d"].to_numpy()
+    lo, hi = window_bounds(windows)
+    ingress, egress = windows[schema.INGRESS_JD_UTC].to_numpy(), windows[schema.EGRESS_JD_UTC].to_numpy()
+    mid = windows[schema.MID_JD_UTC].to_numpy()
+    ksig = sigma_k * windows[schema.MID_SIGMA_D].to_numpy()
     fraction = np.clip(intervals.overlap_per_row(row, start, end, ingress, egress, n) / (egress - ingress), 0.0, 1.0)
     full = intervals.any_covers(row, start, end, lo, hi, n)
     pre = intervals.any_covers(row, start, end, lo, mid + ksig, n)
@@ -55,8 +59,9 @@ def classify(windows: pd.DataFrame, observable, sigma_k: float) -> pd.DataFrame:
     coverage = pd.Categorical.from_codes(codes, categories=COVERAGE_CLASSES)
     out = windows.copy(deep=False)  # copy-on-write: the new columns leave the input alone
     out["coverage"] = coverage
-    out["observable_fraction"] = np.where(full, 1.0, fraction)
-    out["observable_start_jd_utc"], out["observable_end_jd_utc"] = _main_stretch(observable, ingress, egress, n)
+    out[schema.OBSERVABLE_FRACTION] = np.where(full, 1.0, fraction)
+    stretch = _main_stretch(observable, ingress, egress, n)
+    out[schema.OBSERVABLE_START_JD_UTC], out[schema.OBSERVABLE_END_JD_UTC] = stretch
     return out
 
 

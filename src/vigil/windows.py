@@ -26,7 +26,7 @@ _LIGHT_TIME_MARGIN_D = 0.01
 def at_site(transits: pd.DataFrame, site: Site, start: Time, end: Time, engine: Engine = reference) -> pd.DataFrame:
     """Add the site's name and the mid-time seen there (JD UTC); keep mids inside [start, end]."""
     out = transits.assign(site=site.name, mid_jd_utc=engine.site_mid_jd_utc(transits, site))
-    inside = (out["mid_jd_utc"] >= start.utc.jd) & (out["mid_jd_utc"] <= end.utc.jd)
+    inside = (out[schema.MID_JD_UTC] >= start.utc.jd) & (out[schema.MID_JD_UTC] <= end.utc.jd)
     return out[inside].reset_index(drop=True)
 
 
@@ -42,7 +42,7 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints, s
         return None
     # Once K sigma exceeds half a period the transit's phase is lost: it cannot be planned
     # (coverage none), and its days-wide window is not handed to the engine.
-    timed = (constraints.sigma_k * padded["mid_sigma_d"] < 0.5 * padded["period_d"]).to_numpy()
+    timed = (constraints.sigma_k * padded[schema.MID_SIGMA_D] < 0.5 * padded["period_d"]).to_numpy()
     observable, conditions_of, found = engine_module.evaluate(padded, site, constraints, timed)
     classified = visibility.classify(padded, observable, constraints.sigma_k)
     if include_unobservable:
@@ -80,11 +80,11 @@ def in_time_order(table: pd.DataFrame) -> pd.DataFrame:
 
     Examples
     --------
-    >>> rows = pd.DataFrame({"mid_jd_utc": [2.0, 1.0, 1.0], "target": ["a", "b", "a"], "site": ["x", "x", "y"]})
+    >>> rows = pd.DataFrame({schema.MID_JD_UTC: [2.0, 1.0, 1.0], "target": ["a", "b", "a"], "site": ["x", "x", "y"]})
     >>> in_time_order(rows)["target"].tolist()
     ['a', 'b', 'a']
     """
-    order = np.lexsort((_name_ranks(table["site"]), _name_ranks(table["target"]), table["mid_jd_utc"].to_numpy()))
+    order = np.lexsort((_name_ranks(table["site"]), _name_ranks(table["target"]), table[schema.MID_JD_UTC].to_numpy()))
     if np.all(order[1:] > order[:-1]):
         return table.reset_index(drop=True)
     return table.take(order).reset_index(drop=True)

@@ -20,9 +20,7 @@ from astropy.time import Time
 
 from vigil import schema
 from vigil.hosts import overlap_groups
-
-
-HOURS_PER_DAY = 24.0
+from vigil.time_units import HOURS_PER_DAY
 
 
 def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str, ...], min_fraction: float,
@@ -34,17 +32,17 @@ def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str,
     overlap with [ingress, egress], baseline hours the rest of it; telescope hours add
     `overhead_h`.
     """
-    counted = windows["coverage"].isin(coverage) & (windows["observable_fraction"] >= min_fraction)
+    counted = windows["coverage"].isin(coverage) & (windows[schema.OBSERVABLE_FRACTION] >= min_fraction)
     w = windows[counted].reset_index(drop=True)
-    start, end = w["observable_start_jd_utc"].to_numpy(), w["observable_end_jd_utc"].to_numpy()
-    inside = np.clip(np.minimum(end, w["egress_jd_utc"]) - np.maximum(start, w["ingress_jd_utc"]), 0.0, None)
-    months, years = _month_year(w["mid_jd_utc"].to_numpy())
+    start, end = w[schema.OBSERVABLE_START_JD_UTC].to_numpy(), w[schema.OBSERVABLE_END_JD_UTC].to_numpy()
+    inside = np.clip(np.minimum(end, w[schema.EGRESS_JD_UTC]) - np.maximum(start, w[schema.INGRESS_JD_UTC]), 0.0, None)
+    months, years = _month_year(w[schema.MID_JD_UTC].to_numpy())
     # the local noon-to-noon day (JD starts at noon UT); a space site keeps UTC days
     east_deg = {name: 0.0 if site.kind == "space" else site.longitude_deg for name, site in sites.items()}
-    local_day = np.floor(w["mid_jd_utc"].to_numpy() + w["site"].map(east_deg).to_numpy() / 360.0)
+    local_day = np.floor(w[schema.MID_JD_UTC].to_numpy() + w["site"].map(east_deg).to_numpy() / 360.0)
     return schema.VISITS.check(pd.DataFrame({
         "target": w["target"], "site": w["site"], "epoch": w["epoch"], "coverage": w["coverage"],
-        "mid_jd_utc": w["mid_jd_utc"], "start_jd_utc": start, "end_jd_utc": end,
+        schema.MID_JD_UTC: w[schema.MID_JD_UTC], "start_jd_utc": start, "end_jd_utc": end,
         "in_transit_h": inside * HOURS_PER_DAY,
         "baseline_h": (end - start - inside) * HOURS_PER_DAY,
         "telescope_h": (end - start) * HOURS_PER_DAY + overhead_h,
@@ -100,7 +98,7 @@ def _greedy(visits: pd.DataFrame, group: np.ndarray, gain_per_hour: dict, priori
     half, start, end = visits["half_year"].to_numpy(), visits["start_jd_utc"].to_numpy(), visits["end_jd_utc"].to_numpy()
     snr2 = (visits["target"].map(gain_per_hour) * visits["in_transit_h"]).to_numpy()
     members = [list(m) for m in pd.Series(np.arange(len(visits))).groupby(group).indices.values()]
-    order = np.lexsort((np.array([visits["mid_jd_utc"].to_numpy()[m].min() for m in members]),
+    order = np.lexsort((np.array([visits[schema.MID_JD_UTC].to_numpy()[m].min() for m in members]),
                         -np.array([snr2[m].sum() / _telescope_h(visits, m) for m in members]),
                         -np.array([max(priority[t] for t in target[m]) for m in members])))
     booked: dict[str, tuple[list, list]] = {}

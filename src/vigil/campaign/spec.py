@@ -20,6 +20,7 @@ from vigil.table_formats import FORMATS
 from vigil.target_source import CatalogueOptions
 from vigil.schema import COVERAGE_CLASSES
 from vigil.spectrum import Instrument
+from vigil.time_units import DAYS_PER_JULIAN_YEAR, MINUTES_PER_DAY
 
 log = logging.getLogger("vigil")
 MONTHS = 12
@@ -67,7 +68,7 @@ class CampaignSpec:
 
     @property
     def end(self) -> Time:
-        return Time(self.start.jd + self.horizon_years * 365.25, format="jd", scale="utc")
+        return Time(self.start.jd + self.horizon_years * DAYS_PER_JULIAN_YEAR, format="jd", scale="utc")
 
 
 def _expected(kind, low, high, unit: str) -> str:
@@ -198,7 +199,7 @@ def _refresh(path: Path, table: dict) -> dict:
         return {}
     every = float(_get(path, table, "refresh", "every_years", (int, float), 0.1, 100.0, default=..., unit=" years"))
     error_min = float(_get(path, table, "refresh", "timing_err_min", (int, float), 0.01, 600.0, default=..., unit=" minutes"))
-    return {"refresh_every_years": every, "refresh_timing_err_d": error_min / 1440.0}
+    return {"refresh_every_years": every, "refresh_timing_err_d": error_min / MINUTES_PER_DAY}
 
 
 def _targets_options(path: Path, c: dict) -> CatalogueOptions:

@@ -17,6 +17,7 @@ from vigil.constraints import Constraints
 from vigil.notes import Note
 from vigil.sites import Site
 from vigil.timescales import beyond_earth_orientation_note
+from vigil.visibility import window_bounds
 
 DARK_MARGIN_D = 1.0
 
@@ -33,7 +34,7 @@ def _dark_intervals(lat_deg, lon_deg, elev_m, jd_utc_start, jd_utc_end, sun_alt_
 def span_dark_intervals(windows: pd.DataFrame, site: Site, constraints: Constraints) -> tuple[np.ndarray, np.ndarray]:
     """(starts, ends), JD UTC: when the Sun is below the twilight altitude at the site, over the
     span of the (non-empty) windows table, rounded out to days with a margin."""
-    lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
+    lo, hi = window_bounds(windows)
     return _dark_intervals(site.latitude_deg, site.longitude_deg, site.elevation_m,
                            float(np.floor(lo.min()) - DARK_MARGIN_D), float(np.ceil(hi.max()) + DARK_MARGIN_D),
                            constraints.sun_altitude_deg)
@@ -44,8 +45,8 @@ def ground_notes(windows: pd.DataFrame, site: Site, constraints: Constraints) ->
     no darkness at all over their span."""
     if windows.empty:
         return ()
-    lo = float(windows["window_start_jd_utc"].min())
-    hi = float(windows["window_end_jd_utc"].max())
+    starts, ends = window_bounds(windows)
+    lo, hi = float(starts.min()), float(ends.max())
     found = beyond_earth_orientation_note(hi)
     if span_dark_intervals(windows, site, constraints)[0].size == 0:
         found += (notes.no_darkness(site.name, constraints.twilight, constraints.sun_altitude_deg, lo, hi),)

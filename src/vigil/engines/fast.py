@@ -35,14 +35,16 @@ from typing import Callable, NamedTuple
 import numpy as np
 import pandas as pd
 
-from vigil import intervals, local_sky, places_of_date
+from vigil import intervals, local_sky, places_of_date, schema
 from vigil.constraints import Constraints
 from vigil.engines.darkness import ground_notes, span_dark_intervals
 from vigil.sites import Site
 from vigil.sky import airmass_kasten_young
 from vigil.tabulated import BLOCKS_KEPT, Table, block_nodes
+from vigil.time_units import MINUTES_PER_DAY
 from vigil.timescales import geocentre_mid_jd_utc, jd_tt_from_utc
-from vigil.vectors import unit_vectors
+from vigil.vectors import angle_deg, unit_vectors
+from vigil.visibility import window_bounds
 
 SIDEREAL_DEG_PER_DAY = 360.98564736629  # Earth's rotation relative to the equinox, per UT day
 MOON_STEP_MIN = 20.0
@@ -107,7 +109,7 @@ def site_mid_jd_utc(transits: pd.DataFrame, site: Site) -> np.ndarray:
     """Mid-transit as seen at the site, JD UTC, from BJD_TDB: the fast conversion at the
     geocentre (`timescales.geocentre_mid_jd_utc`, within 0.05 s of astropy's at the site).
     Being the same for every site, it is computed once for a run of sites."""
-    columns = tuple(transits[c].to_numpy(dtype=float) for c in ("mid_bjd_tdb", "ra_deg", "dec_deg"))
+    columns = tuple(transits[c].to_numpy(dtype=float) for c in (schema.MID_BJD_TDB, "ra_deg", "dec_deg"))
     return _latest_mid.get(None, columns, geocentre_mid_jd_utc).copy()
 
 
@@ -124,7 +126,7 @@ class _Pointing(NamedTuple):
 
 def _pointing(windows: pd.DataFrame, site: Site) -> _Pointing:
     """Each window's pointing at mid-transit; read-only arrays."""
-    mid, ra, dec = (windows[c].to_numpy(dtype=float) for c in ("mid_jd_utc", "ra_deg", "dec_deg"))
+    mid, ra, dec = (windows[c].to_numpy(dtype=float) for c in (schema.MID_JD_UTC, "ra_deg", "dec_deg"))
     terms = SKY_TABLE.nearest(mid, _POINTING)  # (n, 13): its columns are read strided, not copied
     x0, y0, z0 = unit_vectors(ra, dec).T
     v = np.empty((3, mid.size))
@@ -165,8 +167,8 @@ def _above_limit(windows: pd.DataFrame, site: Site, constraints: Constraints, po
     with np.errstate(divide="ignore", invalid="ignore"):
         cos_h = np.where(flat, np.where(numerator < 0.0, -1.0, 1.0), numerator / denominator)
     half_width_d = np.degrees(np.arccos(np.clip(cos_h, -1.0, 1.0))) / SIDEREAL_DEG_PER_DAY
-    mid = windows["mid_jd_utc"].to_numpy(dtype=float)
-    lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
+    mid = windows[schema.MID_JD_UTC].to_numpy(dtype=float)
+    lo, hi = window_bounds(windows)
     ha_mid = (pointing.lst_deg - np.degrees(np.arctan2(y, x)) + 180.0) % 360.0 - 180.0
     culmination = mid - ha_mid / SIDEREAL_DEG_PER_DAY
     sidereal_day = 360.0 / SIDEREAL_DEG_PER_DAY
@@ -189,7 +191,7 @@ def _moon_separation_deg(jd_utc, target: np.ndarray, site: Site, lst_deg=None) -
 
     The Moon seen from the site is the tabulated geocentric Moon minus the site's position
     (WGS84) turned by the local apparent sidereal time (computed unless given); the angle is
-    atan2(|a x b|, a . b), accurate at all angles.
+    `vectors.angle_deg`.
     """
     if lst_deg is None:
         lst_deg = _local_sidereal_deg(jd_utc, SKY_TABLE.nearest(jd_utc, SKY_EQUATION_OF_EQUINOXES)[:, 0], site)
@@ -199,9 +201,7 @@ def _moon_separation_deg(jd_utc, target: np.ndarray, site: Site, lst_deg=None) -
     mx = mx - rho_cos * np.cos(lst_rad)
     my = my - rho_cos * np.sin(lst_rad)
     mz = mz - rho_sin
-    x, y, z = target
-    cross_sq = (y * mz - z * my) ** 2 + (z * mx - x * mz) ** 2 + (x * my - y * mx) ** 2
-    return np.degrees(np.arctan2(np.sqrt(cross_sq), x * mx + y * my + z * mz))
+    return angle_deg(target, (mx, my, mz))
 
 
 def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing):
@@ -211,8 +211,8 @@ def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, poi
     can move in its half-length (MOON_SEPARATION_RATE_DEG_PER_D) is clear throughout or not at
     all; only the others are sampled.
     """
-    mid = windows["mid_jd_utc"].to_numpy(dtype=float)
-    lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
+    mid = windows[schema.MID_JD_UTC].to_numpy(dtype=float)
+    lo, hi = window_bounds(windows)
     facility = site.facility
     margin_mid = _moon_separation_deg(mid, pointing.target, site, pointing.lst_deg) - constraints.moon_sep_deg
     reach_deg = MOON_SEPARATION_RATE_DEG_PER_D * np.maximum(mid - lo, hi - mid)
@@ -220,7 +220,7 @@ def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, poi
         reach_deg = np.full(mid.shape, np.inf)
     near = np.flatnonzero(np.abs(margin_mid) <= reach_deg)
     clear = np.flatnonzero(margin_mid > reach_deg)
-    sample_row, jd = intervals.sample_grid(lo[near], hi[near], MOON_STEP_MIN / 1440.0)
+    sample_row, jd = intervals.sample_grid(lo[near], hi[near], MOON_STEP_MIN / MINUTES_PER_DAY)
     separation = _moon_separation_deg(jd, pointing.target[:, near[sample_row]], site)
     limit = facility.moon_limit_deg(MOON_TABLE.at(jd, MOON_ILLUMINATION)[:, 0],
                                     constraints.moon_sep_deg)
@@ -250,7 +250,7 @@ def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constra
     if n == 0:
         empty = np.array([], dtype=float)
         return np.array([], dtype=int), empty, empty
-    lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
+    lo, hi = window_bounds(windows)
     dark_start, dark_end = span_dark_intervals(windows, site, constraints)
     pointing = _pointing(windows, site) if pointing is None else pointing
     observable = intervals.intersect(intervals.clip_to_windows(dark_start, dark_end, lo, hi),
@@ -266,10 +266,10 @@ def _facility_clear(windows: pd.DataFrame, site: Site, pointing: _Pointing):
     """Flat interval set inside the horizon mask and mount limits (facility.py), sampled every
     FACILITY_STEP_MIN minutes with edges interpolated: the target's place of date is held at its
     mid-transit value and the hour angle advances at the sidereal rate."""
-    lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
-    row, jd = intervals.sample_grid(lo, hi, FACILITY_STEP_MIN / 1440.0)
+    lo, hi = window_bounds(windows)
+    row, jd = intervals.sample_grid(lo, hi, FACILITY_STEP_MIN / MINUTES_PER_DAY)
     x, y, z = pointing.target[:, row]
-    mid = windows["mid_jd_utc"].to_numpy(dtype=float)[row]
+    mid = windows[schema.MID_JD_UTC].to_numpy(dtype=float)[row]
     ha = (pointing.lst_deg[row] + SIDEREAL_DEG_PER_DAY * (jd - mid) - np.degrees(np.arctan2(y, x)) + 180.0) % 360.0 - 180.0
     dec = np.degrees(np.arcsin(np.clip(z, -1.0, 1.0)))
     geometric = local_sky.altitude_deg(ha, dec, site.latitude_deg)
@@ -281,7 +281,7 @@ def _facility_clear(windows: pd.DataFrame, site: Site, pointing: _Pointing):
 def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
     """Target altitude (apparent) and airmass, Sun altitude, Moon separation and illumination at
     mid-transit, indexed like `windows`."""
-    conditions = _conditions(windows["mid_jd_utc"].to_numpy(dtype=float), site, _pointing(windows, site))
+    conditions = _conditions(windows[schema.MID_JD_UTC].to_numpy(dtype=float), site, _pointing(windows, site))
     return conditions.set_axis(windows.index)
 
 

@@ -16,12 +16,14 @@ import pandas as pd
 from astropy.coordinates import erfa_astrom
 from astropy.time import Time
 
-from vigil import intervals, sky
+from vigil import intervals, schema, sky
 from vigil.constraints import Constraints
 from vigil.engines.darkness import ground_notes
 from vigil.engines.protocol import evaluate_in_two_steps
 from vigil.sites import Site
+from vigil.time_units import MINUTES_PER_DAY
 from vigil.timescales import bjd_tdb_to_site_time, earth_location
+from vigil.visibility import window_bounds
 
 STEP_MIN = 5.0
 
@@ -29,15 +31,15 @@ STEP_MIN = 5.0
 def site_mid_jd_utc(transits: pd.DataFrame, site: Site) -> np.ndarray:
     """Mid-transit as seen at the site, JD UTC, from BJD_TDB (astropy light travel time)."""
     location = earth_location(site.latitude_deg, site.longitude_deg, site.elevation_m)
-    seen = bjd_tdb_to_site_time(transits["mid_bjd_tdb"].to_numpy(), transits["ra_deg"].to_numpy(),
+    seen = bjd_tdb_to_site_time(transits[schema.MID_BJD_TDB].to_numpy(), transits["ra_deg"].to_numpy(),
                                 transits["dec_deg"].to_numpy(), location)
     return seen.utc.jd
 
 
 def sample_windows(windows: pd.DataFrame, step_min: float = STEP_MIN):
     """Flat sample grid (row, jd_utc) covering each row's padded window."""
-    lo, hi = windows["window_start_jd_utc"].to_numpy(), windows["window_end_jd_utc"].to_numpy()
-    return intervals.sample_grid(lo, hi, step_min / 1440.0)
+    lo, hi = window_bounds(windows)
+    return intervals.sample_grid(lo, hi, step_min / MINUTES_PER_DAY)
 
 
 def constraint_margin_deg(windows: pd.DataFrame, row, jd_utc, site: Site, constraints: Constraints) -> np.ndarray:
@@ -72,7 +74,7 @@ def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constra
 def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
     """Target altitude (apparent) and airmass, Sun altitude and Moon separation at mid-transit."""
     location = earth_location(site.latitude_deg, site.longitude_deg, site.elevation_m)
-    times = Time(windows["mid_jd_utc"].to_numpy(), format="jd", scale="utc")
+    times = Time(windows[schema.MID_JD_UTC].to_numpy(), format="jd", scale="utc")
     ra, dec = windows["ra_deg"].to_numpy(), windows["dec_deg"].to_numpy()
     apparent, _ = sky.target_altaz_deg(ra, dec, times, location, site.air_pressure_hpa, site.temperature_c)
     geometric, _ = sky.target_altaz_deg(ra, dec, times, location)

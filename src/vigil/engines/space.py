@@ -27,13 +27,15 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
-from vigil import intervals, places_of_date
+from vigil import intervals, places_of_date, schema
 from vigil.constraints import Constraints
 from vigil.engines.protocol import evaluate_in_two_steps
 from vigil.errors import InputError
 from vigil.sites import Site, SpaceSettings
+from vigil.time_units import HOURS_PER_DAY
 from vigil.timescales import geocentre_mid_jd_utc, jd_tt_from_utc
-from vigil.visibility import HOURS_PER_DAY
+from vigil.vectors import separation_deg
+from vigil.visibility import window_bounds
 
 SUN_STEP_H = 1.0
 # The Moon's least distance from the Earth's centre (about 356,400 km at its closest perigees;
@@ -47,18 +49,7 @@ def site_mid_jd_utc(transits: pd.DataFrame, site: Site) -> np.ndarray:
     """Mid-transit at the Earth's centre, JD UTC, from BJD_TDB (Roemer delay of the geocentre,
     `timescales.geocentre_mid_jd_utc`). For an observatory d km from the Earth's centre the
     time seen there differs by up to d / c (module docstring)."""
-    return geocentre_mid_jd_utc(*(transits[c].to_numpy(dtype=float) for c in ("mid_bjd_tdb", "ra_deg", "dec_deg")))
-
-
-def separation_deg(ra1_deg, dec1_deg, ra2_deg, dec2_deg) -> np.ndarray:
-    """Angle between two directions given as (ra, dec) in degrees, degrees (arctan2 form,
-    accurate at every angle; inputs broadcast)."""
-    ra1, dec1, ra2, dec2 = (np.radians(np.asarray(a, dtype=float)) for a in (ra1_deg, dec1_deg, ra2_deg, dec2_deg))
-    d_ra = ra2 - ra1
-    across = np.hypot(np.cos(dec2) * np.sin(d_ra),
-                      np.cos(dec1) * np.sin(dec2) - np.sin(dec1) * np.cos(dec2) * np.cos(d_ra))
-    along = np.sin(dec1) * np.sin(dec2) + np.cos(dec1) * np.cos(dec2) * np.cos(d_ra)
-    return np.degrees(np.arctan2(across, along))
+    return geocentre_mid_jd_utc(*(transits[c].to_numpy(dtype=float) for c in (schema.MID_BJD_TDB, "ra_deg", "dec_deg")))
 
 
 def sun_angle_deg(ra_deg, dec_deg, jd_utc) -> np.ndarray:
@@ -125,7 +116,7 @@ def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constra
     if n == 0:
         empty = np.array([], dtype=float)
         return np.array([], dtype=int), empty, empty
-    lo, hi = windows["window_start_jd_utc"].to_numpy(dtype=float), windows["window_end_jd_utc"].to_numpy(dtype=float)
+    lo, hi = window_bounds(windows)
     observable = _in_field_of_regard(windows["ra_deg"].to_numpy(dtype=float), windows["dec_deg"].to_numpy(dtype=float),
                                      lo, hi, space)
     for starts, ends in usable_timelines(space, float(lo.min()), float(hi.max())):
@@ -148,7 +139,7 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
     """The columns of the ground engines at mid-transit: altitude, airmass and Sun altitude are
     NaN (no horizon in space); moon_sep_deg is geocentric (NaN beyond a low orbit's distance)."""
     space = _space_settings(site)
-    mid = windows["mid_jd_utc"].to_numpy(dtype=float)
+    mid = windows[schema.MID_JD_UTC].to_numpy(dtype=float)
     nothing = np.full(mid.shape, np.nan)
     return pd.DataFrame({
         "alt_mid_deg": nothing,

@@ -35,12 +35,12 @@ import numpy as np
 
 from vigil.ephemeris.models import PolynomialEphemeris
 from vigil.errors import InputError
+from vigil.time_units import DAYS_PER_JULIAN_YEAR
 
 OUTLIER_SIGMA = 5.0
 OUTLIER_RULE = f"leave-one-out > {OUTLIER_SIGMA:g} sigma"
 BIC_MARGIN = 6.0
 MS_PER_DAY = 86_400_000.0
-DAYS_PER_YEAR = 365.25
 _NO_LEVERAGE_LEFT = 1.0 - 1e-9
 
 
@@ -82,7 +82,7 @@ class PolynomialFit:
     @property
     def dp_dt_ms_yr(self) -> tuple[float, float]:
         """dP/dt = (dP/dN) / P in milliseconds per year, and its 1-sigma."""
-        scale = MS_PER_DAY * DAYS_PER_YEAR / float(self.ephemeris.period_d)
+        scale = MS_PER_DAY * DAYS_PER_JULIAN_YEAR / float(self.ephemeris.period_d)
         return (float(self.ephemeris.dp_dn_d) * scale,
                 float(np.sqrt(self.ephemeris.covariance_d2[2, 2])) * scale)
 

@@ -28,11 +28,10 @@ import pandas as pd
 from vigil.ephemeris.fitting import OUTLIER_RULE, ModelChoice, choose_model
 from vigil.ephemeris.models import EPOCH_ORIGIN_COLUMN, PolynomialEphemeris, target_ephemerides
 from vigil.errors import InputError
+from vigil.time_units import MINUTES_PER_DAY
 
 SAME_EVENT_SIGMA = 5.0
 EPOCH_TOLERANCE_CYCLES = 0.1
-MINUTES_PER_DAY = 1440.0
-# Derived numbers are rounded where they are made, so CSVs show no arithmetic noise in the last
 # bits (0.5760000000000001): minutes to 1e-6 min (60 ns), ratios to 1e-4, fitted values other
 # than T0 to 15 significant digits (the most a double always carries through a decimal round
 # trip; T0, a full Julian date, keeps every digit).

@@ -19,7 +19,6 @@ Times are BJD_TDB (days); each stale date is also given as an astropy Time in TD
 from __future__ import annotations
 
 import math
-import numbers
 from dataclasses import dataclass
 
 import numpy as np
@@ -28,12 +27,12 @@ from astropy.time import Time
 
 from vigil.ephemeris.models import PolynomialEphemeris, linear_ephemeris, mid_sigma_d, target_ephemerides
 from vigil.errors import InputError
+from vigil.textfile import positive_number
+from vigil.time_units import HOURS_PER_DAY
 
 DURATION_FRACTION = 0.25
 DEFAULT_SIGMA_K = 1.0
 DEFAULT_BASELINE_H = 1.0
-HOURS_PER_DAY = 24.0
-# Past 2^52 consecutive whole numbers are no longer all floats; there the root is final.
 _WHOLE_FLOAT_LIMIT = 2.0**52
 STALENESS_INPUTS = ("name", "t0_bjd_tdb", "t0_err_d", "period_d", "period_err_d", "duration_h")
 
@@ -47,8 +46,8 @@ def first_stale_epoch(limit_d: float, t0_err_d: float, period_err_d: float, cov_
     roots of q, and the answer is the first whole number past the larger root; with sigma_P = 0
     and cov <= 0, q never becomes positive (never stale).
     """
-    _check_positive("limit_d", limit_d, "days")
-    _check_positive("sigma_k", sigma_k, "(a multiple of sigma)")
+    positive_number("limit_d", limit_d, "days")
+    positive_number("sigma_k", sigma_k, "(a multiple of sigma)")
 
     def stale(n: float) -> bool:
         return bool(sigma_k * mid_sigma_d(n, t0_err_d, period_err_d, cov_d2) > limit_d)
@@ -111,7 +110,7 @@ def model_first_stale_epoch(model: PolynomialEphemeris, limit_d: float, sigma_k:
     if not np.any(c[2]):
         return origin + first_stale_epoch(limit_d, math.sqrt(c[0, 0]), math.sqrt(c[1, 1]), c[0, 1], sigma_k,
                                           from_epoch - origin)
-    _check_positive("limit_d", limit_d, "days")
+    positive_number("limit_d", limit_d, "days")
 
     def stale(n: float) -> bool:
         return bool(sigma_k * model.mid_sigma_d(n) > limit_d)
@@ -155,8 +154,8 @@ def staleness(targets: pd.DataFrame, duration_fraction: float = DURATION_FRACTIO
     missing = [c for c in STALENESS_INPUTS if c not in targets.columns]
     if missing:
         raise InputError(f"targets: missing column(s) {', '.join(missing)} needed for staleness")
-    _check_positive("duration_fraction", duration_fraction, "(a fraction of the transit duration)")
-    _check_positive("baseline_h", baseline_h, "hours")
+    positive_number("duration_fraction", duration_fraction, "(a fraction of the transit duration)")
+    positive_number("baseline_h", baseline_h, "hours")
     rows = []
     for row, model in zip(targets.to_dict("records"), target_ephemerides(targets)):
         limit_h = duration_fraction * row["duration_h"]
@@ -213,14 +212,9 @@ def refresh_sigma(t0_err_d: float, period_err_d: float, cov_d2: float, epoch: in
     the expected T0 and P are unchanged, so only the uncertainty is returned, with T0 at the same
     reference epoch as before.
     """
-    _check_positive("timing_err_d", timing_err_d, "days")
+    positive_number("timing_err_d", timing_err_d, "days")
     if isinstance(epoch, bool) or not float(epoch).is_integer():
         raise InputError(f"epoch: expected a whole transit number, got {epoch!r}")
     refreshed = linear_ephemeris(0.0, t0_err_d, 1.0, period_err_d, cov_d2).updated(int(epoch), timing_err_d).covariance_d2
     return EphemerisSigma(float(math.sqrt(max(refreshed[0, 0], 0.0))), float(math.sqrt(max(refreshed[1, 1], 0.0))),
                           float(refreshed[0, 1]))
-
-
-def _check_positive(name: str, value, unit: str) -> None:
-    if isinstance(value, bool) or not isinstance(value, numbers.Real) or not math.isfinite(value) or value <= 0:
-        raise InputError(f"{name}: expected a positive number {unit}, got {value!r}")

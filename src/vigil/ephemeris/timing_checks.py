@@ -14,13 +14,11 @@ from __future__ import annotations
 import math
 
 from vigil.ephemeris.models import Ephemeris
+from vigil.time_units import MINUTES_PER_DAY
 
 FORCED_MARK = "[timing forced]"
 TIMING_SIGMA = 5.0
 VISIT_MARGIN_D = 0.01
-MINUTES_PER_DAY = 1440.0
-
-
 def outside_visit(mid_bjd_tdb: float, start_jd_utc: float, end_jd_utc: float) -> str | None:
     """Why the mid-time cannot belong to the visit [start, end] (JD UTC), or None when it can.
 

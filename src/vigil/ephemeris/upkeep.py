@@ -19,9 +19,7 @@ from astropy.time import Time
 from vigil.ephemeris.models import PolynomialEphemeris, target_ephemerides
 from vigil.ephemeris.timing_checks import far_from_prediction
 from vigil.errors import InputError
-
-DAYS_PER_YEAR = 365.25
-
+from vigil.time_units import DAYS_PER_JULIAN_YEAR
 
 def _with_model(targets: pd.DataFrame, i: int, model: PolynomialEphemeris) -> None:
     """Write the model's ephemeris columns into row i (quadratic columns only for a quadratic model)."""
@@ -85,7 +83,7 @@ def segments(targets: pd.DataFrame, start: Time, end: Time, every_years: float |
     """(segment start, segment end, targets valid in it): refreshes at start + k * every_years."""
     if not every_years:
         return [(start, end, targets)]
-    edges = np.arange(start.utc.jd, end.utc.jd, every_years * DAYS_PER_YEAR).tolist() + [end.utc.jd]
+    edges = np.arange(start.utc.jd, end.utc.jd, every_years * DAYS_PER_JULIAN_YEAR).tolist() + [end.utc.jd]
     pieces, current = [], targets
     for k, (lo, hi) in enumerate(zip(edges[:-1], edges[1:])):
         lo_time = Time(lo, format="jd", scale="utc")

@@ -32,6 +32,7 @@ import pandas as pd
 from vigil.export.files import write_atomic
 from vigil.export.table import iso_utc
 from vigil.hosts import overlap_groups
+from vigil.time_units import MINUTES_PER_DAY
 
 log = logging.getLogger("vigil")
 _UID_NAMESPACE = uuid.UUID("5f1c2b9e-3d4a-4e8f-9b6c-7a1d2e3f4b5c")
@@ -93,7 +94,7 @@ def _event_lines(w, kind: str) -> list[str]:
     return [
         f"Observable {_iso(w.observable_start_jd_utc)} to {_iso(w.observable_end_jd_utc)}: coverage {w.coverage}, "
         f"{100 * w.observable_fraction:.0f}% of the {kind} observable",
-        f"Mid-{kind} {_iso(w.mid_jd_utc)} ± {w.mid_sigma_d * 1440:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
+        f"Mid-{kind} {_iso(w.mid_jd_utc)} ± {w.mid_sigma_d * MINUTES_PER_DAY:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
         f"Ingress {_iso(w.ingress_jd_utc)}, egress {_iso(w.egress_jd_utc)}",
         f"Padded window (baseline and timing) {_iso(w.window_start_jd_utc)} to {_iso(w.window_end_jd_utc)}",
         *_meridian(w),

@@ -20,8 +20,8 @@ def _summary(summary: pd.DataFrame) -> pd.DataFrame:
 
 
 def _ledger(ledger: pd.DataFrame) -> pd.DataFrame:
-    out = ledger.drop(columns=["mid_jd_utc", "start_jd_utc", "end_jd_utc"])
-    out.insert(4, "mid_utc", iso_utc(ledger["mid_jd_utc"].to_numpy()))
+    out = ledger.drop(columns=[schema.MID_JD_UTC, "start_jd_utc", "end_jd_utc"])
+    out.insert(4, "mid_utc", iso_utc(ledger[schema.MID_JD_UTC].to_numpy()))
     out.insert(5, "start_utc", iso_utc(ledger["start_jd_utc"].to_numpy()))
     out.insert(6, "end_utc", iso_utc(ledger["end_jd_utc"].to_numpy()))
     return out.round(3)

@@ -24,6 +24,7 @@ from vigil.export.plots import hours_figure, resolution_figure
 from vigil.export.table import iso_utc
 from vigil.export.timeline_chart import timeline_chart
 from vigil.sites import Site
+from vigil.time_units import MINUTES_PER_DAY
 
 TABLE_ROWS = 400
 SEMESTER_D = 182.5
@@ -118,7 +119,7 @@ def _window_rows(windows: pd.DataFrame) -> pd.DataFrame:
         "coverage": windows["coverage"].astype(str), "observable %": (100 * windows["observable_fraction"]).round(0),
         "stretch start": [t[11:16] for t in iso_utc(windows["observable_start_jd_utc"].to_numpy())],
         "stretch end": [t[11:16] for t in iso_utc(windows["observable_end_jd_utc"].to_numpy())],
-        "altitude at mid (deg)": windows["alt_mid_deg"].round(1), "σ mid (min)": (windows["mid_sigma_d"] * 1440.0).round(1),
+        "altitude at mid (deg)": windows["alt_mid_deg"].round(1), "σ mid (min)": (windows["mid_sigma_d"] * MINUTES_PER_DAY).round(1),
         "stale": windows["stale"].astype(bool)})
 
 

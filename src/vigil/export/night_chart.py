@@ -27,6 +27,7 @@ from vigil.sites import Site
 from vigil.errors import InputError
 from vigil.export import palette
 from vigil.timescales import earth_location
+from vigil.time_units import HOURS_PER_DAY, MINUTES_PER_DAY
 
 STEP_MIN = 2.0
 MARGIN_H = 6.0  # shown on each side of the padded window
@@ -73,9 +74,9 @@ def night_curves(window, site: Site, margin_h: float = MARGIN_H, step_min: float
     """
     if site.kind != "ground":
         raise InputError(f"site {site.name!r}: night charts are for ground sites (a space site has no night)")
-    lo = float(window.window_start_jd_utc) - margin_h / 24.0
-    hi = float(window.window_end_jd_utc) + margin_h / 24.0
-    jd = np.linspace(lo, hi, int(np.ceil((hi - lo) * 1440.0 / step_min)) + 1)
+    lo = float(window.window_start_jd_utc) - margin_h / HOURS_PER_DAY
+    hi = float(window.window_end_jd_utc) + margin_h / HOURS_PER_DAY
+    jd = np.linspace(lo, hi, int(np.ceil((hi - lo) * MINUTES_PER_DAY / step_min)) + 1)
     times = Time(jd, format="jd", scale="utc")
     location = earth_location(site.latitude_deg, site.longitude_deg, site.elevation_m)
     ra, dec = float(window.ra_deg), float(window.dec_deg)
@@ -135,7 +136,7 @@ def _mark_transit(axes, window, sigma_k: float) -> None:
     for when, text in ((window.ingress_jd_utc, "ingress"), (window.mid_jd_utc, "mid"), (window.egress_jd_utc, "egress")):
         axes.text(_x(when), top, text, rotation=90, va="top", ha="right", fontsize=7, zorder=4)
     if ksig > 0:
-        axes.axvspan(0, 0, color=palette.ORANGE, alpha=0.35, label=f"±{sigma_k:g}σ timing ({ksig * 1440:.1f} min)")
+        axes.axvspan(0, 0, color=palette.ORANGE, alpha=0.35, label=f"±{sigma_k:g}σ timing ({ksig * MINUTES_PER_DAY:.1f} min)")
 
 
 def draw_night(axes, window, site: Site, constraints: Constraints, curves: NightCurves) -> None:

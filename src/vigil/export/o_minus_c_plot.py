@@ -14,18 +14,15 @@ import numpy as np
 import pandas as pd
 from matplotlib.figure import Figure
 
-from vigil.ephemeris.refit import MINUTES_PER_DAY, TargetRefit
+from vigil.ephemeris.refit import TargetRefit
 from vigil.ephemeris.staleness import DURATION_FRACTION
 from vigil.errors import InputError
 from vigil.export.palette import save_png
+from vigil.time_units import DAYS_PER_JULIAN_YEAR, HOURS_PER_DAY, MINUTES_PER_DAY
 
-DAYS_PER_YEAR = 365.25
 J2000_JD = 2451545.0
-HOURS_PER_DAY = 24.0
-
-
 def _year(bjd_tdb):
-    return 2000.0 + (np.asarray(bjd_tdb, dtype=float) - J2000_JD) / DAYS_PER_YEAR
+    return 2000.0 + (np.asarray(bjd_tdb, dtype=float) - J2000_JD) / DAYS_PER_JULIAN_YEAR
 
 
 def _timings_panel(axes, rows: pd.DataFrame, fit: TargetRefit, reference) -> None:
@@ -54,7 +51,7 @@ def _model_band(axes, fit: TargetRefit, reference, n, x) -> None:
 
 def _projection_panel(axes, fit: TargetRefit, reference, last_bjd_tdb: float, duration_h: float,
                       sigma_k: float, years: float) -> None:
-    first, last = fit.ephemeris.epoch_range(last_bjd_tdb, last_bjd_tdb + years * DAYS_PER_YEAR)
+    first, last = fit.ephemeris.epoch_range(last_bjd_tdb, last_bjd_tdb + years * DAYS_PER_JULIAN_YEAR)
     n = np.linspace(first, max(last, first + 1), 200)
     x = _year(fit.ephemeris.mid_bjd_tdb(n))
     _model_band(axes, fit, reference, n, x)

@@ -15,8 +15,8 @@ from vigil.ephemeris.models import epochs_between, target_ephemerides
 from vigil.ephemeris.staleness import DURATION_FRACTION
 from vigil.errors import InputError
 from vigil.export import palette
+from vigil.time_units import DAYS_PER_JULIAN_YEAR, MINUTES_PER_DAY
 
-MINUTES_PER_DAY = 1440.0
 COLUMNS = 3
 
 
@@ -43,11 +43,11 @@ def sigma_chart(targets: pd.DataFrame, constraints: Constraints, start: Time, ye
     figure = Figure(figsize=(11.0, 2.6 * rows + 0.6))
     axes_list = figure.subplots(rows, COLUMNS, sharex=True, squeeze=False).ravel()
     lo = start.tdb.jd
-    hi = lo + 365.25 * years
+    hi = lo + DAYS_PER_JULIAN_YEAR * years
     for axes, target, model in zip(axes_list, targets.itertuples(index=False), target_ephemerides(targets)):
         epochs = epochs_between(model, lo, hi)
         sigma_min = MINUTES_PER_DAY * model.mid_sigma_d(epochs)
-        year = start.utc.decimalyear + (model.mid_bjd_tdb(epochs) - lo) / 365.25
+        year = start.utc.decimalyear + (model.mid_bjd_tdb(epochs) - lo) / DAYS_PER_JULIAN_YEAR
         axes.plot(year, sigma_min, color=palette.BLUE, linewidth=1.8)
         threshold = stale_sigma_min(target.duration_h, constraints)
         axes.axhline(threshold, color=palette.VERMILLION, linestyle="--", linewidth=1.2)

@@ -12,6 +12,7 @@ from rich import box
 from rich.table import Table
 
 from vigil.export.table import iso_utc
+from vigil.time_units import MINUTES_PER_DAY
 
 UPCOMING_ROWS = 25
 
@@ -75,7 +76,7 @@ def journal_table(entries: pd.DataFrame) -> Table:
                           [("target", "left"), ("site", "left"), ("epoch", "right"), ("start UTC", "left"),
                            ("outcome", "left"), ("timing", "right"), ("hours", "right"), ("notes", "left")])
     for v in entries.itertuples(index=False):
-        timing = "" if v.mid_bjd_tdb != v.mid_bjd_tdb else f"±{_blank(v.mid_err_d * 1440, '.1f')}m"
+        timing = "" if v.mid_bjd_tdb != v.mid_bjd_tdb else f"±{_blank(v.mid_err_d * MINUTES_PER_DAY, '.1f')}m"
         hours = "" if v.in_transit_h != v.in_transit_h else f"{v.in_transit_h:.1f}+{_blank(v.baseline_h, '.1f')}"
         table.add_row(str(v.target), str(v.site), str(v.epoch), str(v.start_utc)[:16].replace("T", " "),
                       v.outcome or v.status, timing, hours, v.notes or "")

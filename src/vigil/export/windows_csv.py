@@ -10,38 +10,38 @@ import pandas as pd
 from vigil import schema
 from vigil.export.files import atomic_stream
 from vigil.export.table import csv_bytes, iso_utc
+from vigil.time_units import MINUTES_PER_DAY
 
-MINUTES_PER_DAY = 1440.0
 TIME_COLUMNS = {
-    "mid_utc": "mid_jd_utc",
-    "ingress_utc": "ingress_jd_utc",
-    "egress_utc": "egress_jd_utc",
-    "window_start_utc": "window_start_jd_utc",
-    "window_end_utc": "window_end_jd_utc",
-    "observable_start_utc": "observable_start_jd_utc",
-    "observable_end_utc": "observable_end_jd_utc",
+    "mid_utc": schema.MID_JD_UTC,
+    "ingress_utc": schema.INGRESS_JD_UTC,
+    "egress_utc": schema.EGRESS_JD_UTC,
+    "window_start_utc": schema.WINDOW_START_JD_UTC,
+    "window_end_utc": schema.WINDOW_END_JD_UTC,
+    "observable_start_utc": schema.OBSERVABLE_START_JD_UTC,
+    "observable_end_utc": schema.OBSERVABLE_END_JD_UTC,
 }
 COLUMNS = ["target", "site", "event", "epoch", "mid_bjd_tdb", "mid_utc", "mid_sigma_min", "ingress_utc", "egress_utc",
-           "window_start_utc", "window_end_utc", "coverage", "observable_fraction", "observable_start_utc",
+           "window_start_utc", "window_end_utc", "coverage", schema.OBSERVABLE_FRACTION, "observable_start_utc",
            "observable_end_utc", "alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale", "shared_with"]
-DECIMALS = {"mid_bjd_tdb": 6, "mid_sigma_min": 2, "observable_fraction": 4, "alt_mid_deg": 2,
+DECIMALS = {schema.MID_BJD_TDB: 6, "mid_sigma_min": 2, schema.OBSERVABLE_FRACTION: 4, "alt_mid_deg": 2,
             "airmass_mid": 3, "sun_alt_mid_deg": 2, "moon_sep_deg": 2, "moon_illumination": 3}
 
 
 def windows_for_export(windows: pd.DataFrame) -> pd.DataFrame:
     """The export columns: ISO UTC times, sigma in minutes, rounded numbers."""
-    out = pd.DataFrame({c: windows[c] for c in ("target", "site", "event", "epoch", "mid_bjd_tdb", "coverage",
-                                                 "observable_fraction", "alt_mid_deg", "airmass_mid",
+    out = pd.DataFrame({c: windows[c] for c in ("target", "site", "event", "epoch", schema.MID_BJD_TDB, "coverage",
+                                                 schema.OBSERVABLE_FRACTION, "alt_mid_deg", "airmass_mid",
                                                  "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale")})
-    out["mid_sigma_min"] = windows["mid_sigma_d"] * MINUTES_PER_DAY
+    out["mid_sigma_min"] = windows[schema.MID_SIGMA_D] * MINUTES_PER_DAY
     out["shared_with"] = windows["shared_with"] if "shared_with" in windows.columns else ""
     for name, source in TIME_COLUMNS.items():
         out[name] = iso_utc(windows[source].to_numpy())
     return out[COLUMNS].round(DECIMALS)
 
 
-LOCAL_COLUMNS = {"mid_local": "mid_jd_utc", "window_start_local": "window_start_jd_utc",
-                 "window_end_local": "window_end_jd_utc"}
+LOCAL_COLUMNS = {"mid_local": schema.MID_JD_UTC, "window_start_local": schema.WINDOW_START_JD_UTC,
+                 "window_end_local": schema.WINDOW_END_JD_UTC}
 
 
 def local_times(windows: pd.DataFrame, timezones: dict) -> pd.DataFrame:
