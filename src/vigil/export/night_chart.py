@@ -161,10 +161,10 @@ def draw_night(axes, window, site: Site, constraints: Constraints, curves: Night
     axes.xaxis.set_major_locator(mdates.HourLocator(interval=2))
     axes.xaxis.set_major_formatter(mdates.DateFormatter("%H:%M"))
     offset_h, label = _utc_offset_h(site, float(window.mid_jd_utc))
-    evening = Time(window.mid_jd_utc + offset_h / 24.0 - 0.5, format="jd", scale="utc").iso[:10]
+    evening = Time(window.mid_jd_utc + offset_h / HOURS_PER_DAY - 0.5, format="jd", scale="utc").iso[:10]
     axes.set_xlabel(f"UTC (h:min); night starting on {evening} (local date)")
     axes.set_ylabel("apparent altitude (deg)")
-    top = axes.secondary_xaxis("top", functions=(lambda v: v + offset_h / 24.0, lambda v: v - offset_h / 24.0))
+    top = axes.secondary_xaxis("top", functions=(lambda v: v + offset_h / HOURS_PER_DAY, lambda v: v - offset_h / HOURS_PER_DAY))
     top.xaxis.set_major_locator(mdates.HourLocator(interval=2))
     top.xaxis.set_major_formatter(mdates.DateFormatter("%H:%M"))
     top.set_xlabel(label, fontsize=8)
