@@ -87,3 +87,24 @@ def test_density_and_mass_radius_forms_agree():
     by_density = geometry.a_over_rstar_from_density(period_d, density)
     assert by_density == pytest.approx(by_mass, rel=1e-4)
     assert by_mass == pytest.approx(by_mass[0] * period_d ** (2 / 3), rel=1e-12)  # a ∝ P^(2/3)
+
+
+def test_catalogue_duration_longer_than_a_central_transit_is_reported(tmp_path, caplog, monkeypatch):
+    # An Earth twin (a/R* = 215.03, Earth and Sun radii) transits for at most about 13 h
+    # (Winn 2010 eq. 14 at b = 0, as checked above); a catalogue row claiming 26 h gets one
+    # warning naming the field, and 12 h none.
+    import logging
+
+    from vigil.catalog import read_targets
+
+    monkeypatch.setattr(logging.getLogger("vigil"), "propagate", True)  # the CLI may have stopped it
+    header = "name,ra_deg,dec_deg,t0_bjd_tdb,t0_err_d,period_d,period_err_d,duration_h,a_over_rstar," \
+             "planet_radius_earth,star_radius_sun\n"
+    for duration_h, warned in ((26.0, True), (12.0, False)):
+        path = tmp_path / f"t{duration_h:g}.csv"
+        path.write_text(header + f"Twin b,10,20,2460000.5,0.001,365.256,0.0001,{duration_h},215.03,1.0,1.0\n")
+        caplog.clear()
+        with caplog.at_level(logging.WARNING, logger="vigil"):
+            read_targets(path)
+        assert any("field duration_h" in r.getMessage() and "central transit" in r.getMessage()
+                   for r in caplog.records) == warned

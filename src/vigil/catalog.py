@@ -21,7 +21,7 @@ import pandas as pd
 from astropy.coordinates import Angle
 from astropy.time import Time
 
-from vigil import bodies, schema
+from vigil import bodies, geometry, schema
 from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
 from vigil.errors import InputError
 from vigil.facility import FACILITY_KEYS, read_facility
@@ -207,6 +207,22 @@ def _odd_target_notes(path: Path, line: int, v: dict) -> list[str]:
     return notes
 
 
+def _duration_notes(path: Path, line: int, v: dict, row: pd.Series) -> list[str]:
+    """A warning when duration_h exceeds what a central transit allows for the row's a_over_rstar
+    and radii (geometry.central_duration_h), when those are given."""
+    cells = [str(row.get(c, "")).strip() for c in ("a_over_rstar", "planet_radius_earth", "star_radius_sun")]
+    if not all(cells) or "nan" in cells:
+        return []
+    try:
+        longest_h = float(geometry.central_duration_h(v["period_d"], *map(float, cells)))
+    except InputError as exc:
+        return [f"{line_of(path, line)}: the transit geometry is impossible ({exc})"]
+    if v["duration_h"] <= geometry.DURATION_SLACK * longest_h:
+        return []
+    return [f"{line_of(path, line)}, field duration_h: {v['duration_h']:g} h is longer than a central transit allows "
+            f"({longest_h:.2f} h for a_over_rstar {cells[0]} and these radii, Winn 2010 eq. 14); check the units"]
+
+
 def read_targets(path: str | Path, options: CatalogueOptions | None = None) -> pd.DataFrame:
     """Read a targets catalogue into a table with the columns of `schema.TARGET_COLUMNS`.
 
@@ -231,7 +247,7 @@ def read_targets(path: str | Path, options: CatalogueOptions | None = None) -> p
         raise InputError(f"{line_of(path, table.index[first])}, field name: target {name!r} appears twice "
                          f"(also on {row_label(earlier)}); expected unique names")
     for line, values in zip(table.index, rows):  # warnings only once the whole file is valid
-        for note in _odd_target_notes(path, line, values):
+        for note in _odd_target_notes(path, line, values) + _duration_notes(path, line, values, table.loc[line]):
             log.warning("%s", note)
     extra = [c for c in table.columns if c not in parsed.columns and c not in ("ra", "dec")]
     result = pd.concat([parsed, table[extra].reset_index(drop=True)], axis=1)

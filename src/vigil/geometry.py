@@ -22,6 +22,9 @@ from vigil.time_units import HOURS_PER_DAY, SECONDS_PER_DAY
 _GM_SUN_M3_S2 = const.GM_sun.si.value  # IAU 2015 nominal
 _R_SUN_M = const.R_sun.si.value  # IAU 2015 nominal
 _G_SI = const.G.si.value
+_EARTH_RADII_PER_SUN = (const.R_sun / const.R_earth).si.value  # IAU 2015 nominal
+#: A catalogue duration this much longer than a central transit allows is reported (catalog.read_targets).
+DURATION_SLACK = 1.1
 
 
 def _positive(field: str, value) -> np.ndarray:
@@ -78,3 +81,19 @@ def a_over_rstar_from_density(period_d, star_density_kg_m3):
     period_s = _positive("period_d", period_d) * SECONDS_PER_DAY
     density = _positive("star_density_kg_m3", star_density_kg_m3)
     return np.cbrt(_G_SI * density * period_s**2 / (3.0 * np.pi))
+
+
+def central_duration_h(period_d, a_over_rstar, planet_radius_earth, star_radius_sun):
+    """T14 in hours of a central transit (b = 0), the longest a circular orbit allows (Winn 2010, eq. 14).
+
+    Radii in Earth and Sun radii (IAU nominal); the catalogue reader warns when a duration_h
+    exceeds DURATION_SLACK times this.
+
+    Examples
+    --------
+    >>> round(float(central_duration_h(365.256, 215.03, 1.0, 1.0)), 1)
+    13.1
+    """
+    radius_ratio = _positive("planet_radius_earth", planet_radius_earth) / (
+        _positive("star_radius_sun", star_radius_sun) * _EARTH_RADII_PER_SUN)
+    return transit_duration_h(period_d, a_over_rstar, radius_ratio, 0.0)

@@ -45,7 +45,7 @@ def run_refit(timings_file: Path, out_path: Path, targets_file: Optional[Path], 
         rows = result.o_minus_c[result.o_minus_c["target"] == name]
         for line in _report(fit, rows, durations[name], sigma_k):
             out.print(line, highlight=False, markup=False, soft_wrap=True)
-    out.print(f"wrote {out_path}, {oc_path}, {plot_path}", highlight=False)
+    out.print(f"wrote {out_path}, {oc_path}, {plot_path}", highlight=False, soft_wrap=True)
 
 
 def _report(fit: TargetRefit, rows, duration_h: float, sigma_k: float) -> list[str]:
