@@ -200,7 +200,7 @@ def number_in_range(field: str, value, low: float, high: float, unit: str) -> fl
     2.0
     """
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not low <= value <= high:
-        raise InputError(f"{field}: expected a number from {low:g} to {high:g} {unit}, got {value!r}")
+        raise InputError(f"{field}: expected a number from {low:g} to {high:g}{' ' + unit if unit else ''}, got {value!r}")
     return float(value)
 
 

@@ -14,7 +14,7 @@ from pathlib import Path
 from astropy.time import Time
 
 from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
-from vigil.textfile import did_you_mean, load_toml, spelling_hint
+from vigil.textfile import did_you_mean, load_toml, number_in_range, spelling_hint
 from vigil.errors import InputError
 from vigil.table_formats import FORMATS
 from vigil.target_source import CatalogueOptions
@@ -83,6 +83,8 @@ def _get(path: Path, table: dict, section: str, key: str, kind, low=None, high=N
             raise InputError(f"{path}: [{section}] {key}: required, {_expected(kind, low, high, unit)}{hint}")
         return default
     value = table[key]
+    if kind == (int, float) and low is not None:
+        return number_in_range(f"{path}: [{section}] {key}", value, low, high, unit.strip())
     ok = isinstance(value, kind) and not isinstance(value, bool)
     if ok and low is not None and not low <= value <= high:
         ok = False
