@@ -136,7 +136,7 @@ TIMING_ERRORS = {
 }
 # Bad command-line values for `vigil windows` with valid files: (options, words).
 OPTION_ERRORS = {
-    "end_before_start": (("--start", "2027-03-08", "--end", "2027-03-01"), ("--end", "after", "--start")),
+    "end_before_start": (("--start", "2027-03-08", "--end", "2027-03-01"), ("--end", "after", "start 2027-03-08")),
     "start_not_a_date": (("--start", "soon", "--end", "2027-03-08"), ("--start", "UTC date", "'soon'")),
     "unknown_site": ((*WINDOW_DATES, "--site", "cima_lejana"), (str(GOOD / "sites.toml"), "'cima_lejana'")),
     "bad_twilight_option": ((*WINDOW_DATES, "--twilight", "dusk"), ("twilight", "civil, nautical or astronomical")),

@@ -182,9 +182,11 @@ def test_local_time_columns_agree_with_pytz():
     import pytz
     from vigil.export.windows_csv import local_times
 
+    from vigil.export.windows_csv import utc_datetimes
+
     jd = np.array([2461407.6259, 2461590.1])  # 2027-01-02 (southern summer) and 2027-07-04 (winter)
-    table = pd.DataFrame({"site": ["s", "s"], "mid_jd_utc": jd, "window_start_jd_utc": jd - 0.1,
-                          "window_end_jd_utc": jd + 0.1})
+    table = pd.DataFrame({"site": ["s", "s"], "mid_utc": utc_datetimes(jd), "window_start_utc": utc_datetimes(jd - 0.1),
+                          "window_end_utc": utc_datetimes(jd + 0.1)})
     local = local_times(table, {"s": "America/Santiago"})
     for text, value in zip(local["mid_local"], jd):
         utc = Time(value, format="jd", scale="utc").to_datetime(timezone=timezone.utc)

@@ -50,12 +50,14 @@ def test_shared_with_names_the_other_planets_of_the_host_at_the_same_site():
 
 
 def _window(target, epoch, start, end, shared=""):
+    """One row of the windows table as vigil.plan_windows hands it out (times as UTC datetimes)."""
+    utc = lambda jd: Time(jd, format="jd", scale="utc").to_datetime(timezone=timezone.utc)  # noqa: E731
     return {"target": target, "site": "north", "event": "transit", "epoch": epoch, "mid_bjd_tdb": 2461000.0,
-            "mid_jd_utc": (start + end) / 2, "mid_sigma_d": 0.001, "ingress_jd_utc": start + 0.04,
-            "egress_jd_utc": end - 0.04, "window_start_jd_utc": start, "window_end_jd_utc": end,
-            "coverage": "full", "observable_fraction": 1.0, "alt_mid_deg": 50.0, "airmass_mid": 1.3,
-            "moon_sep_deg": 80.0, "shared_with": shared, "stale": False,
-            "observable_start_jd_utc": start, "observable_end_jd_utc": end}  # full: the whole window observable
+            "mid_utc": utc((start + end) / 2), "mid_sigma_min": 1.44, "ingress_utc": utc(start + 0.04),
+            "egress_utc": utc(end - 0.04), "window_start_utc": utc(start), "window_end_utc": utc(end),
+            "coverage": "full", "observable_fraction": 1.0, "observable_start_utc": utc(start),
+            "observable_end_utc": utc(end), "alt_mid_deg": 50.0, "airmass_mid": 1.3, "sun_alt_mid_deg": -30.0,
+            "moon_sep_deg": 80.0, "moon_illumination": 0.5, "stale": False, "shared_with": shared}
 
 
 def test_calendar_shows_a_shared_pointing_as_one_event_naming_both_planets():
@@ -63,7 +65,9 @@ def test_calendar_shows_a_shared_pointing_as_one_event_naming_both_planets():
 
     windows = pd.DataFrame([_window("Orla b", 12, 2461000.60, 2461000.75, "Orla c"),
                             _window("Orla c", 7, 2461000.70, 2461000.85, "Orla b"),
-                            _window("Orla b", 13, 2461003.60, 2461003.75)])
+                            _window("Orla b", 13, 2461003.60, 2461003.75)]).astype({
+        c: "datetime64[ns, UTC]" for c in ("mid_utc", "ingress_utc", "egress_utc", "window_start_utc", "window_end_utc",
+                                           "observable_start_utc", "observable_end_utc")})
     calendar = icalendar_events(windows_calendar(windows).to_ical())
     assert len(calendar) == 2
     shared = calendar[0]

@@ -27,6 +27,7 @@ from vigil.errors import InputError
 from vigil.facility import FACILITY_KEYS, read_facility
 from vigil.sites import (DEFAULT_INTERRUPTION_START_JD_UTC, DEFAULT_SUN_ANGLE_MAX_DEG, DEFAULT_SUN_ANGLE_MIN_DEG,
                          DEFAULT_TEMPERATURE_C, Site, SpaceSettings)
+from vigil.table_formats import SourceTable
 from vigil.target_source import CatalogueOptions, drop_incomplete, target_cells
 from vigil.textfile import csv_number, line_of, load_toml, number_in_range, read_csv, row_label, spelling_hint
 from vigil.timescales import MAX_PLAUSIBLE_JD, MIN_PLAUSIBLE_JD
@@ -231,12 +232,18 @@ def read_targets(path: str | Path, options: CatalogueOptions | None = None) -> p
     a warning, or refused when strict. Extra columns are kept as text (numbers where
     bodies.NUMBER_COLUMNS says so are checked); one `InputError` line reports the first problem.
     """
-    path = Path(path)
     options = options or CatalogueOptions()
-    source = target_cells(path, options)
+    return targets_from_source(target_cells(Path(path), options), options.strict)
+
+
+def targets_from_source(source: SourceTable, strict: bool = False) -> pd.DataFrame:
+    """The targets table from a catalogue's cells (a file's, or a table built in Python:
+    vigil.table_inputs), checked as `read_targets` checks a file; rows are named as
+    `source.path: line N` (or `row N`) in messages."""
+    path = source.path
     _require_columns(path, source.header, source.cells.columns, REQUIRED_TARGET_FIELDS, "t0_bjd_tdb")
     coordinates = _coordinate_columns(path, source.header, source.cells.columns)
-    table = drop_incomplete(source, (*REQUIRED_TARGET_FIELDS, *coordinates), options.strict)
+    table = drop_incomplete(source, (*REQUIRED_TARGET_FIELDS, *coordinates), strict)
     rows = [_target_row(path, line, row, coordinates) for line, row in table.iterrows()]
     parsed = pd.DataFrame(rows)
     duplicated = parsed["name"].duplicated().to_numpy()
@@ -246,12 +253,12 @@ def read_targets(path: str | Path, options: CatalogueOptions | None = None) -> p
         earlier = table.index[int(np.flatnonzero(parsed["name"] == name)[0])]
         raise InputError(f"{line_of(path, table.index[first])}, field name: target {name!r} appears twice "
                          f"(also on {row_label(earlier)}); expected unique names")
-    for line, values in zip(table.index, rows):  # warnings only once the whole file is valid
+    for line, values in zip(table.index, rows):  # warnings only once the whole table is valid
         for note in _odd_target_notes(path, line, values) + _duration_notes(path, line, values, table.loc[line]):
             log.warning("%s", note)
     extra = [c for c in table.columns if c not in parsed.columns and c not in ("ra", "dec")]
     result = pd.concat([parsed, table[extra].reset_index(drop=True)], axis=1)
-    result.attrs["source_lines"] = dict(zip(parsed["name"], table.index))
+    result.attrs["source_rows"] = dict(zip(parsed["name"], (line_of(path, line) for line in table.index)))
     return schema.TARGETS.check(result)
 
 
@@ -271,8 +278,14 @@ def read_timings(path: str | Path) -> pd.DataFrame:
     """Read measured mid-transit times: target, mid_bjd_tdb, mid_err_d (days), optional note."""
     path = Path(path)
     header_line, table = read_csv(path, "timing")
-    _require_columns(path, header_line, table.columns, TIMING_FIELDS, "mid_bjd_tdb")
-    return pd.DataFrame([_timing_row(path, line, row) for line, row in table.iterrows()])
+    return timings_from_cells(path, header_line, table)
+
+
+def timings_from_cells(source, header, table: pd.DataFrame) -> pd.DataFrame:
+    """The timings table from text cells indexed by line number (or row label), checked like a
+    timings CSV; `source` names the file (or a table built in Python) in messages."""
+    _require_columns(source, header, table.columns, TIMING_FIELDS, "mid_bjd_tdb")
+    return pd.DataFrame([_timing_row(source, line, row) for line, row in table.iterrows()])
 
 
 # --- sites (TOML) --------------------------------------------------------------------------
@@ -286,7 +299,9 @@ def _site_number(path: Path, key: str, entry: dict, field_name: str, low: float,
     return number_in_range(f"{path}: [{key}] {field_name}", entry[field_name], low, high, unit)
 
 
-def _site(path: Path, name: str, entry) -> Site:
+def site_from_entry(path, name: str, entry) -> Site:
+    """One site from its `[sites.NAME]` table (a dict), checked; `path` names the file (or
+    "sites" for a site built in Python) in messages."""
     key = f"sites.{name}"
     if not isinstance(entry, dict):
         raise InputError(f"{path}: [{key}]: expected a table of site fields, got {entry!r}")
@@ -456,4 +471,4 @@ def read_sites(path: str | Path) -> dict[str, Site]:
     if not isinstance(sites, dict) or not sites:
         found = f" (found: {', '.join(document)})" if document else ""
         raise InputError(f"{path}: [sites]: expected one or more [sites.NAME] tables{found}")
-    return {name: _site(path, name, entry) for name, entry in sites.items()}
+    return {name: site_from_entry(path, name, entry) for name, entry in sites.items()}

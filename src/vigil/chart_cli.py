@@ -14,10 +14,12 @@ import typer
 
 from vigil.cli_options import (BASELINE_OPTION, COVERAGE_OPTION, FORCE_OPTION, MIN_ALTITUDE_OPTION,
                                MIN_FRACTION_OPTION, MOON_SEP_OPTION, SIGMA_OPTION, SITE_OPTION, SITES_OPTION,
-                               TWILIGHT_OPTION, constraint_overrides)
+                               TWILIGHT_OPTION, constraint_options)
 from vigil.cli_support import out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
+from vigil.inputs import as_time
 from vigil.export.palette import save_png
+from vigil import api
 from vigil.constraints import resolve_constraints
 
 chart_app = typer.Typer(help="Draw charts (PNG): a transit night, a timeline of windows, timing uncertainty growth. "
@@ -28,14 +30,21 @@ OUT_OPTION = typer.Option(..., "--out", metavar="FILE.png", help="Write the char
 START_OPTION = typer.Option(..., "--start", metavar="DATE", help="First date, UTC (e.g. 2027-03-01).")
 
 
-def _windows(targets_file: Path, sites_file: Path, site, start: str, end: str, overrides: dict, include_all: bool,
+def _windows(targets_file: Path, sites_file: Path, site, start: str, end: str, options: dict, include_all: bool,
              coverage, min_fraction):
-    from vigil.cli import _check_options, _run_windows  # the windows command's own path, so both agree
+    """The windows (internal JD columns, with each target's coordinates) and sites, through the
+    windows command's own path so that both agree."""
+    from vigil import api
+    from vigil.cli import _run_windows
+    from vigil.export.windows_csv import jd_view
 
-    _check_options(overrides)
-    run = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, None, None,
+    run = _run_windows(targets_file, sites_file, site, start, end, options, include_all, None, None,
                        coverage=coverage, min_fraction=min_fraction, keep_all=True)
-    return run.windows, run.sites
+    targets = api.read_targets(targets_file).set_index("name")
+    windows = jd_view(run.windows)
+    windows["ra_deg"] = windows["target"].map(targets["ra_deg"])
+    windows["dec_deg"] = windows["target"].map(targets["dec_deg"])
+    return windows, run.sites
 
 
 @chart_app.command("night")
@@ -63,16 +72,17 @@ def night(
     from vigil.export.night_chart import night_chart
 
     setup_logging()
-    overrides = constraint_overrides(min_altitude, twilight, baseline, sigma, moon_sep)
+    options = constraint_options(min_altitude, twilight, baseline, sigma, moon_sep)
     with user_errors():
         refuse_overwrite([out_path], force)
-        windows, sites = _windows(targets_file, sites_file, site, start, end or start, overrides, include_all,
+        windows, sites = _windows(targets_file, sites_file, site, start, end or start, options, include_all,
                                   coverage, min_fraction)
         ground = windows["site"].map(lambda s: sites[s].kind == "ground").astype(bool)
         mine = windows[(windows["target"] == target) & ground]
         if mine.empty:
             raise InputError(f"no {'' if include_all else 'observable '}windows of {target!r} at a ground site from "
                              f"{start} to {end or start}")
+        overrides = api.constraint_overrides(options)
         constraints = {n: resolve_constraints(s.defaults, overrides) for n, s in sites.items()}
         save_png(night_chart(mine.head(count), sites, constraints), out_path)
     out.print(f"charted {min(count, len(mine))} of {len(mine)} windows; wrote {out_path}")
@@ -97,16 +107,16 @@ def timeline(
 ):
     """Every window per site over a span, one row per target, coloured by coverage; windows of
     different targets that overlap at one site (clashes) outlined and marked."""
-    from vigil.cli import _parse_date, _parse_end
+    from vigil.cli import _inclusive_end
     from vigil.export.timeline_chart import timeline_chart
 
     setup_logging()
-    overrides = constraint_overrides(min_altitude, twilight, baseline, sigma, moon_sep)
+    options = constraint_options(min_altitude, twilight, baseline, sigma, moon_sep)
     with user_errors():
         refuse_overwrite([out_path], force)
-        windows, _ = _windows(targets_file, sites_file, site, start, end, overrides, False, coverage, min_fraction)
+        windows, _ = _windows(targets_file, sites_file, site, start, end, options, False, coverage, min_fraction)
         bars = windows.rename(columns={"window_start_jd_utc": "start_jd_utc", "window_end_jd_utc": "end_jd_utc"})
-        figure = timeline_chart(bars, _parse_date(start, "--start").utc.jd, _parse_end(end).utc.jd,
+        figure = timeline_chart(bars, as_time(start, "--start").utc.jd, as_time(_inclusive_end(end), "--end").utc.jd,
                                 f"Transit windows {start} to {end} (bars: padded windows)")
         save_png(figure, out_path)
     out.print(f"{len(windows)} windows; wrote {out_path}")
@@ -123,17 +133,12 @@ def sigma_growth(
     force: bool = FORCE_OPTION,
 ):
     """Each target's 1-sigma mid-time uncertainty over the years against its stale threshold."""
-    from vigil import catalog
-    from vigil.cli import _parse_date
     from vigil.export.sigma_chart import sigma_chart
 
     setup_logging()
-    overrides = {k: v for k, v in constraint_overrides(baseline=baseline, sigma=sigma).items() if v is not None}
     with user_errors():
-        from vigil.cli import _check_options
-
-        _check_options(overrides)
+        overrides = api.constraint_overrides(constraint_options(baseline=baseline, sigma=sigma))
         refuse_overwrite([out_path], force)
-        targets = catalog.read_targets(targets_file)
-        save_png(sigma_chart(targets, resolve_constraints({}, overrides), _parse_date(start, "--start"), years), out_path)
+        targets = api.read_targets(targets_file)
+        save_png(sigma_chart(targets, resolve_constraints({}, overrides), as_time(start, "--start"), years), out_path)
     out.print(f"wrote {out_path}")

@@ -12,19 +12,15 @@ from typing import NamedTuple, Optional
 import astropy.units as u
 import pandas as pd
 import typer
-from astropy.time import Time
+from typer.core import TyperCommand
 
-from vigil import catalog, notes, schema
+from vigil import __version__, api, catalog, notes
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.run import run_campaign
 from vigil.campaign.spec import read_campaign
-from vigil.cli_options import (BASELINE_OPTION, COVERAGE_OPTION, MIN_ALTITUDE_OPTION, MIN_FRACTION_OPTION,
-                               MOON_SEP_OPTION, SIGMA_OPTION, SITE_OPTION, SITES_OPTION, TWILIGHT_OPTION,
-                               constraint_overrides)
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
-from vigil.ephemeris.projection import with_models
-from vigil.ephemeris.table import read_ephemeris_table
 from vigil.errors import InputError
+from vigil.inputs import as_time
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.plots import hours_plot, resolution_plot
@@ -33,14 +29,11 @@ from vigil.export.html_report import campaign_sections, html_page, windows_secti
 from vigil.export.terminal_tables import UPCOMING_ROWS, compact_table, windows_table
 from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.chart_cli import chart_app
-from vigil.hosts import host_of, mark_shared
 from vigil.target_source import CatalogueOptions
 from vigil.textfile import did_you_mean
 from vigil.journal_cli import journal_app
 from vigil.refit_cli import run_refit
-from vigil.constraints import Constraints
 from vigil.cluster import workers_for
-from vigil.sweep import iter_windows
 from vigil.tally import add_tallies, coverage_tally
 from vigil.window_filter import filter_windows, parse_coverage
 
@@ -49,27 +42,23 @@ app = typer.Typer(help="Plan transit observations: which transits you can observ
                        "spectrum reaches your goal. Angles are in degrees, durations in hours, dates and times in "
                        "UTC (mid-times also in BJD_TDB); site longitudes are east positive.",
                   no_args_is_help=True, add_completion=False, rich_markup_mode=None)
-def _parse_date(text: str, option: str) -> Time:
-    try:
-        return Time(text, scale="utc")
-    except ValueError:
-        raise InputError(f"{option}: expected a UTC date such as 2027-01-01 or 2027-01-01T18:00, got {text!r}") from None
+class _Command(TyperCommand):
+    """Usage lines show arguments as TARGETS.csv, not {TARGETS.csv}."""
+
+    def collect_usage_pieces(self, ctx) -> list[str]:
+        return [p[1:-1] if p.startswith("{") and p.endswith("}") else p for p in super().collect_usage_pieces(ctx)]
 
 
-def _parse_end(text: str) -> Time:
-    """--end: a date alone is included whole (the span ends at 24:00 UTC of it); a time is exact."""
-    end = _parse_date(text, "--end")
-    return end + 1 * u.day if len(text.strip()) <= 10 else end
+def _version(value: bool) -> None:
+    if value:
+        out.print(f"vigil {__version__}", highlight=False)
+        raise typer.Exit()
 
 
-def _select_sites(sites: dict, names: list[str] | None, sites_file: Path) -> dict:
-    if not names:
-        return sites
-    unknown = [n for n in names if n not in sites]
-    if unknown:
-        raise InputError(f"{sites_file}: no site named {unknown[0]!r}{did_you_mean(unknown[0], sites)} "
-                         f"(sites are {', '.join(sites)})")
-    return {n: sites[n] for n in names}
+@app.callback()
+def _main(version: bool = typer.Option(False, "--version", callback=_version, is_eager=True,
+                                       help="Print vigil's version and exit.")):
+    """Plan transit observations (see `vigil COMMAND --help`)."""
 
 
 COUNTED = ("full", "ingress", "egress", "partial")
@@ -83,7 +72,7 @@ def _print_summary(tally, title: str) -> None:
     table = compact_table(title, [("target", "left"), ("site", "left"), *((c, "right") for c in COUNTED),
                                   ("next full window, UTC", "left")])
     for row in tally.itertuples(index=False):
-        first = iso_utc([row.first_full_jd_utc])[0][:16].replace("T", " ") or "-"
+        first = "-" if pd.isna(row.first_full_utc) else row.first_full_utc.strftime("%Y-%m-%d %H:%M")
         table.add_row(row.target, row.site, *(str(getattr(row, c)) for c in COUNTED),
                       first)
     out.print(table)
@@ -91,8 +80,11 @@ def _print_summary(tally, title: str) -> None:
 
 
 HTML_HELP = "Also write a self-contained HTML plan here (one file, no network: charts embedded)."
+COVERAGE_HELP = ("List only these coverage classes, comma-separated (full, ingress, egress, partial, none), in "
+                 "every output [default all].")
+MIN_FRACTION_HELP = "List only windows with at least this fraction (0-1) of the transit observable, in every output."
 JOBS_HELP = ("Worker processes for the windows computation (the targets and the span are split into chunks); "
-             "with --scheduler local, the cluster's workers [default 1].")
+             "with --scheduler local, the cluster's workers; at least 1 [default 1].")
 SCHEDULER_HELP = ("Run the windows computation on a dask cluster (optional extra vigil[dask]): 'local' starts "
                   "one on this machine, tcp://HOST:PORT joins a running scheduler and its workers.")
 CHUNK_DIR_HELP = ("With --scheduler: folder where workers leave their results as Parquet files; workers on "
@@ -109,50 +101,23 @@ STRICT_OPTION = typer.Option(False, "--strict", help="Refuse a targets file with
                              "(otherwise such rows are left out with a warning).")
 
 
-OPTION_OF = {"min_altitude_deg": "--min-altitude", "twilight": "--twilight", "baseline_h": "--baseline",
-             "sigma_k": "--sigma", "moon_sep_deg": "--moon-sep"}
-
-
-def _check_options(overrides: dict) -> None:
-    """Check each constraint option on its own so an error names the option."""
-    for key, value in overrides.items():
-        if value is not None:
-            try:
-                Constraints(**{key: value})
-            except InputError as exc:
-                raise InputError(f"{OPTION_OF[key]}: {str(exc).split(': ', 1)[1]}") from None
-
-
-def _engine(exact: bool) -> str:
-    return "reference" if exact else "fast"
-
-
-class WindowsRun(NamedTuple):
-    """What a windows run hands back: the coverage tally, the windows kept, the sites used, and
-    how many windows were listed in all."""
-
-    tally: pd.DataFrame
-    windows: pd.DataFrame
-    sites: dict
-    listed: int
-
-
-def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, overrides: dict,
-                 include_all: bool, csv_path: Path | None, ics_path: Path | None, engine: str = "fast",
+def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, end: str, constraints: dict,
+                 include_all: bool, csv_path: Path | None, ics_path: Path | None, exact: bool = False,
                  event: str = "transit", local_time: bool = False, jobs: int = 1, scheduler: str | None = None,
                  chunk_dir: Path | None = None, catalogue: CatalogueOptions = CatalogueOptions(),
-                 tables: dict | None = None, coverage: str | None = None, min_fraction: float | None = None,
-                 keep_all: bool = False) -> WindowsRun:
-    """Plan, write the CSV piece by piece and the calendar; return the coverage tally, the sites
-    and the windows kept: all of them with a calendar or `keep_all`, else the first UPCOMING_ROWS."""
+                 ephemeris_table: Path | None = None, extrapolate_table: bool = False, coverage: str | None = None,
+                 min_fraction: float | None = None, keep_all: bool = False) -> "WindowsRun":
+    """Plan through vigil.iter_windows, write the CSV piece by piece and the calendar; return
+    the coverage tally, the sites and the windows kept: all of them with a calendar or
+    `keep_all`, else the first UPCOMING_ROWS."""
+    api.constraint_overrides(constraints)  # option errors before any file is read
     chosen = parse_coverage(coverage)
-    targets = catalog.read_targets(targets_file, catalogue)
-    if tables:
-        targets = with_models(targets, tables)
-    sites = _select_sites(catalog.read_sites(sites_file), site_names, sites_file)
-    start_time, end_time = _parse_date(start, "--start"), _parse_end(end)
-    keep_all = keep_all or ics_path is not None
+    targets = api.read_targets(targets_file, format=catalogue.format, columns=catalogue.columns,
+                               strict=catalogue.strict, ephemeris_table=ephemeris_table,
+                               extrapolate_table=extrapolate_table)
+    sites = api.read_sites(sites_file, site_names or None)
     tallies, kept, listed, found = [], [], [], []
+    keep_all = keep_all or ics_path is not None
 
     def noted(pieces):
         for piece in pieces:
@@ -168,56 +133,74 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
                 kept.append(piece if keep_all else piece.head(UPCOMING_ROWS))
             yield piece
 
-    with LazyProgress("windows (chunks)") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
-        pieces = tallied(mark_shared(noted(iter_windows(targets, sites, overrides, start_time, end_time,
-                                                        jobs=workers.count, engine=engine,
-                                                        include_unobservable=include_all, event=event,
-                                                        on_chunk=lambda _, done, total: progress.advance(done, total),
-                                                        executor=workers.executor, chunk_dir=workers.chunk_dir)),
-                                     host_of(targets)))
+    with LazyProgress("windows (chunks)") as progress:
+        pieces = tallied(noted(api.iter_windows(targets, sites, start, _inclusive_end(end), include_unobservable=include_all,
+                                                event=event, exact=exact, jobs=jobs, scheduler=scheduler,
+                                                chunk_dir=chunk_dir, on_progress=progress.advance, **constraints)))
         if csv_path is not None:
             write_windows_csv_pieces(pieces, csv_path,
                                      {n: s.timezone for n, s in sites.items()} if local_time else None)
         else:
             collections.deque(pieces, maxlen=0)
-    windows = (pd.concat(kept, ignore_index=True) if kept
-               else pd.DataFrame(columns=[*schema.TRANSIT_COLUMNS, *schema.WINDOW_COLUMNS]))
     notes.report(notes.merged(*found))
+    windows = pd.concat(kept, ignore_index=True)
     if ics_path is not None:
         write_windows_ics(windows, ics_path, {n: s.timezone for n, s in sites.items()})
     return WindowsRun(add_tallies(tallies), windows, sites, sum(listed))
 
 
-@app.command()
+class WindowsRun(NamedTuple):
+    """What a windows run hands back: the coverage tally, the windows kept, the sites used, and
+    how many windows were listed in all."""
+
+    tally: pd.DataFrame
+    windows: pd.DataFrame
+    sites: dict
+    listed: int
+
+
+def _inclusive_end(text: str) -> str:
+    """--end: a date alone is included whole (the span ends at 24:00 UTC of it); a time is exact."""
+    if len(text.strip()) != 10:
+        return text
+    try:
+        return (as_time(text, "--end") + 1 * u.day).utc.isot
+    except InputError:
+        return text  # api names the bad date
+
+
+@app.command(cls=_Command)
 def windows(
+    context: typer.Context,
     targets_file: Path = typer.Argument(..., metavar="TARGETS.csv", help="Targets CSV: name, ra_deg, dec_deg (or ra/dec sexagesimal), "
                                         "t0_bjd_tdb, t0_err_d, period_d, period_err_d, duration_h."),
-    sites_file: Path = SITES_OPTION,
-    site: Optional[list[str]] = SITE_OPTION,
+    sites_file: Path = typer.Option(..., "--sites", metavar="SITES.toml", help="Sites TOML with [sites.NAME] tables."),
+    site: Optional[list[str]] = typer.Option(None, "--site", metavar="NAME", help="Site name to use (repeatable); default every site in the file."),
     start: str = typer.Option(..., "--start", metavar="DATE", help="First date, UTC (e.g. 2027-01-01)."),
     end: str = typer.Option(..., "--end", metavar="DATE", help="Last date, UTC, included whole (e.g. 2027-12-31); "
                             "a date with a time (2027-12-31T06:00) ends there."),
     csv_path: Optional[Path] = typer.Option(None, "--csv", metavar="FILE", help="Write the windows table here (CSV, times in UTC)."),
     ics_path: Optional[Path] = typer.Option(None, "--ics", metavar="FILE", help="Write the windows as an iCalendar file here."),
-    min_altitude: Optional[float] = MIN_ALTITUDE_OPTION,
-    twilight: Optional[str] = TWILIGHT_OPTION,
-    baseline: Optional[float] = BASELINE_OPTION,
-    sigma: Optional[float] = SIGMA_OPTION,
-    moon_sep: Optional[float] = MOON_SEP_OPTION,
+    min_altitude: Optional[float] = typer.Option(None, "--min-altitude", metavar="DEG", help="Lowest target altitude, degrees [default 30]."),
+    twilight: Optional[str] = typer.Option(None, "--twilight", metavar="KIND", help="Darkness needed: civil, nautical or astronomical "
+                                           "(Sun's centre below -6, -12 or -18 degrees) [default astronomical]."),
+    baseline: Optional[float] = typer.Option(None, "--baseline", metavar="HOURS", help="Out-of-transit time wanted before ingress and after egress, hours [default 1]."),
+    sigma: Optional[float] = typer.Option(None, "--sigma", metavar="K", help="Pad each side by K times the 1-sigma mid-time uncertainty; 0 disables [default 1]."),
+    moon_sep: Optional[float] = typer.Option(None, "--moon-sep", metavar="DEG", help="Least Moon-target separation, degrees; 0 disables [default 0]."),
+    coverage: Optional[str] = typer.Option(None, "--coverage", metavar="LIST", help=COVERAGE_HELP),
+    min_fraction: Optional[float] = typer.Option(None, "--min-fraction", metavar="F", help=MIN_FRACTION_HELP),
+    html_path: Optional[Path] = typer.Option(None, "--html", metavar="FILE", help=HTML_HELP),
     include_all: bool = typer.Option(False, "--all", help="List unobservable transits too (coverage 'none')."),
     force: bool = typer.Option(False, "--force", help="Replace existing --csv/--ics files (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
-    event: str = typer.Option("transit", "--event", metavar="KIND",
+    event: str = typer.Option("transit", "--event", metavar="KIND", show_default=False,
                               help="transit, or occultation (secondary eclipse; uses the optional target columns "
                                    "eccentricity, omega_deg, inclination_deg) [default transit]."),
     local_time: bool = typer.Option(False, "--local-time", help="Add local civil times (each site's IANA timezone, "
                                     "with UTC offset) to the CSV."),
-    jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    jobs: int = typer.Option(1, "--jobs", metavar="N", show_default=False, help=JOBS_HELP),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
     chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
-    coverage: Optional[str] = COVERAGE_OPTION,
-    min_fraction: Optional[float] = MIN_FRACTION_OPTION,
-    html_path: Optional[Path] = typer.Option(None, "--html", metavar="FILE", help=HTML_HELP),
     fmt: Optional[str] = FORMAT_OPTION,
     columns: Optional[Path] = COLUMNS_OPTION,
     strict: bool = STRICT_OPTION,
@@ -233,18 +216,17 @@ def windows(
     also in BJD_TDB. Longitudes in the sites file are east positive.
     """
     setup_logging()
-    overrides = constraint_overrides(min_altitude, twilight, baseline, sigma, moon_sep)
-    with user_errors():
-        _check_options(overrides)
+    constraints = {"min_altitude": min_altitude, "twilight": twilight, "baseline": baseline, "sigma": sigma,
+                   "moon_sep": moon_sep}
+    with user_errors(context):
         refuse_overwrite((csv_path, ics_path, html_path), force)
-        tables = read_ephemeris_table(ephemeris_table, extrapolate_table) if ephemeris_table is not None else None
-        run = _run_windows(targets_file, sites_file, site, start, end, overrides, include_all, csv_path, ics_path,
-                           _engine(exact), event.lower(), local_time, jobs, scheduler, chunk_dir,
-                           CatalogueOptions(fmt, columns, strict), tables, coverage, min_fraction,
-                           keep_all=html_path is not None)
+        run = _run_windows(targets_file, sites_file, site, start, end, constraints, include_all, csv_path, ics_path,
+                           exact, event.lower(), local_time, jobs, scheduler, chunk_dir,
+                           CatalogueOptions(fmt, columns, strict), ephemeris_table, extrapolate_table, coverage,
+                           min_fraction, keep_all=html_path is not None)
         if html_path is not None:
             write_html(html_path, html_page(f"Transit windows {start} to {end}",
-                                            windows_sections(run.windows, run.sites, overrides)))
+                                            windows_sections(run.windows, run.sites, api.constraint_overrides(constraints))))
     _print_summary(run.tally, f"Transit windows {start} to {end}")
     if csv_path is None and ics_path is None and html_path is None and len(run.windows):
         out.print(windows_table(run.windows, {n: s.timezone for n, s in run.sites.items()}, run.listed))
@@ -349,8 +331,8 @@ def campaign_command(
     jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
     chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
-    html_path: Optional[Path] = typer.Option(None, "--html", metavar="FILE", help=HTML_HELP),
     strict: bool = STRICT_OPTION,
+    html_path: Optional[Path] = typer.Option(None, "--html", metavar="FILE", help=HTML_HELP),
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
@@ -360,7 +342,7 @@ def campaign_command(
     setup_logging()
     with user_errors():
         refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES] + [html_path], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, _engine(exact), jobs, scheduler, chunk_dir,
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, "reference" if exact else "fast", jobs, scheduler, chunk_dir,
                                             strict)
         if html_path is not None:
             write_html(html_path, html_page(f"Campaign {campaign_file.name}", campaign_sections(result, spec)))
@@ -426,8 +408,8 @@ def space_seasons(
     setup_logging()
     with user_errors():
         refuse_overwrite((csv_path, plot_path), force)
-        targets = catalog.read_targets(targets_file, CatalogueOptions(fmt, columns, strict))
-        site = _select_sites(catalog.read_sites(sites_file), [site_name], sites_file)[site_name]
+        targets = api.read_targets(targets_file, format=fmt, columns=columns, strict=strict)
+        site = api.read_sites(sites_file, site_name)[site_name]
         if site.kind != "space":
             raise InputError(f"{sites_file}: [sites.{site_name}] is a ground site; space-seasons needs kind = \"space\"")
         rows = [{"target": t.name, "site": site_name, "start_jd": lo.utc.jd, "end_jd": hi.utc.jd}

@@ -25,10 +25,10 @@ SITE_OPTION = typer.Option(None, "--site", metavar="NAME",
 FORCE_OPTION = typer.Option(False, "--force", help="Replace existing output files (otherwise vigil refuses).")
 
 
-def constraint_overrides(min_altitude=None, twilight=None, baseline=None, sigma=None, moon_sep=None) -> dict:
-    """The constraint options as `resolve_constraints` overrides (None: not given on the command line).
+def constraint_options(min_altitude=None, twilight=None, baseline=None, sigma=None, moon_sep=None) -> dict:
+    """The constraint options as the keywords of `vigil.plan_windows` (None: not given).
 
-    Example: ``constraint_overrides(sigma=2.0)["sigma_k"] == 2.0``.
+    Example: ``constraint_options(sigma=2.0)["sigma"] == 2.0``.
     """
-    return {"min_altitude_deg": min_altitude, "twilight": twilight, "baseline_h": baseline, "sigma_k": sigma,
-            "moon_sep_deg": moon_sep}
+    return {"min_altitude": min_altitude, "twilight": twilight, "baseline": baseline, "sigma": sigma,
+            "moon_sep": moon_sep}

@@ -8,7 +8,7 @@ from contextlib import contextmanager
 import typer
 from rich.console import Console
 
-from vigil.errors import InputError
+from vigil.errors import ArgumentError, InputError
 
 err = Console(stderr=True)
 out = Console()
@@ -29,14 +29,27 @@ def setup_logging() -> None:
 
 
 @contextmanager
-def user_errors():
-    """Turn InputError into one line on stderr and exit status 2."""
+def user_errors(context: typer.Context | None = None):
+    """Turn InputError into one line on stderr and exit status 2. Given the command's context, an
+    error about an argument of the Python API that is also an option of the command names the
+    option as typed (`--event: ...`, not `event: ...`)."""
     try:
         yield
+    except ArgumentError as exc:
+        flag = _option_flag(context, exc.argument)
+        _error_line(f"{flag}: {exc.detail}" if flag else str(exc))
     except InputError as exc:
         _error_line(str(exc))
     except OSError as exc:  # an output that cannot be written: a folder, a read-only place, a full disk
         _error_line(f"cannot write {exc.filename or 'an output file'}: {exc.strerror or exc}")
+
+
+def _option_flag(context: typer.Context | None, argument: str) -> str | None:
+    """The command's option (e.g. --min-altitude) for a Python argument name (min_altitude)."""
+    for parameter in context.command.params if context else ():
+        if parameter.name == argument and parameter.opts and parameter.opts[0].startswith("--"):
+            return parameter.opts[0]
+    return None
 
 
 def _error_line(message: str):

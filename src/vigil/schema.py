@@ -32,7 +32,7 @@ OBSERVABLE_FRACTION = "observable_fraction"
 OBSERVABLE_START_JD_UTC = "observable_start_jd_utc"
 OBSERVABLE_END_JD_UTC = "observable_end_jd_utc"
 
-_DTYPES = {"float": "float64", "int": "int64", "bool": "bool", "text": "str"}
+_DTYPES = {"float": "float64", "int": "int64", "bool": "bool", "text": "str", "utc": "datetime64[ns, UTC]"}
 
 
 class SchemaError(RuntimeError):
@@ -115,6 +115,8 @@ def _has_kind(values: pd.Series, kind) -> bool:
         return pd.api.types.is_integer_dtype(dtype)
     if kind == "bool":
         return pd.api.types.is_bool_dtype(dtype)
+    if kind == "utc":
+        return isinstance(dtype, pd.DatetimeTZDtype) and str(dtype.tz) == "UTC"
     return not pd.api.types.is_numeric_dtype(dtype) or values.empty
 
 
@@ -225,5 +227,25 @@ FORECAST = Table("forecast", (
     _col("resolution_at_goal_snr_p90", "", "float", "resolution reached at the goal SNR, 90th percentile"),
 ), extra_allowed=True)
 
-TABLES = (TARGETS, TRANSITS, WINDOWS, VISITS, LEDGER, SUMMARY, FORECAST)
+# The windows table as the Python API hands it out and the writers read it: times as UTC
+# datetimes (kind "utc") to the second, the mid-time's sigma in minutes.
+_OUT_TIME = {"mid_utc": "mid-time as seen at the site", "ingress_utc": "first contact at the site",
+             "egress_utc": "fourth contact at the site", "window_start_utc": "ingress minus baseline minus K sigma",
+             "window_end_utc": "egress plus baseline plus K sigma",
+             "observable_start_utc": "start of the longest observable stretch overlapping the transit",
+             "observable_end_utc": "end of that stretch"}
+_WINDOW_COLUMN = {c.name: c for c in WINDOWS.columns}
+WINDOWS_OUT = Table("windows (handed out)", (
+    *(_WINDOW_COLUMN[n] for n in (TARGET, SITE, "event", EPOCH, MID_BJD_TDB)),
+    _col("mid_utc", "UTC", "utc", _OUT_TIME["mid_utc"]),
+    _col("mid_sigma_min", "min", "float", "1-sigma uncertainty of the mid-time"),
+    *(_col(n, "UTC", "utc", _OUT_TIME[n]) for n in ("ingress_utc", "egress_utc", "window_start_utc", "window_end_utc")),
+    _COVERAGE, _WINDOW_COLUMN[OBSERVABLE_FRACTION],
+    *(_col(n, "UTC", "utc", _OUT_TIME[n]) for n in ("observable_start_utc", "observable_end_utc")),
+    *(_WINDOW_COLUMN[n] for n in ("alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination",
+                                  "stale")),
+    _SHARED_WITH,
+))
+
+TABLES = (TARGETS, TRANSITS, WINDOWS, WINDOWS_OUT, VISITS, LEDGER, SUMMARY, FORECAST)
 TARGET_COLUMNS = TARGETS.descriptions

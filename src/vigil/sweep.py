@@ -31,7 +31,7 @@ from astropy.time import Time
 
 from vigil import notes, schema, windows
 from vigil.sites import Site
-from vigil.errors import InputError
+from vigil.errors import ArgumentError, InputError
 from vigil.notes import Note
 
 # With chunk_targets=None, consecutive targets are grouped until their expected transits
@@ -127,7 +127,7 @@ def iter_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
 
 def _check(targets: pd.DataFrame, jobs, chunk_targets, segment_days) -> None:
     if isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1:
-        raise InputError(f"jobs: expected a whole number of processes >= 1, got {jobs!r}")
+        raise ArgumentError("jobs", f"expected a whole number of processes >= 1, got {jobs!r}")
     if chunk_targets is not None and (isinstance(chunk_targets, bool) or not isinstance(chunk_targets, int)
                                       or chunk_targets < 1):
         raise InputError(f"chunk_targets: expected a whole number of targets >= 1 or None, got {chunk_targets!r}")

@@ -84,7 +84,6 @@ def read_typed_table(path: Path, fmt: str) -> SourceTable:
     Unit("h")
     """
     from astropy.table import Table
-    from astropy.time import Time
 
     if not path.is_file():
         raise InputError(f"{path}: cannot read file (no such file)")
@@ -96,6 +95,22 @@ def read_typed_table(path: Path, fmt: str) -> SourceTable:
         reason = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise InputError(f"{path}: not a readable {_label(fmt)} table ({reason}); check the file, "
                          "or give --format if the extension misleads") from None
+    return table_cells(table, path)
+
+
+def table_cells(table, path, first_row: int = 1, header: str = "header") -> SourceTable:
+    """An astropy Table (or QTable) as text cells with the units its columns state; rows are
+    named "row N" from `first_row`. A SkyCoord column gives ra_deg and dec_deg (ICRS).
+
+    Examples
+    --------
+    >>> from astropy.table import QTable
+    >>> table_cells(QTable({"duration_h": [150.0] * u.min}), "targets").units["duration_h"]
+    Unit("min")
+    """
+    from astropy.coordinates import SkyCoord
+    from astropy.time import Time
+
     if len(table) == 0:
         raise InputError(f"{path}: no rows; expected one row per target")
     cells, units = {}, {}
@@ -104,11 +119,16 @@ def read_typed_table(path: Path, fmt: str) -> SourceTable:
         if isinstance(column, Time):
             cells[name] = _time_cells(path, name, column)
             continue
+        if isinstance(column, SkyCoord):
+            icrs = column.icrs
+            cells.setdefault("ra_deg", [repr(float(v)) for v in icrs.ra.deg])
+            cells.setdefault("dec_deg", [repr(float(v)) for v in icrs.dec.deg])
+            continue
         if getattr(column, "unit", None) is not None:
             units[name] = column.unit
-        cells[name] = _text_cells(column)
-    index = [f"row {n}" for n in range(1, len(table) + 1)]
-    return SourceTable(path, pd.DataFrame(cells, index=index, dtype=str), units, header="header")
+        cells[name] = _text_cells(column.value if isinstance(column, u.Quantity) else column)
+    index = [f"row {n}" for n in range(first_row, first_row + len(table))]
+    return SourceTable(path, pd.DataFrame(cells, index=index, dtype=str), units, header=header)
 
 
 def _label(fmt: str) -> str:

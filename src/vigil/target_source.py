@@ -54,6 +54,12 @@ def target_cells(path: Path, options: CatalogueOptions) -> SourceTable:
         source = SourceTable(path, cells, {}, header)
     else:
         source = read_typed_table(path, fmt)
+    return prepared_cells(source, options)
+
+
+def prepared_cells(source: SourceTable, options: CatalogueOptions) -> SourceTable:
+    """A catalogue's cells (a file's or a table's built in Python) under vigil's field names,
+    by the column mapping if any, and in their units."""
     if options.columns is not None:
         source = apply_column_map(read_column_map(options.columns, MAPPABLE_FIELDS), source)
     return in_field_units(source)

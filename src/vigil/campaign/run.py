@@ -19,17 +19,15 @@ from vigil.errors import InputError
 from vigil.journal import open_journal
 from vigil.sweep import plan_windows_chunked
 from vigil.hosts import host_of
-from vigil.textfile import line_of
 
 TRIAL_CHUNK = 50
 
 
 def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
     found, priority = {}, {}
-    lines = targets.attrs.get("source_lines", {})  # file line of each target, kept by read_targets
+    places = targets.attrs.get("source_rows", {})  # "FILE: line N" of each target, kept by read_targets
     for row in targets.to_dict("records"):
-        line = lines.get(row["name"])
-        where = line_of(spec.targets_file, line) if line else str(spec.targets_file)
+        where = places.get(row["name"], str(spec.targets_file or "targets"))
         planet, star = bodies.target_bodies(pd.Series(row), where)
         found[row["name"]] = forecast.Body(planet, star)
         priority[row["name"]] = bodies.priority_of(pd.Series(row), where)

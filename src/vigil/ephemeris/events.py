@@ -12,7 +12,7 @@ import pandas as pd
 
 from vigil.ephemeris import occultation
 from vigil.ephemeris.models import numeric_column
-from vigil.errors import InputError
+from vigil.errors import ArgumentError, InputError
 
 EVENTS = ("transit", "occultation")
 ORBIT_COLUMNS = {"eccentricity": (0.0, 0.95), "omega_deg": (-360.0, 360.0), "inclination_deg": (0.0, 180.0)}
@@ -29,7 +29,7 @@ def event_offsets(targets: pd.DataFrame, event: str) -> tuple[np.ndarray, np.nda
     (1.5, 2.0)
     """
     if event not in EVENTS:
-        raise InputError(f"event: expected transit or occultation, got {event!r}")
+        raise ArgumentError("event", f"expected transit or occultation, got {event!r}")
     duration_h = targets["duration_h"].to_numpy(dtype=float)
     if event == "transit":
         return np.zeros(len(targets)), duration_h

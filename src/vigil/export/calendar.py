@@ -31,6 +31,7 @@ import pandas as pd
 
 from vigil.export.files import write_atomic
 from vigil.export.table import iso_utc
+from vigil.export.windows_csv import jd_view
 from vigil.hosts import overlap_groups
 from vigil.time_units import MINUTES_PER_DAY
 
@@ -157,6 +158,7 @@ def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None, previ
     calendar.add("description", SAFETY_NOTE)
     calendar.add("x-wr-caldesc", SAFETY_NOTE)
     stamp = run_stamp()
+    windows = jd_view(windows)
     observable = windows[(windows["coverage"].astype(str) != "none") & windows["observable_start_jd_utc"].notna()]
     for rows in _pointings(observable.reset_index(drop=True)):
         w = rows[0]

@@ -23,6 +23,7 @@ from vigil.export.night_chart import night_chart
 from vigil.export.plots import hours_figure, resolution_figure
 from vigil.export.table import iso_utc
 from vigil.export.timeline_chart import timeline_chart
+from vigil.export.windows_csv import jd_view
 from vigil.sites import Site
 from vigil.time_units import MINUTES_PER_DAY
 
@@ -137,6 +138,7 @@ def windows_sections(windows: pd.DataFrame, sites: dict[str, Site], overrides: d
     """
     if windows.empty:
         return [("Windows", "<p>No observable transits in the span.</p>")]
+    windows = jd_view(windows)
     bars = windows.rename(columns={"window_start_jd_utc": "start_jd_utc", "window_end_jd_utc": "end_jd_utc"})
     start_jd = float(np.floor(windows["window_start_jd_utc"].min() - 0.5) + 0.5)
     ground = windows["site"].map(lambda s: sites[s].kind == "ground").astype(bool)

@@ -22,6 +22,7 @@ from matplotlib.patches import Patch
 
 from vigil import sky
 from vigil.constraints import Constraints
+from vigil.export.windows_csv import UNIX_EPOCH_JD  # matplotlib's date numbers count days from it
 from vigil.local_sky import dark_intervals
 from vigil.sites import Site
 from vigil.errors import InputError
@@ -31,7 +32,6 @@ from vigil.time_units import HOURS_PER_DAY, MINUTES_PER_DAY
 
 STEP_MIN = 2.0
 MARGIN_H = 6.0  # shown on each side of the padded window
-UNIX_EPOCH_JD = 2440587.5  # matplotlib's date numbers count days from 1970-01-01 UTC
 SKY_LEVELS_DEG = (("civil", 0.0), ("nautical", -6.0), ("astronomical", -12.0), ("night", -18.0))
 AIRMASS_TICKS = (1.0, 1.1, 1.3, 1.5, 2.0, 3.0)
 

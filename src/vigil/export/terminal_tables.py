@@ -12,6 +12,7 @@ from rich import box
 from rich.table import Table
 
 from vigil.export.table import iso_utc
+from vigil.export.windows_csv import jd_view
 from vigil.time_units import MINUTES_PER_DAY
 
 UPCOMING_ROWS = 25
@@ -43,7 +44,7 @@ def windows_table(windows: pd.DataFrame, timezones: dict, total: int | None = No
 
     Example: ``Console().print(windows_table(windows, {"mirador_sur": "America/Santiago"}))``.
     """
-    shown = windows.head(rows)
+    shown = jd_view(windows.head(rows))
     table = compact_table(f"Upcoming windows, first {len(shown)} of {total or len(windows)} (stretch: site local time; "
                           "* UTC)",
                    [("mid UTC", "left"), ("target", "left"), ("site", "left"), ("coverage", "left"), ("obs", "right"),

@@ -10,7 +10,9 @@ import pandas as pd
 from vigil import schema
 from vigil.export.files import atomic_stream
 from vigil.export.table import csv_bytes, iso_utc
-from vigil.time_units import MINUTES_PER_DAY
+from vigil.time_units import MINUTES_PER_DAY, SECONDS_PER_DAY
+
+UNIX_EPOCH_JD = 2440587.5  # 1970-01-01T00:00:00 UTC (UTC days of 86400 s; leap seconds are not counted by POSIX time)
 
 TIME_COLUMNS = {
     "mid_utc": schema.MID_JD_UTC,
@@ -21,36 +23,66 @@ TIME_COLUMNS = {
     "observable_start_utc": schema.OBSERVABLE_START_JD_UTC,
     "observable_end_utc": schema.OBSERVABLE_END_JD_UTC,
 }
-COLUMNS = ["target", "site", "event", "epoch", "mid_bjd_tdb", "mid_utc", "mid_sigma_min", "ingress_utc", "egress_utc",
-           "window_start_utc", "window_end_utc", "coverage", schema.OBSERVABLE_FRACTION, "observable_start_utc",
-           "observable_end_utc", "alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale", "shared_with"]
+COLUMNS = list(schema.WINDOWS_OUT.names)
 DECIMALS = {schema.MID_BJD_TDB: 6, "mid_sigma_min": 2, schema.OBSERVABLE_FRACTION: 4, "alt_mid_deg": 2,
             "airmass_mid": 3, "sun_alt_mid_deg": 2, "moon_sep_deg": 2, "moon_illumination": 3}
 
 
-def windows_for_export(windows: pd.DataFrame) -> pd.DataFrame:
-    """The export columns: ISO UTC times, sigma in minutes, rounded numbers."""
-    out = pd.DataFrame({c: windows[c] for c in ("target", "site", "event", "epoch", schema.MID_BJD_TDB, "coverage",
-                                                 schema.OBSERVABLE_FRACTION, "alt_mid_deg", "airmass_mid",
+def utc_datetimes(jd_utc) -> pd.Series:
+    """JD UTC as timezone-aware UTC datetimes (datetime64[ns, UTC]) rounded to the second as in
+    the CSV; NaT where the JD is NaN."""
+    return pd.Series(pd.to_datetime(iso_utc(jd_utc), utc=True, format="ISO8601", errors="coerce")
+                     ).astype("datetime64[ns, UTC]")
+
+
+def windows_table(windows: pd.DataFrame) -> pd.DataFrame:
+    """The windows table as vigil hands it out: the CSV's columns, times as UTC datetimes,
+    BJD_TDB as float days, numbers unrounded, the notes kept. A table already in this form is
+    returned as is.
+
+    Examples
+    --------
+    >>> windows_table(internal)["mid_utc"].dtype  # doctest: +SKIP
+    datetime64[ns, UTC]
+    """
+    if schema.MID_JD_UTC not in windows.columns:
+        return schema.WINDOWS_OUT.check(windows)
+    schema.WINDOWS.check(windows)
+    out = pd.DataFrame({c: windows[c] for c in ("target", "site", "event", "epoch", "mid_bjd_tdb", "coverage",
+                                                 "observable_fraction", "alt_mid_deg", "airmass_mid",
                                                  "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale")})
     out["mid_sigma_min"] = windows[schema.MID_SIGMA_D] * MINUTES_PER_DAY
     out["shared_with"] = windows["shared_with"] if "shared_with" in windows.columns else ""
     for name, source in TIME_COLUMNS.items():
-        out[name] = iso_utc(windows[source].to_numpy())
-    return out[COLUMNS].round(DECIMALS)
+        out[name] = utc_datetimes(windows[source].to_numpy()).set_axis(out.index)
+    out = out[COLUMNS].reset_index(drop=True)
+    out.attrs.update(windows.attrs)  # notes found on the way (vigil.notes)
+    return schema.WINDOWS_OUT.check(out)
 
 
-LOCAL_COLUMNS = {"mid_local": schema.MID_JD_UTC, "window_start_local": schema.WINDOW_START_JD_UTC,
-                 "window_end_local": schema.WINDOW_END_JD_UTC}
+def iso_text(times: pd.Series) -> pd.Series:
+    """UTC datetimes as ISO 8601 text with a `Z`, to the second; empty where NaT."""
+    return times.dt.strftime("%Y-%m-%dT%H:%M:%SZ").fillna("").astype(object)
+
+
+def windows_for_export(windows: pd.DataFrame) -> pd.DataFrame:
+    """The CSV's cells: ISO UTC times, rounded numbers."""
+    out = windows_table(windows)[COLUMNS].copy()
+    for name in TIME_COLUMNS:
+        out[name] = iso_text(out[name])
+    return out.round(DECIMALS)
+
+
+LOCAL_COLUMNS = {"mid_local": "mid_utc", "window_start_local": "window_start_utc", "window_end_local": "window_end_utc"}
 
 
 def local_times(windows: pd.DataFrame, timezones: dict) -> pd.DataFrame:
-    """Local civil times (ISO 8601 with UTC offset) in each site's IANA zone; empty without a zone."""
+    """Local civil times (ISO 8601 with UTC offset) in each site's IANA zone; empty without a zone.
+    `windows` as `windows_table` gives it."""
     out = {}
     for name, source in LOCAL_COLUMNS.items():
-        utc = pd.to_datetime(iso_utc(windows[source].to_numpy()), utc=True, errors="coerce")
         out[name] = [t.tz_convert(ZoneInfo(timezones[s])).isoformat() if timezones.get(s) and not pd.isna(t) else ""
-                     for t, s in zip(utc, windows["site"])]
+                     for t, s in zip(windows[source], windows["site"])]
     return pd.DataFrame(out, index=windows.index)
 
 
@@ -68,8 +100,29 @@ def write_windows_csv_pieces(pieces: Iterable[pd.DataFrame], path, timezones: di
     >>> write_windows_csv_pieces(iter_windows(targets, sites, {}, start, end), "windows.csv")  # doctest: +SKIP
     """
     with atomic_stream(path) as stream:
-        for number, windows in enumerate(pieces):
-            table = windows_for_export(schema.WINDOWS.check(windows))
+        for number, piece in enumerate(pieces):
+            windows = windows_table(piece)
+            table = windows_for_export(windows)
             if timezones is not None:
                 table = pd.concat([table, local_times(windows, timezones)], axis=1)
             stream.write(csv_bytes(table, text_columns=("target", "site", "shared_with"), header=number == 0))
+
+
+def jd_view(windows: pd.DataFrame) -> pd.DataFrame:
+    """The inverse of `windows_table`: a table with the internal time columns (JD UTC, mid_sigma_d)
+    from one with UTC datetimes; an internal table is returned as is. Charts and the calendar
+    compute in JD.
+
+    Examples
+    --------
+    >>> jd_view(vigil.plan_windows("targets.csv", "sites.toml", "2027-01-01", "2027-01-08"))  # doctest: +SKIP
+    """
+    if schema.MID_JD_UTC in windows.columns or "mid_utc" not in windows.columns:
+        return windows
+    out = windows.copy()
+    for name, internal in TIME_COLUMNS.items():
+        moments = pd.to_datetime(windows[name], utc=True)
+        seconds = (moments - pd.Timestamp("1970-01-01", tz="UTC")).dt.total_seconds()
+        out[internal] = UNIX_EPOCH_JD + seconds.to_numpy(dtype=float) / SECONDS_PER_DAY
+    out[schema.MID_SIGMA_D] = windows["mid_sigma_min"] / MINUTES_PER_DAY
+    return out
