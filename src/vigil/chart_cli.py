@@ -34,17 +34,12 @@ def _windows(targets_file: Path, sites_file: Path, site, start: str, end: str, o
              coverage, min_fraction):
     """The windows (internal JD columns, with each target's coordinates) and sites, through the
     windows command's own path so that both agree."""
-    from vigil import api
     from vigil.cli import _run_windows
-    from vigil.export.windows_csv import jd_view
+    from vigil.export.night_chart import with_coordinates
 
     run = _run_windows(targets_file, sites_file, site, start, end, options, include_all, None, None,
                        coverage=coverage, min_fraction=min_fraction, keep_all=True)
-    targets = api.read_targets(targets_file).set_index("name")
-    windows = jd_view(run.windows)
-    windows["ra_deg"] = windows["target"].map(targets["ra_deg"])
-    windows["dec_deg"] = windows["target"].map(targets["dec_deg"])
-    return windows, run.sites
+    return with_coordinates(run.windows, run.targets), run.sites
 
 
 @chart_app.command("night")

@@ -25,6 +25,7 @@ from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
+from vigil.export.night_chart import with_coordinates
 from vigil.export.html_report import campaign_sections, html_page, windows_sections, write_html
 from vigil.export.terminal_tables import UPCOMING_ROWS, compact_table, windows_table
 from vigil.export.windows_csv import write_windows_csv_pieces
@@ -146,17 +147,18 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
     windows = pd.concat(kept, ignore_index=True)
     if ics_path is not None:
         write_windows_ics(windows, ics_path, {n: s.timezone for n, s in sites.items()})
-    return WindowsRun(add_tallies(tallies), windows, sites, sum(listed))
+    return WindowsRun(add_tallies(tallies), windows, sites, sum(listed), targets)
 
 
 class WindowsRun(NamedTuple):
     """What a windows run hands back: the coverage tally, the windows kept, the sites used, and
-    how many windows were listed in all."""
+    how many windows were listed in all, the targets read."""
 
     tally: pd.DataFrame
     windows: pd.DataFrame
     sites: dict
     listed: int
+    targets: pd.DataFrame
 
 
 def _inclusive_end(text: str) -> str:
@@ -226,7 +228,8 @@ def windows(
                            min_fraction, keep_all=html_path is not None)
         if html_path is not None:
             write_html(html_path, html_page(f"Transit windows {start} to {end}",
-                                            windows_sections(run.windows, run.sites, api.constraint_overrides(constraints))))
+                                            windows_sections(with_coordinates(run.windows, run.targets), run.sites,
+                                                             api.constraint_overrides(constraints))))
     _print_summary(run.tally, f"Transit windows {start} to {end}")
     if csv_path is None and ics_path is None and html_path is None and len(run.windows):
         out.print(windows_table(run.windows, {n: s.timezone for n, s in run.sites.items()}, run.listed))
@@ -253,7 +256,7 @@ def demo(
         _print_summary(run.tally, "Demo: transit windows in 2027")
         spec, campaign_result, paths = _run_campaign(demo_file("campaign.toml"), None, out_dir)
         write_html(out_dir / "plan.html", html_page("vigil demo: windows of 2027 and a 30-year campaign",
-                                                    [*windows_sections(run.windows, run.sites),
+                                                    [*windows_sections(with_coordinates(run.windows, run.targets), run.sites),
                                                      *campaign_sections(campaign_result, spec)]))
     _print_campaign(campaign_result, spec)
     names = ", ".join(p.name for p in [out_dir / "windows.csv", out_dir / "windows.ics", *paths, out_dir / "plan.html"])

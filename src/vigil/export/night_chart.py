@@ -22,7 +22,7 @@ from matplotlib.patches import Patch
 
 from vigil import sky
 from vigil.constraints import Constraints
-from vigil.export.windows_csv import UNIX_EPOCH_JD  # matplotlib's date numbers count days from it
+from vigil.export.windows_csv import UNIX_EPOCH_JD, jd_view  # matplotlib's date numbers count days from the epoch
 from vigil.local_sky import dark_intervals
 from vigil.sites import Site
 from vigil.errors import InputError
@@ -55,6 +55,19 @@ class NightCurves:
     def altitude_at(self, jd_utc) -> np.ndarray:
         """The plotted target altitude (deg) at `jd_utc`, interpolated as the line is drawn."""
         return np.interp(jd_utc, self.jd_utc, self.target_alt_deg)
+
+
+def with_coordinates(windows: pd.DataFrame, targets: pd.DataFrame) -> pd.DataFrame:
+    """The windows (either form, see windows_csv.jd_view) in JD form with each target's ra_deg
+    and dec_deg (ICRS degrees) from the targets table, as the night chart needs them.
+
+    Example: ``with_coordinates(vigil.plan_windows(...), vigil.read_targets("targets.csv"))``.
+    """
+    out = jd_view(windows).copy()
+    by_name = targets.set_index("name")
+    out["ra_deg"] = out["target"].map(by_name["ra_deg"])
+    out["dec_deg"] = out["target"].map(by_name["dec_deg"])
+    return out
 
 
 def _meridian(jd_utc: np.ndarray, ha_deg: np.ndarray) -> float:
