@@ -67,6 +67,7 @@ TARGET_ERRORS = {
     "wrong_unit.ecsv": ("column 'period_d'", "unit 'm'", "cannot be read as d"),
     "unknown_unit.ecsv": ("column 'period_d'", "'fortnights_x'", "not a unit vigil knows"),
     "broken.xml": ("not a readable VOTable table", "--format"),
+    "broken.tbl": ("not a readable IPAC table", "header line"),
 }
 # Rows lacking a required value are left out with a warning; --strict refuses them instead.
 STRICT_TARGET_ERRORS = {

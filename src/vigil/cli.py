@@ -174,7 +174,7 @@ def _inclusive_end(text: str) -> str:
 @app.command(cls=_Command)
 def windows(
     context: typer.Context,
-    targets_file: Path = typer.Argument(..., metavar="TARGETS.csv", help="Targets CSV: name, ra_deg, dec_deg (or ra/dec sexagesimal), "
+    targets_file: Path = typer.Argument(..., metavar="TARGETS.csv", help="Targets (CSV, ECSV, VOTable or IPAC): name, ra_deg, dec_deg (or ra/dec sexagesimal), "
                                         "t0_bjd_tdb, t0_err_d, period_d, period_err_d, duration_h."),
     sites_file: Path = typer.Option(..., "--sites", metavar="SITES.toml", help="Sites TOML with [sites.NAME] tables."),
     site: Optional[list[str]] = typer.Option(None, "--site", metavar="NAME", help="Site name to use (repeatable); default every site in the file."),

@@ -104,14 +104,18 @@ def shared_with(windows: pd.DataFrame, hosts: dict[str, str]) -> pd.Series:
     >>> shared_with(w, {"A b": "A", "A c": "A"}).tolist()
     ['A c', 'A b']
     """
-    if windows.empty:
-        return pd.Series([], dtype=str, index=windows.index)
-    keys = [f"{hosts.get(t, t)}|{s}" for t, s in zip(windows["target"], windows["site"])]
-    group = overlap_groups(keys, windows["window_start_jd_utc"], windows["window_end_jd_utc"])
-    targets = windows["target"].astype(str).to_numpy()
+    marks = pd.Series("", index=windows.index, dtype=str)
+    planets = pd.Series(list(hosts.values())).value_counts()
+    shared = windows["target"].map(hosts).isin(planets.index[planets > 1]).to_numpy()
+    if not shared.any():  # the usual case: every star has one planet
+        return marks
+    w = windows[shared]
+    keys = [f"{hosts[t]}|{s}" for t, s in zip(w["target"], w["site"])]
+    group = overlap_groups(keys, w["window_start_jd_utc"], w["window_end_jd_utc"])
+    targets = w["target"].astype(str).to_numpy()
     members = pd.Series(targets).groupby(group).agg(lambda t: sorted(set(t)))
-    return pd.Series(["; ".join(m for m in members[g] if m != t) for t, g in zip(targets, group)],
-                     index=windows.index, dtype=str)
+    marks[shared] = ["; ".join(m for m in members[g] if m != t) for t, g in zip(targets, group)]
+    return marks
 
 
 def mark_shared(pieces, hosts: dict[str, str]):

@@ -82,13 +82,15 @@ def _none_chosen(visits: pd.DataFrame) -> pd.DataFrame:
                                   shared_with=pd.Series(dtype=str))
 
 
-def _telescope_h(visits: pd.DataFrame, rows) -> float:
-    """Telescope hours of one pointing: its span plus the overhead, counted once."""
-    if len(rows) == 1:
-        return float(visits["telescope_h"].iloc[rows[0]])
-    start, end = visits["start_jd_utc"].to_numpy()[rows], visits["end_jd_utc"].to_numpy()[rows]
-    overhead_h = visits["telescope_h"].to_numpy()[rows] - (end - start) * HOURS_PER_DAY
-    return float((end.max() - start.min()) * HOURS_PER_DAY + overhead_h.max())
+def _pointing_hours(visits: pd.DataFrame, group: np.ndarray) -> np.ndarray:
+    """Telescope hours of each pointing (groups numbered 0..n-1): its span plus the overhead,
+    counted once. A pointing of one visit keeps that visit's telescope hours exactly."""
+    start, end, hours = (visits[c].to_numpy() for c in ("start_jd_utc", "end_jd_utc", "telescope_h"))
+    order = np.argsort(group, kind="stable")
+    first = np.flatnonzero(np.r_[True, group[order][1:] != group[order][:-1]])
+    span_d = np.maximum.reduceat(end[order], first) - np.minimum.reduceat(start[order], first)
+    overhead_h = np.maximum.reduceat((hours - (end - start) * HOURS_PER_DAY)[order], first)
+    return np.where(np.bincount(group) == 1, hours[order][first], span_d * HOURS_PER_DAY + overhead_h)
 
 
 def _greedy(visits: pd.DataFrame, group: np.ndarray, gain_per_hour: dict, priority: dict, per_target_cap,
@@ -96,11 +98,12 @@ def _greedy(visits: pd.DataFrame, group: np.ndarray, gain_per_hour: dict, priori
     """The pointings attempted, each as the row numbers of its visits."""
     target, site = visits["target"].to_numpy(), visits["site"].to_numpy()
     half, start, end = visits["half_year"].to_numpy(), visits["start_jd_utc"].to_numpy(), visits["end_jd_utc"].to_numpy()
-    snr2 = (visits["target"].map(gain_per_hour) * visits["in_transit_h"]).to_numpy()
-    members = [list(m) for m in pd.Series(np.arange(len(visits))).groupby(group).indices.values()]
-    order = np.lexsort((np.array([visits[schema.MID_JD_UTC].to_numpy()[m].min() for m in members]),
-                        -np.array([snr2[m].sum() / _telescope_h(visits, m) for m in members]),
-                        -np.array([max(priority[t] for t in target[m]) for m in members])))
+    by_group = pd.DataFrame({"group": group, "mid": visits[schema.MID_JD_UTC].to_numpy(),
+                             "snr2": (visits["target"].map(gain_per_hour) * visits["in_transit_h"]).to_numpy(),
+                             "priority": visits["target"].map(priority).to_numpy(dtype=float)}).groupby("group")
+    order = np.lexsort((by_group["mid"].min().to_numpy(), -by_group["snr2"].sum().to_numpy() / _pointing_hours(visits, group),
+                        -by_group["priority"].max().to_numpy()))
+    members = [rows.tolist() for rows in by_group.indices.values()]
     booked: dict[str, tuple[list, list]] = {}
     per_target: dict[tuple, int] = {}
     per_site: dict[tuple, int] = {}
@@ -112,7 +115,7 @@ def _greedy(visits: pd.DataFrame, group: np.ndarray, gain_per_hour: dict, priori
         s_key = (site[rows[0]], half[rows[0]])
         if per_site_cap is not None and per_site.get(s_key, 0) >= per_site_cap:
             continue
-        lo, hi = start[rows].min(), end[rows].max()
+        lo, hi = min(start[i] for i in rows), max(end[i] for i in rows)
         starts, ends = booked.setdefault(site[rows[0]], ([], []))
         k = bisect.bisect_left(starts, lo)
         if (k < len(starts) and starts[k] < hi) or (k > 0 and ends[k - 1] > lo):
@@ -128,19 +131,23 @@ def _greedy(visits: pd.DataFrame, group: np.ndarray, gain_per_hour: dict, priori
 
 def _pointing_rows(visits: pd.DataFrame, chosen: list[list[int]], gain_per_hour: dict) -> pd.DataFrame:
     """The chosen visits in time order, each with its pointing's number, shared telescope hours and night."""
-    start, target, night = visits["start_jd_utc"].to_numpy(), visits["target"].to_numpy(), visits["night"].to_numpy()
-    rows, telescope_h, pointing, nights, shared = [], [], [], [], []
-    for number, members in enumerate(sorted(chosen, key=lambda m: (start[m].min(), min(target[m])))):
-        members = sorted(members, key=lambda j: (start[j], target[j]))
-        hours = _telescope_h(visits, members)
-        for i in members:
-            rows.append(i)
-            telescope_h.append(hours / len(members))
-            pointing.append(number)
-            nights.append(night[members[0]])  # one weather draw for the whole pointing
-            shared.append("; ".join(sorted(set(target[members]) - {target[i]})))
-    out = visits.iloc[rows].reset_index(drop=True)
-    out["telescope_h"], out["night"] = telescope_h, np.asarray(nights, dtype=np.int64)
+    rows = np.fromiter((i for members in chosen for i in members), dtype=np.int64)
+    group = np.repeat(np.arange(len(chosen)), [len(members) for members in chosen])
+    start, target = visits["start_jd_utc"].to_numpy()[rows], visits["target"].to_numpy().astype(str)[rows]
+    within = np.lexsort((target, start, group))  # each pointing's visits by start, then name
+    lead = within[np.r_[0, np.cumsum(np.bincount(group))[:-1]]]
+    rank = np.empty(len(chosen), dtype=np.int64)  # pointings by their first visit's start, then its name
+    rank[np.lexsort((target[lead], start[lead]))] = np.arange(len(chosen))
+    order = np.lexsort((target, start, rank[group]))
+    out = visits.iloc[rows[order]].reset_index(drop=True)
+    number, size = rank[group[order]], np.bincount(group)[group[order]]
+    out["telescope_h"] = _pointing_hours(visits.iloc[rows], group)[group[order]] / size
+    leads = np.r_[True, number[1:] != number[:-1]]
+    out["night"] = out["night"].to_numpy()[np.flatnonzero(leads)][number]  # one weather draw per pointing
     out["gain"] = out["target"].map(gain_per_hour) * out["in_transit_h"] / out["telescope_h"]
-    out["pointing"], out["shared_with"] = np.asarray(pointing, dtype=np.int64), shared
+    out["pointing"] = number
+    out["shared_with"] = ""
+    for lead in np.flatnonzero(leads & (size > 1)):
+        names = out["target"].iloc[lead:lead + size[lead]].tolist()
+        out.loc[lead:lead + size[lead] - 1, "shared_with"] = ["; ".join(sorted(set(names) - {n})) for n in names]
     return out
