@@ -245,3 +245,36 @@ def test_api_examples_raise_no_deprecation_warning():
                                      longitude_deg=-70.8, elevation_m=2400), "2027-03-01", "2027-03-08",
                                      min_altitude=35 * u.deg, include_unobservable=True)
         vigil.to_qtable(windows)
+
+
+def test_campaign_command_line_and_api_write_identical_files(tmp_path):
+    campaign = DEMO_DIR / "campaign.toml"
+    result = CliRunner().invoke(app, ["campaign", str(campaign), "--target", "Quillon-2 b", "--out", str(tmp_path / "cli")])
+    assert result.exit_code == 0, result.output
+    outcome = vigil.run_campaign(campaign, target="Quillon-2 b")
+    paths = outcome.write(tmp_path / "api")
+    assert [p.name for p in paths] == ["summary.csv", "forecast.csv", "ledger.csv", "resolution.png", "hours.png"]
+    for path in paths:
+        assert (tmp_path / "cli" / path.name).read_bytes() == path.read_bytes(), path.name
+    # In Python, "never" is NaN (a blank cell in summary.csv), never inf; ledger times are UTC datetimes.
+    summary = outcome.summary
+    assert not np.isinf(summary[["years_to_goal_p10", "years_to_goal_p50", "years_to_goal_p90"]].to_numpy()).any()
+    assert str(outcome.ledger["mid_utc"].dtype) == "datetime64[ns, UTC]"
+    assert outcome.plot_resolution().axes and outcome.plot_hours().axes
+
+
+def test_unknown_campaign_target_names_the_option():
+    result = CliRunner().invoke(app, ["campaign", str(DEMO_DIR / "campaign.toml"), "--target", "Quillon-2",
+                                      "--out", "unused"])
+    assert result.exit_code == 2
+    assert "--target: no target named 'Quillon-2'; did you mean 'Quillon-2 b'?" in result.output
+
+
+def test_version_and_help_state_each_default_once():
+    assert CliRunner().invoke(app, ["--version"]).output.strip() == f"vigil {vigil.__version__}"
+    help_text = CliRunner().invoke(app, ["windows", "--help"], terminal_width=200).output
+    assert "].  [default: " not in help_text and "x>=1" not in help_text and "{TARGETS.csv}" not in help_text
+    assert "windows [OPTIONS] TARGETS.csv" in help_text
+    result = CliRunner().invoke(app, ["windows", str(TARGETS_FILE), "--sites", str(SITES_FILE), "--start", START,
+                                      "--end", END, "--event", "eclipse"])
+    assert result.exit_code == 2 and "--event: expected transit or occultation" in result.output

@@ -159,3 +159,28 @@ def test_staleness_table_refuses_missing_columns_and_bad_fraction(make_targets):
         staleness(targets.drop(columns="duration_h"))
     with pytest.raises(InputError, match="duration_fraction: expected a positive"):
         staleness(targets, duration_fraction=0.0)
+
+
+def test_quadratic_stale_epoch_matches_brute_force_scan():
+    # Reference: direct evaluation of sigma_T(n)^2 = b^T C b, b = (1, k, k^2/2) (the quadratic
+    # propagation, itself checked against a Monte Carlo draw in test_fitting.py) at every epoch,
+    # for seeded covariances of (T0, P, dP/dN) and start epochs on either side of t0_epoch.
+    from vigil.ephemeris.models import PolynomialEphemeris
+    from vigil.ephemeris.staleness import model_first_stale_epoch
+
+    rng = np.random.default_rng(20261202)
+    checked = 0
+    for _ in range(200):
+        sigma = np.array([rng.uniform(1e-4, 1e-3), rng.uniform(1e-7, 3e-6), rng.uniform(1e-11, 1e-9)])
+        a = rng.normal(size=(3, 3))
+        correlation = np.corrcoef(a @ a.T + 0.5 * np.eye(3))
+        model = PolynomialEphemeris(2461000.0, 1.5, -1e-9, correlation * np.outer(sigma, sigma),
+                                    int(rng.integers(-500, 500)))
+        limit = rng.uniform(1.2, 6.0) * sigma[0]
+        start = int(rng.integers(-2000, 2000))
+        epochs = np.arange(start, start + SCAN)
+        beyond = np.flatnonzero(model.mid_sigma_d(epochs) > limit)
+        expected = float(epochs[beyond[0]]) if beyond.size else math.inf
+        assert model_first_stale_epoch(model, limit, 1.0, start) == expected
+        checked += math.isfinite(expected) and expected > start
+    assert checked > 100

@@ -22,6 +22,8 @@ _EXPORTS = {
     "read_targets": "vigil.api", "read_timings": "vigil.api", "read_sites": "vigil.api",
     "project_transits": "vigil.api", "plan_windows": "vigil.api", "iter_windows": "vigil.api",
     "write_windows_csv": "vigil.api", "write_windows_ics": "vigil.api",
+    "read_campaign": "vigil.api", "run_campaign": "vigil.api", "CampaignSpec": "vigil.campaign.spec",
+    "CampaignOutcome": "vigil.campaign.outcome",
     "make_site": "vigil.site_inputs", "Site": "vigil.sites",
     "to_qtable": "vigil.export.qtable",
 }

@@ -15,6 +15,10 @@ import astropy.units as u
 import pandas as pd
 
 from vigil import catalog, notes
+from vigil.campaign import spec as campaign_spec
+from vigil.campaign.outcome import CampaignOutcome
+from vigil.campaign.run import run_campaign as simulate_campaign
+from vigil.campaign.spec import CampaignSpec
 from vigil.ephemeris.projection import project_transits as project_events
 from vigil.ephemeris.projection import with_models
 from vigil.ephemeris.table import read_ephemeris_table
@@ -262,6 +266,60 @@ def iter_windows(targets, sites, start, end, *, site=None, include_unobservable:
                                     if on_progress else None, executor=workers.executor, chunk_dir=workers.chunk_dir)
         for piece in mark_shared(pieces, host_of(targets)):
             yield windows_table(piece)
+
+
+def read_campaign(path) -> CampaignSpec:
+    """A campaign TOML file as a CampaignSpec (a frozen dataclass: change it with
+    `dataclasses.replace`, e.g. fewer trials or a shorter horizon).
+
+    Examples
+    --------
+    >>> spec = dataclasses.replace(vigil.read_campaign("campaign.toml"), horizon_years=5, trials=50)  # doctest: +SKIP
+    """
+    return campaign_spec.read_campaign(path)
+
+
+def run_campaign(campaign, targets=None, sites=None, *, target: str | None = None, strict: bool = False,
+                 exact: bool = False, jobs: int = 1, scheduler: str | None = None, chunk_dir=None,
+                 on_progress: Callable[[int], None] | None = None) -> CampaignOutcome:
+    """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
+
+    Parameters
+    ----------
+    campaign : str, Path or CampaignSpec
+        A campaign TOML file, or a spec (`read_campaign`, changed with dataclasses.replace).
+    targets, sites : optional
+        As `read_targets` and `read_sites` take; default the files the campaign names.
+    target : str, optional
+        Only this target (the command line's --target).
+    strict, exact, jobs, scheduler, chunk_dir
+        As for `read_targets` and `plan_windows`.
+    on_progress : callable(trials_done), optional
+
+    Returns
+    -------
+    CampaignOutcome
+        summary, forecast and ledger tables, plot_resolution() and plot_hours() figures, write().
+
+    Examples
+    --------
+    >>> outcome = vigil.run_campaign("campaign.toml", target="Tamsin-7 b")  # doctest: +SKIP
+    >>> outcome.summary[["target", "years_to_goal_p50", "limited_by"]]  # doctest: +SKIP
+    """
+    spec = campaign if isinstance(campaign, CampaignSpec) else read_campaign(campaign)
+    targets = read_targets(spec.targets_file if targets is None else targets, format=spec.targets_options.format,
+                           columns=spec.targets_options.columns, strict=strict)
+    if target is not None:
+        if target not in set(targets["name"]):
+            raise ArgumentError("target", f"no target named {target!r}{did_you_mean(target, targets['name'])}")
+        targets = targets[targets["name"] == target].reset_index(drop=True)
+    sites = read_sites(spec.sites_file if sites is None else sites)
+    with workers_for(scheduler, jobs, chunk_dir) as workers:
+        result = simulate_campaign(spec, targets, sites, engine="reference" if exact else "fast",
+                                   on_progress=on_progress, jobs=workers.count, executor=workers.executor,
+                                   chunk_dir=workers.chunk_dir)
+    notes.report(result.notes)
+    return CampaignOutcome(spec, result)
 
 
 def write_windows_csv(windows: pd.DataFrame, path, sites=None) -> None:

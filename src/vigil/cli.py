@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 import collections
+import math
 import sys
-from dataclasses import replace
 from importlib import resources
 from pathlib import Path
 from typing import NamedTuple, Optional
@@ -14,16 +14,12 @@ import pandas as pd
 import typer
 from typer.core import TyperCommand
 
-from vigil import __version__, api, catalog, notes
-from vigil.campaign.result import CampaignResult
-from vigil.campaign.run import run_campaign
-from vigil.campaign.spec import read_campaign
+from vigil import __version__, api, notes
+from vigil.campaign.outcome import CampaignOutcome
 from vigil.cli_support import LazyProgress, out, refuse_overwrite, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.inputs import as_time
 from vigil.export.calendar import SAFETY_NOTE, write_windows_ics
-from vigil.export.campaign_csv import write_campaign_csvs
-from vigil.export.plots import hours_plot, resolution_plot
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.night_chart import with_coordinates
 from vigil.export.html_report import campaign_sections, html_page, windows_sections, write_html
@@ -31,10 +27,8 @@ from vigil.export.terminal_tables import UPCOMING_ROWS, compact_table, windows_t
 from vigil.export.windows_csv import write_windows_csv_pieces
 from vigil.chart_cli import chart_app
 from vigil.target_source import CatalogueOptions
-from vigil.textfile import did_you_mean
 from vigil.journal_cli import journal_app
 from vigil.refit_cli import run_refit
-from vigil.cluster import workers_for
 from vigil.tally import add_tallies, coverage_tally
 from vigil.window_filter import filter_windows, parse_coverage
 
@@ -257,7 +251,7 @@ def demo(
         spec, campaign_result, paths = _run_campaign(demo_file("campaign.toml"), None, out_dir)
         write_html(out_dir / "plan.html", html_page("vigil demo: windows of 2027 and a 30-year campaign",
                                                     [*windows_sections(with_coordinates(run.windows, run.targets), run.sites),
-                                                     *campaign_sections(campaign_result, spec)]))
+                                                     *campaign_sections(campaign_result.simulation, spec)]))
     _print_campaign(campaign_result, spec)
     names = ", ".join(p.name for p in [out_dir / "windows.csv", out_dir / "windows.ics", *paths, out_dir / "plan.html"])
     out.print(f"wrote into {out_dir}/: {names}")
@@ -267,10 +261,10 @@ CAMPAIGN_FILES = ("summary.csv", "forecast.csv", "ledger.csv", "resolution.png",
 
 
 def _years(value: float) -> str:
-    return f"{value:.1f}" if value != float("inf") else "never"
+    return f"{value:.1f}" if math.isfinite(value) else "never"
 
 
-def _print_campaign(result: CampaignResult, spec) -> None:
+def _print_campaign(result: CampaignOutcome, spec) -> None:
     table = compact_table(f"Campaign {spec.start.utc.iso[:10]} + {spec.horizon_years:g} yr: goal R = "
                           f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
                           [("target", "left"), ("transits/yr", "right"), ("h/yr", "right"),
@@ -297,41 +291,32 @@ def _verdict(row, spec) -> str:
     return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
 
 
-def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, engine: str = "fast", jobs: int = 1,
+def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, exact: bool = False, jobs: int = 1,
                   scheduler: str | None = None, chunk_dir: Path | None = None, strict: bool = False):
-    spec = read_campaign(campaign_file)
-    targets = catalog.read_targets(spec.targets_file, replace(spec.targets_options, strict=strict))
-    if target is not None:
-        if target not in set(targets["name"]):
-            raise InputError(f"{spec.targets_file}: no target named {target!r}{did_you_mean(target, targets['name'])}")
-        targets = targets[targets["name"] == target].reset_index(drop=True)
-    sites = catalog.read_sites(spec.sites_file)
+    """Run vigil.run_campaign with a progress bar and write its files."""
+    spec = api.read_campaign(campaign_file)
     done = [0]
 
     def trials_done(count: int) -> None:
         done[0] += count
         progress.advance(done[0], spec.trials)
 
-    with LazyProgress("weather trials") as progress, workers_for(scheduler, jobs, chunk_dir) as workers:
-        result = run_campaign(spec, targets, sites, engine=engine, on_progress=trials_done, jobs=workers.count,
-                              executor=workers.executor, chunk_dir=workers.chunk_dir)
-    notes.report(result.notes)
-    paths = write_campaign_csvs(result, out_dir)
-    resolution_plot(result.yearly, spec.goal_resolution, spec.start.utc.decimalyear, spec.horizon_years,
-                    out_dir / "resolution.png", result.summary)
-    hours_plot(result.yearly, out_dir / "hours.png", result.summary)
-    return spec, result, [*paths, out_dir / "resolution.png", out_dir / "hours.png"]
+    with LazyProgress("weather trials") as progress:
+        outcome = api.run_campaign(spec, target=target, strict=strict, exact=exact, jobs=jobs, scheduler=scheduler,
+                                   chunk_dir=chunk_dir, on_progress=trials_done)
+    return spec, outcome, outcome.write(out_dir)
 
 
-@app.command("campaign")
+@app.command("campaign", cls=_Command)
 def campaign_command(
+    context: typer.Context,
     campaign_file: Path = typer.Argument(..., metavar="CAMPAIGN.toml", help="Campaign TOML: start, horizon (years), targets and sites files, "
                                          "weather, allocation, instrument, spectral goal, trials, seed."),
     target: Optional[str] = typer.Option(None, "--target", metavar="NAME", help="Answer for this one target only."),
     out_dir: Path = typer.Option(Path("vigil-campaign"), "--out", metavar="DIR", help="Output folder for CSVs and PNG plots."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
-    jobs: int = typer.Option(1, "--jobs", metavar="N", min=1, help=JOBS_HELP),
+    jobs: int = typer.Option(1, "--jobs", metavar="N", show_default=False, help=JOBS_HELP),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
     chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
     strict: bool = STRICT_OPTION,
@@ -343,12 +328,11 @@ def campaign_command(
     simulated campaign with their weather), resolution.png and hours.png.
     """
     setup_logging()
-    with user_errors():
+    with user_errors(context):
         refuse_overwrite([out_dir / name for name in CAMPAIGN_FILES] + [html_path], force)
-        spec, result, paths = _run_campaign(campaign_file, target, out_dir, "reference" if exact else "fast", jobs, scheduler, chunk_dir,
-                                            strict)
+        spec, result, paths = _run_campaign(campaign_file, target, out_dir, exact, jobs, scheduler, chunk_dir, strict)
         if html_path is not None:
-            write_html(html_path, html_page(f"Campaign {campaign_file.name}", campaign_sections(result, spec)))
+            write_html(html_path, html_page(f"Campaign {campaign_file.name}", campaign_sections(result.simulation, spec)))
             paths.append(html_path)
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))

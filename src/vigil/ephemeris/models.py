@@ -119,15 +119,21 @@ class PolynomialEphemeris:
     def t0_period_cov_d2(self):
         return np.asarray(self.covariance_d2)[..., 0, 1]
 
-    def mid_bjd_tdb(self, epochs) -> np.ndarray:
-        k = np.asarray(epochs, dtype=float) - self.t0_epoch
-        return self.t0_bjd_tdb + k * self.period_d + 0.5 * k * k * self.dp_dn_d
+    def mid_bjd_tdb(self, epochs, rows=None) -> np.ndarray:
+        """Predicted mid-times (BJD_TDB); for a stacked ephemeris, `rows` picks each epoch's target."""
+        pick = _picker(rows)
+        k = np.asarray(epochs, dtype=float) - pick(self.t0_epoch)
+        return pick(self.t0_bjd_tdb) + k * pick(self.period_d) + 0.5 * k * k * pick(self.dp_dn_d)
 
-    def mid_sigma_d(self, epochs) -> np.ndarray:
+    def mid_sigma_d(self, epochs, rows=None) -> np.ndarray:
+        """1-sigma of the mid-times (days); `rows` as for mid_bjd_tdb."""
+        pick = _picker(rows)
         c = np.asarray(self.covariance_d2, dtype=float)
-        k = np.asarray(epochs, dtype=float) - self.t0_epoch
-        return polynomial_sigma_d(k, c[..., 0, 0], c[..., 0, 1], c[..., 1, 1], c[..., 0, 2], c[..., 1, 2],
-                                  c[..., 2, 2])
+        k = np.asarray(epochs, dtype=float) - pick(self.t0_epoch)
+        linear = not np.any(c[..., 2, :])  # skip the dP/dN terms of linear ephemerides
+        quad = (lambda i, j: 0.0) if linear else (lambda i, j: pick(c[..., i, j]))  # noqa: E731
+        return polynomial_sigma_d(k, pick(c[..., 0, 0]), pick(c[..., 0, 1]), pick(c[..., 1, 1]), quad(0, 2),
+                                  quad(1, 2), quad(2, 2))
 
     def epoch_range(self, start_bjd_tdb: float, end_bjd_tdb: float) -> tuple[int, int]:
         first = int(np.ceil(self.epoch_at(start_bjd_tdb)))
@@ -180,11 +186,12 @@ class PolynomialEphemeris:
                                    float(self.dp_dn_d) + u[2] * shift, c - np.outer(u, u) / denominator,
                                    int(self.t0_epoch))
 
-    def take(self, index) -> "PolynomialEphemeris":
-        """The ephemerides at `index` of a stacked one (arrays indexed, scalars kept)."""
-        pick = lambda v: np.asarray(v)[index]  # noqa: E731
-        return PolynomialEphemeris(pick(self.t0_bjd_tdb), pick(self.period_d), pick(self.dp_dn_d),
-                                   pick(self.covariance_d2), pick(self.t0_epoch))
+
+def _picker(rows):
+    """Index a stacked field by `rows` (None: the field as it is)."""
+    if rows is None:
+        return lambda value: value
+    return lambda value: np.asarray(value)[rows]
 
 
 def linear_ephemeris(t0_bjd_tdb: float, t0_err_d: float, period_d: float, period_err_d: float,

@@ -88,8 +88,9 @@ def _predict(models: list, which: np.ndarray, epochs: np.ndarray) -> tuple[np.nd
         index = np.flatnonzero(polynomial)
         position = np.full(len(models), -1)
         position[index] = np.arange(index.size)
-        model = stacked([models[i] for i in index]).take(position[which[rows]])
-        mid[rows], sigma[rows] = model.mid_bjd_tdb(epochs[rows]), model.mid_sigma_d(epochs[rows])
+        model, picked = stacked([models[i] for i in index]), position[which[rows]]
+        mid[rows] = model.mid_bjd_tdb(epochs[rows], picked)
+        sigma[rows] = model.mid_sigma_d(epochs[rows], picked)
     for i in np.flatnonzero(~polynomial):
         at = which == i
         mid[at], sigma[at] = models[i].mid_bjd_tdb(epochs[at]), models[i].mid_sigma_d(epochs[at])
