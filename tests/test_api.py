@@ -278,3 +278,15 @@ def test_version_and_help_state_each_default_once():
     result = CliRunner().invoke(app, ["windows", str(TARGETS_FILE), "--sites", str(SITES_FILE), "--start", START,
                                       "--end", END, "--event", "eclipse"])
     assert result.exit_code == 2 and "--event: expected transit or occultation" in result.output
+
+
+def test_refit_from_python_equals_the_command(tmp_path):
+    examples = Path(__file__).resolve().parents[1] / "examples"
+    result = CliRunner().invoke(app, ["refit", str(examples / "timings.csv"), "--targets", str(TARGETS_FILE),
+                                      "--out", str(tmp_path / "cli.csv")])
+    assert result.exit_code == 0, result.output
+    refitted = vigil.refit(pd.read_csv(examples / "timings.csv", dtype=str, keep_default_na=False), TARGETS_FILE)
+    from vigil.export.table import write_csv
+
+    write_csv(refitted.targets, tmp_path / "api.csv", text_columns=("name",))
+    assert (tmp_path / "cli.csv").read_bytes() == (tmp_path / "api.csv").read_bytes()

@@ -23,7 +23,7 @@ _EXPORTS = {
     "project_transits": "vigil.api", "plan_windows": "vigil.api", "iter_windows": "vigil.api",
     "write_windows_csv": "vigil.api", "write_windows_ics": "vigil.api",
     "read_campaign": "vigil.api", "run_campaign": "vigil.api", "CampaignSpec": "vigil.campaign.spec",
-    "CampaignOutcome": "vigil.campaign.outcome",
+    "CampaignOutcome": "vigil.campaign.outcome", "refit": "vigil.api", "open_journal": "vigil.journal",
     "make_site": "vigil.site_inputs", "Site": "vigil.sites",
     "to_qtable": "vigil.export.qtable",
 }

@@ -21,6 +21,7 @@ from vigil.campaign.run import run_campaign as simulate_campaign
 from vigil.campaign.spec import CampaignSpec
 from vigil.ephemeris.projection import project_transits as project_events
 from vigil.ephemeris.projection import with_models
+from vigil.ephemeris.refit import RefitResult, refit_targets
 from vigil.ephemeris.table import read_ephemeris_table
 from vigil.sites import Site
 from vigil.errors import ArgumentError, InputError
@@ -103,9 +104,11 @@ def read_timings(source) -> pd.DataFrame:
     0.0005
     """
     if isinstance(source, (str, Path)):
-        return catalog.read_timings(source)
+        return _mark_checked(catalog.read_timings(source))
+    if _is_checked(source):
+        return source
     cells = memory_cells(source, "timings", "timing")
-    return catalog.timings_from_cells(cells.path, cells.header, cells.cells)
+    return _mark_checked(catalog.timings_from_cells(cells.path, cells.header, cells.cells))
 
 
 def read_sites(source, site=None) -> dict[str, Site]:
@@ -266,6 +269,31 @@ def iter_windows(targets, sites, start, end, *, site=None, include_unobservable:
                                     if on_progress else None, executor=workers.executor, chunk_dir=workers.chunk_dir)
         for piece in mark_shared(pieces, host_of(targets)):
             yield windows_table(piece)
+
+
+def refit(timings, targets=None, *, use_prior: bool = True) -> RefitResult:
+    """Refit each target's ephemeris from measured mid-times (the command `vigil refit`).
+
+    Parameters
+    ----------
+    timings : as `read_timings` takes (target, mid_bjd_tdb, mid_err_d in days, optional note)
+    targets : as `read_targets` takes, optional
+        The catalogue whose ephemerides number the epochs (and, with `use_prior`, are the prior).
+    use_prior : bool
+        Use the catalogue ephemeris as the prior (the command line's --no-prior turns it off).
+
+    Returns
+    -------
+    RefitResult
+        `.targets` (a targets table every vigil function reads), `.o_minus_c` (minutes), `.fits`.
+
+    Examples
+    --------
+    >>> result = vigil.refit("timings.csv", "targets.csv")  # doctest: +SKIP
+    >>> result.targets[["name", "period_d", "period_err_d"]]  # doctest: +SKIP
+    """
+    timings = read_timings(timings)
+    return refit_targets(timings, None if targets is None else read_targets(targets), use_prior=use_prior)
 
 
 def read_campaign(path) -> CampaignSpec:

@@ -8,10 +8,10 @@ from typing import Optional
 
 import numpy as np
 
-from vigil import catalog
+from vigil import api
 from vigil.cli_support import out, refuse_overwrite, setup_logging, user_errors
 from vigil.ephemeris.fitting import BIC_MARGIN, OUTLIER_RULE
-from vigil.ephemeris.refit import TargetRefit, refit_targets
+from vigil.ephemeris.refit import TargetRefit
 from vigil.ephemeris.staleness import DURATION_FRACTION, stale_date
 from vigil.errors import InputError
 from vigil.export.o_minus_c_plot import plot_o_minus_c
@@ -30,10 +30,11 @@ def run_refit(timings_file: Path, out_path: Path, targets_file: Optional[Path], 
     plot_path = oc_path.with_suffix(".png")
     with user_errors():
         refuse_overwrite((out_path, oc_path, plot_path), force)
-        timings = catalog.read_timings(timings_file)
-        targets = catalog.read_targets(targets_file, catalogue) if targets_file is not None else None
+        timings = api.read_timings(timings_file)
+        targets = (api.read_targets(targets_file, format=catalogue.format, columns=catalogue.columns,
+                                    strict=catalogue.strict) if targets_file is not None else None)
         try:
-            result = refit_targets(timings, targets, use_prior=use_prior)
+            result = api.refit(timings, targets, use_prior=use_prior)
         except InputError as exc:
             hint = "" if targets_file is not None or "--targets" in str(exc) else " (pass --targets TARGETS.csv)"
             raise InputError(f"{timings_file}: {exc}{hint}") from None
