@@ -8,7 +8,8 @@ One invented workload (seeded): targets spread over the whole sky, periods log-u
 1.5-50 d, durations 1-6 h, planned at the demo's three invented sites, observable transits
 listed (--all: every transit). The transit-site rows evaluated are counted beforehand,
 outside the timing. The fast path then runs side by side in three configurations, each in a
-fresh process (so each pays its own start-up and has its own peak memory): one process,
+fresh process (so each pays its own start-up and has its own peak memory; CPU seconds are
+counted with its workers, a figure less sensitive than wall time to other load): one process,
 --jobs worker processes, and a dask LocalCluster of --jobs workers on 127.0.0.1 (workers hand
 their chunks over as Parquet files). Each consumes the table piece by piece as
 vigil.sweep.iter_windows streams it (coverage counts and a digest of every row, which must
@@ -100,6 +101,12 @@ def invented_targets(n: int, start_jd: float, seed: int = SEED) -> pd.DataFrame:
     })
 
 
+def _cpu_s() -> float:
+    """CPU seconds (user + system) of this process and its finished descendants."""
+    return sum(u.ru_utime + u.ru_stime for u in map(resource.getrusage, (resource.RUSAGE_SELF,
+                                                                           resource.RUSAGE_CHILDREN)))
+
+
 def peak_rss_mb() -> tuple[float, float]:
     """Peak resident set (MB) of this process and of its largest finished descendant (Linux: KB units)."""
     own = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
@@ -142,7 +149,7 @@ def run_configuration(n_targets: int, years: float, scheduler: str | None, jobs:
     start, end = _span(years)
     targets = invented_targets(n_targets, start.tdb.jd)
     counts, digest, listed, kept = Counter(), hashlib.sha256(), 0, []
-    began = time.perf_counter()
+    began, cpu_began = time.perf_counter(), _cpu_s()
     with cluster.workers_for(scheduler, jobs) as workers:
         started = time.perf_counter() - began
         for piece in sweep.iter_windows(targets, sites, {}, start, end, jobs=workers.count,
@@ -152,10 +159,10 @@ def run_configuration(n_targets: int, years: float, scheduler: str | None, jobs:
             digest.update(_row_bytes(piece))
             listed += len(piece)
             kept.append(piece.loc[piece["target"].isin(keep), ["target", "site", "epoch", "coverage"]])
-    wall = time.perf_counter() - began
+    wall, cpu = time.perf_counter() - began, _cpu_s() - cpu_began
     own, children = peak_rss_mb()
     rows = pd.concat(kept, ignore_index=True).astype({"coverage": str}) if kept else pd.DataFrame()
-    return {"wall_s": wall, "startup_s": started, "listed": listed, "counts": dict(counts),
+    return {"wall_s": wall, "cpu_s": cpu, "startup_s": started, "listed": listed, "counts": dict(counts),
             "digest": digest.hexdigest(), "rss_own_mb": own, "rss_workers_mb": children,
             "kept": rows.to_dict("list")}
 
@@ -202,11 +209,12 @@ def phase_breakdown(targets: pd.DataFrame, sites: dict, start, end, include_all:
 
 def _print_configurations(events: int, results: dict) -> None:
     one = results["1 process"]["wall_s"]
-    print(f"{'configuration':<34}{'wall s':>8}{'rows/s':>12}{'x 1 process':>13}{'peak RSS MB':>13}{'start-up s':>12}")
+    print(f"{'configuration':<34}{'wall s':>8}{'rows/s':>12}{'x 1 process':>13}{'CPU s':>8}{'rows/CPU-s':>12}"
+          f"{'peak RSS MB':>13}{'start-up s':>12}")
     for name, r in results.items():
         rss = max(r["rss_own_mb"], r["rss_workers_mb"])
-        print(f"{name:<34}{r['wall_s']:>8.2f}{events / r['wall_s']:>12,.0f}{one / r['wall_s']:>13.2f}{rss:>13,.0f}"
-              f"{r['startup_s']:>12.2f}")
+        print(f"{name:<34}{r['wall_s']:>8.2f}{events / r['wall_s']:>12,.0f}{one / r['wall_s']:>13.2f}{r['cpu_s']:>8.1f}"
+              f"{events / r['cpu_s']:>12,.0f}{rss:>13,.0f}{r['startup_s']:>12.2f}")
     same = len({r["digest"] for r in results.values()}) == 1
     print(f"tables identical across configurations: {'yes' if same else 'NO'}")
     if not same:

@@ -223,8 +223,9 @@ def test_project_transits_follows_the_linear_ephemeris():
 
 def test_command_line_and_api_write_identical_files(tmp_path, monkeypatch):
     monkeypatch.setenv("SOURCE_DATE_EPOCH", "1798761600")
+    # The command line's --end includes its date whole: --end 2027-12-31 is the API's end 2028-01-01T00:00.
     result = CliRunner().invoke(app, ["windows", str(TARGETS_FILE), "--sites", str(SITES_FILE), "--start",
-                                      "2027-01-01", "--end", "2028-01-01", "--csv", str(tmp_path / "cli.csv"),
+                                      "2027-01-01", "--end", "2027-12-31", "--csv", str(tmp_path / "cli.csv"),
                                       "--ics", str(tmp_path / "cli.ics"), "--local-time"])
     assert result.exit_code == 0, result.output
     sites = vigil.read_sites(SITES_FILE)

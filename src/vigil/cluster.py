@@ -36,7 +36,8 @@ class Workers(NamedTuple):
 
 @contextmanager
 def workers_for(scheduler: str | None, jobs: int = 1, chunk_dir: Path | None = None) -> Iterator[Workers]:
-    """The workers to plan with, for as long as the `with` block lasts.
+    """The workers to plan with, for as long as the `with` block lasts (a local cluster's own
+    log is kept quiet: its workers' failures reach this process as the tasks' exceptions).
 
     scheduler: None (jobs processes on this machine), "local" (a dask LocalCluster of jobs
     processes on 127.0.0.1) or "tcp://HOST:PORT" (a running dask scheduler). chunk_dir: the
@@ -63,7 +64,7 @@ def workers_for(scheduler: str | None, jobs: int = 1, chunk_dir: Path | None = N
         if scheduler == "local":
             cluster = stack.enter_context(LocalCluster(n_workers=jobs, threads_per_worker=1, processes=True,
                                                        host="127.0.0.1", dashboard_address=None,
-                                                       silence_logs=logging.WARNING))
+                                                       silence_logs=logging.CRITICAL))
             client = stack.enter_context(Client(cluster))
         else:
             client = stack.enter_context(_connect(Client, scheduler))

@@ -7,11 +7,12 @@ from typing import Optional
 
 import typer
 
-from vigil.cli_support import refuse_overwrite, user_errors
+from vigil.cli_support import out, refuse_overwrite, user_errors
 from vigil.catalog import read_targets
 from vigil.ephemeris.models import target_ephemerides
 from vigil.ephemeris.timing_checks import FORCED_MARK, far_from_prediction
 from vigil.errors import InputError
+from vigil.export.terminal_tables import journal_table
 from vigil.journal import open_journal
 
 journal_app = typer.Typer(help="Keep a campaign journal (one SQLite file): planned and executed visits, their "
@@ -75,7 +76,10 @@ def list_entries(
     """Print the journal's visits (times UTC)."""
     with user_errors(), open_journal(journal_file) as journal:
         table = journal.entries(target=target, status=status)
-    typer.echo(table.to_string(index=False) if len(table) else "no visits recorded")
+    if len(table):
+        out.print(journal_table(table))
+    else:
+        typer.echo("no visits recorded")
 
 
 @journal_app.command("import")

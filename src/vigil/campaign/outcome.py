@@ -13,7 +13,8 @@ from matplotlib.figure import Figure
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.spec import CampaignSpec
 from vigil.export.campaign_csv import write_campaign_csvs
-from vigil.export.plots import budget_figure, hours_figure, resolution_figure, save_png
+from vigil.export.palette import save_png
+from vigil.export.plots import budget_figure, hours_figure, resolution_figure
 from vigil.export.windows_csv import utc_datetimes
 
 PLOT_FILES = ("resolution.png", "hours.png", "budget.png")
@@ -85,11 +86,11 @@ class CampaignOutcome:
     def plot_resolution(self) -> Figure:
         """Resolution reached at the goal SNR by campaign year (median and 10-90 % of trials)."""
         return resolution_figure(self.forecast, self.spec.goal_resolution, self.spec.start.utc.decimalyear,
-                                 self.spec.horizon_years)
+                                 self.spec.horizon_years, self.simulation.summary)
 
     def plot_hours(self) -> Figure:
         """In-transit hours stacked each calendar year (median over trials)."""
-        return hours_figure(self.forecast)
+        return hours_figure(self.forecast, self.simulation.summary)
 
     def plot_budget(self) -> Figure:
         """Shares of the noise terms in each target's deciding bin (median visit)."""

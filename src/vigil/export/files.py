@@ -24,7 +24,7 @@ def atomic_stream(path: str | Path) -> Iterator[BinaryIO]:
     Examples
     --------
     >>> with atomic_stream("out.csv") as stream:  # doctest: +SKIP
-    ...     stream.write(b"a,b\n")
+    ...     stream.write("a,b".encode())
     """
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
