@@ -223,8 +223,9 @@ def test_project_transits_follows_the_linear_ephemeris():
 
 def test_command_line_and_api_write_identical_files(tmp_path, monkeypatch):
     monkeypatch.setenv("SOURCE_DATE_EPOCH", "1798761600")
+    # The command line's --end includes its date whole: --end 2027-12-31 is the API's end 2028-01-01T00:00.
     result = CliRunner().invoke(app, ["windows", str(TARGETS_FILE), "--sites", str(SITES_FILE), "--start",
-                                      "2027-01-01", "--end", "2028-01-01", "--csv", str(tmp_path / "cli.csv"),
+                                      "2027-01-01", "--end", "2027-12-31", "--csv", str(tmp_path / "cli.csv"),
                                       "--ics", str(tmp_path / "cli.ics"), "--local-time"])
     assert result.exit_code == 0, result.output
     sites = vigil.read_sites(SITES_FILE)
@@ -252,14 +253,16 @@ def test_campaign_command_line_and_api_write_identical_files(tmp_path):
     assert result.exit_code == 0, result.output
     outcome = vigil.run_campaign(campaign, target="Quillon-2 b")
     paths = outcome.write(tmp_path / "api")
-    assert [p.name for p in paths] == ["summary.csv", "forecast.csv", "ledger.csv", "resolution.png", "hours.png"]
+    assert [p.name for p in paths] == ["summary.csv", "scenarios.csv", "forecast.csv", "ledger.csv", "budget.csv",
+                                       "resolution.png", "hours.png", "budget.png"]
     for path in paths:
         assert (tmp_path / "cli" / path.name).read_bytes() == path.read_bytes(), path.name
     # In Python, "never" is NaN (a blank cell in summary.csv), never inf; ledger times are UTC datetimes.
     summary = outcome.summary
     assert not np.isinf(summary[["years_to_goal_p10", "years_to_goal_p50", "years_to_goal_p90"]].to_numpy()).any()
     assert str(outcome.ledger["mid_utc"].dtype) == "datetime64[ns, UTC]"
-    assert outcome.plot_resolution().axes and outcome.plot_hours().axes
+    assert outcome.plot_resolution().axes and outcome.plot_hours().axes and outcome.plot_budget().axes
+    assert set(outcome.budget["term"]) >= {"photon_target", "red_noise", "floor"} and len(outcome.scenarios) >= 3
 
 
 def test_unknown_campaign_target_names_the_option():

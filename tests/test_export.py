@@ -30,8 +30,8 @@ def planned(demo_sites):
     targets = read_targets(DEMO_DIR / "targets.csv")
     site = demo_sites["mirador_sur"]
     table = windows.plan_windows(targets, {site.name: site}, {}, Time("2027-03-01", scale="utc"),
-                                 Time("2027-03-04", scale="utc"), engine="reference", include_unobservable=True)
-    assert len(table) >= 5 and (table["coverage"] == "none").any()
+                                 Time("2027-03-12", scale="utc"), engine="reference", include_unobservable=True)
+    assert len(table) >= 5 and (table["coverage"] == "none").any() and (table["coverage"] != "none").sum() >= 2
     return table
 
 
@@ -92,14 +92,20 @@ def test_ics_parses_back_with_one_complete_event_per_row(planned, tmp_path):
     write_windows_csv(planned, tmp_path / "windows.csv")
     calendar = icalendar.Calendar.from_ical(path.read_bytes())
     events = list(calendar.walk("VEVENT"))
-    assert len(events) == len(planned)
-    for event, row in zip(events, _read_csv_rows(tmp_path / "windows.csv")):
+    observable = [row for row in _read_csv_rows(tmp_path / "windows.csv") if row["coverage"] != "none"]
+    assert len(events) == len(observable) < len(planned)  # unobservable windows are never exported
+    for event, row in zip(events, observable):
         # RFC 5545 §3.6.1: UID and DTSTAMP are required in every VEVENT (authorities.calendars).
-        for prop in (*calendars.REQUIRED_VEVENT_PROPERTIES, "DTSTART", "DTEND", "SUMMARY"):
+        for prop in (*calendars.REQUIRED_VEVENT_PROPERTIES, "DTSTART", "DTEND", "SUMMARY", "SEQUENCE", "LAST-MODIFIED"):
             assert prop in event, prop
-        # The calendar and the CSV show the same window, to the second.
-        assert event.decoded("DTSTART") == datetime.fromisoformat(row["window_start_utc"])
-        assert event.decoded("DTEND") == datetime.fromisoformat(row["window_end_utc"])
+        # The event is the observable stretch, as in the CSV, to the second; the padded window is described.
+        assert event.decoded("DTSTART") == datetime.fromisoformat(row["observable_start_utc"])
+        assert event.decoded("DTEND") == datetime.fromisoformat(row["observable_end_utc"])
+        assert row["window_start_utc"] in str(event["DESCRIPTION"])
+        assert row["window_end_utc"] in str(event["DESCRIPTION"])
+        assert "observatory's own rules" not in str(event["DESCRIPTION"])
+    # RFC 7986 §5.2: the safety note once, as the calendar's own description.
+    assert "observatory's own rules" in str(calendar["DESCRIPTION"])
 
 
 def test_ics_lines_end_with_crlf_and_fit_75_octets(planned, tmp_path):
@@ -116,13 +122,13 @@ def test_ics_lines_end_with_crlf_and_fit_75_octets(planned, tmp_path):
 def test_ics_text_with_newline_semicolon_and_comma_stays_one_value(planned, tmp_path):
     # RFC 5545 §3.3.11: TEXT escapes backslash, ';', ',' and newlines, so a name cannot start
     # new properties or events. Checked on the raw lines (own unfolding) and by parse-back.
-    table = planned.head(3).copy()
+    table = planned[planned["coverage"] != "none"].head(2).copy()
     table["target"] = TRICKY_NAME
     path = tmp_path / "windows.ics"
     write_windows_ics(table, path)
     lines = _unfolded(_ics_lines(path))
-    assert sum(line == "BEGIN:VEVENT" for line in lines) == 3
-    assert sum(line.startswith("DTSTART") for line in lines) == 3
+    assert sum(line == "BEGIN:VEVENT" for line in lines) == 2
+    assert sum(line.startswith("DTSTART") for line in lines) == 2
     assert not any(line.startswith("X=") for line in lines)
     summaries = [str(e["SUMMARY"]) for e in icalendar.Calendar.from_ical(path.read_bytes()).walk("VEVENT")]
     assert all(s.startswith(TRICKY_NAME + " transit") for s in summaries)

@@ -1,5 +1,5 @@
 """Same inputs, same bytes: `vigil windows` and `vigil campaign`, each run twice into two
-different folders, write byte-identical CSV, ICS and PNG files.
+different folders, write byte-identical CSV, ICS, PNG and HTML files.
 
 The two runs are separate processes with different string-hash seeds (PYTHONHASHSEED) and
 working folders, so nothing may hang on set or dict order of one interpreter.
@@ -71,9 +71,10 @@ def test_windows_outputs_are_byte_identical(tmp_path):
     for seed, name in enumerate(("first", "second"), start=1):
         out = tmp_path / name
         _run("windows", DEMO_DIR / "targets.csv", "--sites", DEMO_DIR / "sites.toml", "--start", "2027-01-01",
-             "--end", "2027-02-01", "--csv", "windows.csv", "--ics", "windows.ics", hash_seed=seed, cwd=out)
+             "--end", "2027-02-01", "--csv", "windows.csv", "--ics", "windows.ics", "--html", "plan.html",
+             hash_seed=seed, cwd=out)
         runs.append(_files(out))
-    assert set(runs[0]) == {Path("windows.csv"), Path("windows.ics")}
+    assert set(runs[0]) == {Path("windows.csv"), Path("windows.ics"), Path("plan.html")}
     assert runs[0][Path("windows.csv")].count(b"\n") > 10  # a real table, not two empty files
     assert runs[0] == runs[1]
     # The calendar's DTSTAMP is SOURCE_DATE_EPOCH (RFC 5545 3.8.7.2: UTC date-time form).
@@ -91,10 +92,10 @@ def small_campaign(tmp_path) -> Path:
 def test_campaign_outputs_are_byte_identical(tmp_path, small_campaign):
     runs = []
     for seed, name in enumerate(("first", "second"), start=1):
-        _run("campaign", small_campaign, "--out", "out", hash_seed=seed, cwd=tmp_path / name)
+        _run("campaign", small_campaign, "--out", "out", "--html", "out/plan.html", hash_seed=seed, cwd=tmp_path / name)
         runs.append(_files(tmp_path / name / "out"))
-    assert set(runs[0]) == {Path(n) for n in ("summary.csv", "forecast.csv", "ledger.csv", "resolution.png",
-                                              "hours.png")}
+    assert set(runs[0]) == {Path(n) for n in ("summary.csv", "scenarios.csv", "forecast.csv", "ledger.csv",
+                                              "budget.csv", "resolution.png", "hours.png", "budget.png", "plan.html")}
     assert runs[0][Path("ledger.csv")].count(b"\n") > 10  # visits were simulated
     differing = sorted(str(name) for name in runs[0] if runs[0][name] != runs[1][name])
     assert not differing

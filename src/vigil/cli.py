@@ -5,13 +5,14 @@ from __future__ import annotations
 import collections
 import math
 import sys
+from contextlib import ExitStack
 from importlib import resources
 from pathlib import Path
-from typing import Optional
+from typing import NamedTuple, Optional
 
+import astropy.units as u
 import pandas as pd
 import typer
-from rich.table import Table
 from rich.text import Text
 from typer.core import TyperCommand
 
@@ -19,16 +20,22 @@ from vigil import __version__, api, notes
 from vigil.campaign.outcome import CampaignOutcome
 from vigil.cli_support import LazyProgress, log, out, setup_logging, user_errors
 from vigil.errors import InputError
+from vigil.inputs import as_time
 from vigil.export.calendar import SAFETY_NOTE, run_stamp, write_windows_ics
 from vigil.export.files import OutputTransaction
 from vigil.export.table import iso_utc, write_csv
+from vigil.export.night_chart import with_coordinates
+from vigil.export.html_report import campaign_sections, html_page, windows_sections, write_html
+from vigil.export.terminal_tables import UPCOMING_ROWS, compact_table, windows_table
 from vigil.export.windows_csv import write_windows_csv_pieces
+from vigil.chart_cli import chart_app
 from vigil.target_source import CatalogueOptions
 from vigil.journal_cli import journal_app
 from vigil.names import clean_name
 from vigil.refit_cli import run_refit
 from vigil.timescales import FIRST_PLAN_YEAR, LAST_PLAN_YEAR
 from vigil.tally import add_tallies, coverage_tally
+from vigil.window_filter import filter_windows, parse_coverage
 
 app = typer.Typer(help="Plan transit observations: which transits you can observe from your sites, "
                        "how uncertain their times are, what a multi-year campaign collects and when the stacked "
@@ -54,22 +61,28 @@ def _main(version: bool = typer.Option(False, "--version", callback=_version, is
     """Plan transit observations (see `vigil COMMAND --help`)."""
 
 
+COUNTED = ("full", "ingress", "egress", "partial")
+
+
 def _print_summary(tally, title: str) -> None:
     """Print a coverage tally (vigil.tally) as a table."""
     if tally.empty:
         out.print(f"{title}: no observable transits.")
         return
-    table = Table(title=title, title_justify="left")
-    for column in ("target", "site", "full", "ingress", "egress", "partial", "next full window (UTC)"):
-        table.add_column(column, justify="left" if column in ("target", "site") else "right")
+    table = compact_table(title, [("target", "left"), ("site", "left"), *((c, "right") for c in COUNTED),
+                                  ("next full window, UTC", "left")])
     for row in tally.itertuples(index=False):
         first = "-" if pd.isna(row.first_full_utc) else row.first_full_utc.strftime("%Y-%m-%d %H:%M")
-        table.add_row(row.target, row.site, *(str(getattr(row, c)) for c in ("full", "ingress", "egress", "partial")),
+        table.add_row(row.target, row.site, *(str(getattr(row, c)) for c in COUNTED),
                       first)
     out.print(table)
     out.print(Text(SAFETY_NOTE, style="dim"))
 
 
+HTML_HELP = "Also write a self-contained HTML plan here (one file, no network: charts embedded)."
+COVERAGE_HELP = ("List only these coverage classes, comma-separated (full, ingress, egress, partial, none), in "
+                 "every output [default all].")
+MIN_FRACTION_HELP = "List only windows with at least this fraction (0-1) of the transit observable, in every output."
 JOBS_HELP = ("Worker processes for the windows computation (the targets and the span are split into chunks); "
              "with --scheduler local, the cluster's workers; at least 1 [default 1].")
 SCHEDULER_HELP = ("Run the windows computation on a dask cluster (optional extra vigil[dask]): 'local' starts "
@@ -92,16 +105,20 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
                  include_all: bool, csv_path: Path | None, ics_path: Path | None, exact: bool = False,
                  event: str = "transit", local_time: bool = False, jobs: int = 1, scheduler: str | None = None,
                  chunk_dir: Path | None = None, catalogue: CatalogueOptions = CatalogueOptions(),
-                 ephemeris_table: Path | None = None, extrapolate_table: bool = False):
+                 ephemeris_table: Path | None = None, extrapolate_table: bool = False, coverage: str | None = None,
+                 min_fraction: float | None = None, keep_all: bool = False) -> "WindowsRun":
     """Plan through vigil.iter_windows, write the CSV piece by piece and the calendar; return
-    the coverage tally."""
+    the coverage tally, the sites and the windows kept: all of them with a calendar or
+    `keep_all`, else the first UPCOMING_ROWS."""
     api.constraint_overrides(constraints)  # option errors before any file is read
+    chosen = parse_coverage(coverage)
     targets = api.read_targets(targets_file, format=catalogue.format, columns=catalogue.columns,
                                strict=catalogue.strict, ephemeris_table=ephemeris_table,
                                extrapolate_table=extrapolate_table)
     sites = api.read_sites(sites_file, [clean_name(n, "--site") for n in site_names] if site_names else None)
     _warn_ground_only_options(sites, constraints)
-    tallies, kept, found = [], [], []
+    tallies, kept, listed, found = [], [], [], []
+    keep_all = keep_all or ics_path is not None
 
     def noted(pieces):
         for piece in pieces:
@@ -110,13 +127,15 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
 
     def tallied(pieces):
         for piece in pieces:
+            piece = filter_windows(piece, chosen, min_fraction)
             tallies.append(coverage_tally(piece))
-            if ics_path is not None:
-                kept.append(piece)
+            listed.append(len(piece))
+            if keep_all or sum(map(len, kept)) < UPCOMING_ROWS:
+                kept.append(piece if keep_all else piece.head(UPCOMING_ROWS))
             yield piece
 
     with LazyProgress("windows (chunks)") as progress:
-        pieces = tallied(noted(api.iter_windows(targets, sites, start, end, include_unobservable=include_all,
+        pieces = tallied(noted(api.iter_windows(targets, sites, start, _inclusive_end(end), include_unobservable=include_all,
                                                 event=event, exact=exact, jobs=jobs, scheduler=scheduler,
                                                 chunk_dir=chunk_dir, on_progress=progress.advance, **constraints)))
         if csv_path is not None:
@@ -125,18 +144,31 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
         else:
             collections.deque(pieces, maxlen=0)
     notes.report(notes.merged(*found))
+    windows = pd.concat(kept, ignore_index=True)
     if ics_path is not None:
-        write_windows_ics(pd.concat(kept, ignore_index=True), ics_path, {n: s.timezone for n, s in sites.items()})
-    return add_tallies(tallies)
+        write_windows_ics(windows, ics_path, {n: s.timezone for n, s in sites.items()})
+    return WindowsRun(add_tallies(tallies), windows, sites, sum(listed), targets)
 
 
-def _warn_ground_only_options(sites: dict, constraints: dict) -> None:
-    """Say which constraint options a space site ignores (the same keys in the TOML warn too)."""
-    space = [name for name, site in sites.items() if site.kind == "space"]
-    for option in ("min_altitude", "twilight", "moon_sep"):
-        if space and constraints.get(option) is not None:
-            log.warning("--%s ignored at space site(s) %s: it constrains ground sites only",
-                        option.replace("_", "-"), ", ".join(space))
+class WindowsRun(NamedTuple):
+    """What a windows run hands back: the coverage tally, the windows kept, the sites used, and
+    how many windows were listed in all, the targets read."""
+
+    tally: pd.DataFrame
+    windows: pd.DataFrame
+    sites: dict
+    listed: int
+    targets: pd.DataFrame
+
+
+def _inclusive_end(text: str) -> str:
+    """--end: a date alone is included whole (the span ends at 24:00 UTC of it); a time is exact."""
+    if len(text.strip()) != 10:
+        return text
+    try:
+        return (as_time(text, "--end") + 1 * u.day).utc.isot
+    except InputError:
+        return text  # api names the bad date
 
 
 @app.command(cls=_Command)
@@ -147,7 +179,8 @@ def windows(
     sites_file: Path = typer.Option(..., "--sites", metavar="SITES.toml", help="Sites TOML with [sites.NAME] tables."),
     site: Optional[list[str]] = typer.Option(None, "--site", metavar="NAME", help="Site name to use (repeatable); default every site in the file."),
     start: str = typer.Option(..., "--start", metavar="DATE", help="First date, UTC (e.g. 2027-01-01)."),
-    end: str = typer.Option(..., "--end", metavar="DATE", help="Last date, UTC (e.g. 2028-01-01)."),
+    end: str = typer.Option(..., "--end", metavar="DATE", help="Last date, UTC, included whole (e.g. 2027-12-31); "
+                            "a date with a time (2027-12-31T06:00) ends there."),
     csv_path: Optional[Path] = typer.Option(None, "--csv", metavar="FILE", help="Write the windows table here (CSV, times in UTC)."),
     ics_path: Optional[Path] = typer.Option(None, "--ics", metavar="FILE", help="Write the windows as an iCalendar file here."),
     min_altitude: Optional[float] = typer.Option(None, "--min-altitude", metavar="DEG", help="Lowest target altitude, degrees [default 30]."),
@@ -156,6 +189,9 @@ def windows(
     baseline: Optional[float] = typer.Option(None, "--baseline", metavar="HOURS", help="Out-of-transit time wanted before ingress and after egress, hours [default 1]."),
     sigma: Optional[float] = typer.Option(None, "--sigma", metavar="K", help="Pad each side by K times the 1-sigma mid-time uncertainty; 0 disables [default 1]."),
     moon_sep: Optional[float] = typer.Option(None, "--moon-sep", metavar="DEG", help="Least Moon-target separation, degrees; 0 disables [default 0]."),
+    coverage: Optional[str] = typer.Option(None, "--coverage", metavar="LIST", help=COVERAGE_HELP),
+    min_fraction: Optional[float] = typer.Option(None, "--min-fraction", metavar="F", help=MIN_FRACTION_HELP),
+    html_path: Optional[Path] = typer.Option(None, "--html", metavar="FILE", help=HTML_HELP),
     include_all: bool = typer.Option(False, "--all", help="List unobservable transits too (coverage 'none')."),
     force: bool = typer.Option(False, "--force", help="Replace existing --csv/--ics files (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
@@ -184,16 +220,24 @@ def windows(
     setup_logging()
     constraints = {"min_altitude": min_altitude, "twilight": twilight, "baseline": baseline, "sigma": sigma,
                    "moon_sep": moon_sep}
-    with user_errors(context):
+    with user_errors(context), ExitStack() as stack:
         if ics_path is not None:
             run_stamp()  # a malformed SOURCE_DATE_EPOCH is refused before any work
-        outputs = OutputTransaction((csv_path, ics_path), (targets_file, sites_file, columns, ephemeris_table), force)
-        with outputs.committing():
-            result = _run_windows(targets_file, sites_file, site, start, end, constraints, include_all, csv_path,
-                                  ics_path, exact, event.lower(), local_time, jobs, scheduler, chunk_dir,
-                                  CatalogueOptions(fmt, columns, strict), ephemeris_table, extrapolate_table)
-    _print_summary(result, f"Transit windows {start} to {end}")
-    for path in (csv_path, ics_path):
+        outputs = OutputTransaction((csv_path, ics_path, html_path),
+                                    (targets_file, sites_file, columns, ephemeris_table), force)
+        stack.enter_context(outputs.committing())
+        run = _run_windows(targets_file, sites_file, site, start, end, constraints, include_all, csv_path, ics_path,
+                           exact, event.lower(), local_time, jobs, scheduler, chunk_dir,
+                           CatalogueOptions(fmt, columns, strict), ephemeris_table, extrapolate_table, coverage,
+                           min_fraction, keep_all=html_path is not None)
+        if html_path is not None:
+            write_html(html_path, html_page(f"Transit windows {start} to {end}",
+                                            windows_sections(with_coordinates(run.windows, run.targets), run.sites,
+                                                             api.constraint_overrides(constraints))))
+    _print_summary(run.tally, f"Transit windows {start} to {end}")
+    if csv_path is None and ics_path is None and html_path is None and len(run.windows):
+        out.print(windows_table(run.windows, {n: s.timezone for n, s in run.sites.items()}, run.listed))
+    for path in (csv_path, ics_path, html_path):
         if path is not None:
             out.print(f"wrote {path}")
 
@@ -209,19 +253,23 @@ def demo(
 ):
     """Run vigil on its embedded invented scenario: windows for 2027 at three sites, then a 30-year campaign."""
     setup_logging()
-    files = [out_dir / "windows.csv", out_dir / "windows.ics", *(out_dir / name for name in CAMPAIGN_FILES)]
+    files = [out_dir / "windows.csv", out_dir / "windows.ics", *(out_dir / name for name in CAMPAIGN_FILES),
+             out_dir / "plan.html"]
     with user_errors(), OutputTransaction(files, force=True, create_folder=out_dir).committing():
-        result = _run_windows(demo_file("targets.csv"), demo_file("sites.toml"), None, "2027-01-01", "2028-01-01", {},
-                              False, out_dir / "windows.csv", out_dir / "windows.ics")
-        _print_summary(result, "Demo: transit windows in 2027")
-        spec = api.read_campaign(demo_file("campaign.toml"))
-        campaign_result, paths = _run_campaign(spec, None, out_dir)
+        run = _run_windows(demo_file("targets.csv"), demo_file("sites.toml"), None, "2027-01-01", "2027-12-31", {},
+                           False, out_dir / "windows.csv", out_dir / "windows.ics")
+        _print_summary(run.tally, "Demo: transit windows in 2027")
+        spec, campaign_result, paths = _run_campaign(demo_file("campaign.toml"), None, out_dir)
+        write_html(out_dir / "plan.html", html_page("vigil demo: windows of 2027 and a 30-year campaign",
+                                                    [*windows_sections(with_coordinates(run.windows, run.targets), run.sites),
+                                                     *campaign_sections(campaign_result.simulation, spec)]))
     _print_campaign(campaign_result, spec)
-    names = ", ".join(p.name for p in [out_dir / "windows.csv", out_dir / "windows.ics", *paths])
+    names = ", ".join(p.name for p in [out_dir / "windows.csv", out_dir / "windows.ics", *paths, out_dir / "plan.html"])
     out.print(f"wrote into {out_dir}/: {names}")
 
 
-CAMPAIGN_FILES = ("summary.csv", "forecast.csv", "ledger.csv", "resolution.png", "hours.png")
+CAMPAIGN_FILES = ("summary.csv", "scenarios.csv", "forecast.csv", "ledger.csv", "budget.csv", "resolution.png",
+                  "hours.png", "budget.png")
 
 
 def _years(value: float) -> str:
@@ -229,16 +277,15 @@ def _years(value: float) -> str:
 
 
 def _print_campaign(result: CampaignOutcome, spec) -> None:
-    table = Table(title=f"Campaign {spec.start.utc.iso[:10]} + {spec.horizon_years:g} yr: goal R = "
-                        f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
-                  title_justify="left")
-    for column in ("target", "transits/yr", "in-transit h/yr", "years to goal (p10 / p50 / p90)", "verdict"):
-        table.add_column(column, justify="left" if column in ("target", "verdict") else "right")
+    table = compact_table(f"Campaign {spec.start.utc.iso[:10]} + {spec.horizon_years:g} yr: goal R = "
+                          f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
+                          [("target", "left"), ("transits/yr", "right"), ("h/yr", "right"),
+                           ("years to goal p10/50/90", "right"), ("verdict", "left")])
     for row in result.summary.itertuples(index=False):
         verdict = (Text("reachable", style="green") if row.reachable else
-                   Text.assemble(("not reached", "red"), f": {row.limited_by}"))
+                   Text.assemble(("no", "red"), f": {row.limited_by}"))
         table.add_row(row.target, f"{row.transits_per_year:.1f}", f"{row.in_transit_hours_per_year:.1f}",
-                      " / ".join(_years(v) for v in (row.years_to_goal_p10, row.years_to_goal_p50, row.years_to_goal_p90)),
+                      "/".join(_years(v) for v in (row.years_to_goal_p10, row.years_to_goal_p50, row.years_to_goal_p90)),
                       verdict)
     out.print(table)
 
@@ -248,18 +295,25 @@ def _verdict(row, spec) -> str:
         return (f"{row.target}: worth pursuing: R = {spec.goal_resolution:g} at SNR {spec.goal_snr:g} is reached after "
                 f"{_years(row.years_to_goal_p50)} years (median; 10-90 % of trials: {_years(row.years_to_goal_p10)}"
                 f" to {_years(row.years_to_goal_p90)}), collecting {row.in_transit_hours_per_year:.1f} in-transit h/yr.")
+    reason, _, term = row.limited_by.partition(" (")
     why = {"noise floor": f"the noise floor caps the SNR per bin at {row.snr_cap:.2f}",
            "weather": "enough windows are scheduled, but weather loses too many in most trials",
            "allocation": "the allocation caps and clashes with other targets leave too few visits",
            "ephemeris too stale": "the growing timing uncertainty widens the windows until they no longer fit a night",
            "too few windows": f"its observable windows give {row.in_transit_hours_per_year:.1f} in-transit h/yr, "
-                              f"against {row.hours_needed:.0f} h needed"}[row.limited_by]
-    return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
+                              f"against {row.hours_needed:.0f} h needed"}[reason]
+    largest = f"; the largest noise term is {term.rstrip(')')}" if term else ""
+    others = f" (reachable under: {row.reachable_scenarios})" if row.reachable_scenarios else ""
+    return f"{row.target}: not within {spec.horizon_years:g} years in scenario {row.scenario}: {why}{largest}{others}."
 
 
-def _run_campaign(spec, target: str | None, out_dir: Path | None, exact: bool = False, jobs: int = 1,
-                  scheduler: str | None = None, chunk_dir: Path | None = None, strict: bool = False):
-    """Run vigil.run_campaign with a progress bar; write its files unless `out_dir` is None."""
+def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, exact: bool = False, jobs: int = 1,
+                  scheduler: str | None = None, chunk_dir: Path | None = None, strict: bool = False,
+                  outputs: OutputTransaction | None = None):
+    """Run vigil.run_campaign with a progress bar and write its files (refusing any that is an input)."""
+    spec = api.read_campaign(campaign_file)
+    if outputs is not None:
+        outputs.check_inputs((spec.targets_file, spec.sites_file, spec.journal_file))
     done = [0]
 
     def trials_done(count: int) -> None:
@@ -269,7 +323,7 @@ def _run_campaign(spec, target: str | None, out_dir: Path | None, exact: bool = 
     with LazyProgress("weather trials") as progress:
         outcome = api.run_campaign(spec, target=target, strict=strict, exact=exact, jobs=jobs, scheduler=scheduler,
                                    chunk_dir=chunk_dir, on_progress=trials_done)
-    return outcome, ([] if out_dir is None else outcome.write(out_dir))
+    return spec, outcome, outcome.write(out_dir)
 
 
 @app.command("campaign", cls=_Command)
@@ -277,44 +331,40 @@ def campaign_command(
     context: typer.Context,
     campaign_file: Path = typer.Argument(..., metavar="CAMPAIGN.toml", help="Campaign TOML: start, horizon (years), targets and sites files, "
                                          "weather, allocation, instrument, spectral goal, trials, seed."),
-    target: Optional[str] = typer.Option(None, "--target", metavar="NAME",
-                                         help="Answer for this one target alone (clashes with the other targets are "
-                                              "left out, and it says so); files are written only with --out."),
-    out_dir: Optional[Path] = typer.Option(None, "--out", metavar="DIR",
-                                           help="Output folder for CSVs and PNG plots [default vigil-campaign, "
-                                                "none with --target]."),
+    target: Optional[str] = typer.Option(None, "--target", metavar="NAME", help="Answer for this one target only."),
+    out_dir: Path = typer.Option(Path("vigil-campaign"), "--out", metavar="DIR", help="Output folder for CSVs and PNG plots."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
     jobs: int = typer.Option(1, "--jobs", metavar="N", show_default=False, help=JOBS_HELP),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", metavar="ADDRESS", help=SCHEDULER_HELP),
     chunk_dir: Optional[Path] = typer.Option(None, "--chunk-dir", metavar="DIR", help=CHUNK_DIR_HELP),
     strict: bool = STRICT_OPTION,
+    html_path: Optional[Path] = typer.Option(None, "--html", metavar="FILE", help=HTML_HELP),
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
-    Writes summary.csv, forecast.csv (per target and campaign year), ledger.csv (visits of one
-    simulated campaign with their weather), resolution.png and hours.png.
+    Writes summary.csv, scenarios.csv (verdict per atmosphere scenario), forecast.csv (per target
+    and campaign year), ledger.csv (visits of one simulated campaign with their weather),
+    budget.csv (noise terms of the median visit), resolution.png, hours.png and budget.png.
     """
     setup_logging()
-    if out_dir is None and target is None:
-        out_dir = Path("vigil-campaign")
     with user_errors(context):
-        if target is not None:
-            target = clean_name(target, "--target")
-        files = [] if out_dir is None else [out_dir / name for name in CAMPAIGN_FILES]
-        outputs = OutputTransaction(files, [campaign_file], force, create_folder=out_dir)
-        spec = api.read_campaign(campaign_file)
-        outputs.check_inputs((spec.targets_file, spec.sites_file, spec.journal_file))
+        outputs = OutputTransaction([out_dir / name for name in CAMPAIGN_FILES] + [html_path], [campaign_file], force,
+                                    create_folder=out_dir)
         with outputs.committing():
-            result, paths = _run_campaign(spec, target, out_dir, exact, jobs, scheduler, chunk_dir, strict)
+            spec, result, paths = _run_campaign(campaign_file, target, out_dir, exact, jobs, scheduler, chunk_dir,
+                                                strict, outputs)
+            if html_path is not None:
+                write_html(html_path, html_page(f"Campaign {campaign_file.name}",
+                                                campaign_sections(result.simulation, spec)))
+                paths.append(html_path)
     if target is not None:
         out.print(_verdict(next(result.summary.itertuples(index=False)), spec))
         out.print("(computed for this target alone: clashes with the campaign's other targets are left out, so its "
                   "hours and years can differ from the full table's)")
     else:
         _print_campaign(result, spec)
-    out.print(f"wrote {', '.join(str(p) for p in paths)}" if paths else "no files written (give --out DIR to write "
-              "the campaign's files)")
+    out.print(f"wrote {', '.join(str(p) for p in paths)}")
 
 
 @app.command()
@@ -342,6 +392,15 @@ def refit(
     """
     run_refit(timings_file, out_path, targets_file, CatalogueOptions(fmt, columns, strict), not no_prior, sigma_k,
               force)
+
+
+def _warn_ground_only_options(sites: dict, constraints: dict) -> None:
+    """Say which constraint options a space site ignores (the same keys in the TOML warn too)."""
+    space = [name for name, site in sites.items() if site.kind == "space"]
+    for option in ("min_altitude", "twilight", "moon_sep"):
+        if space and constraints.get(option) is not None:
+            log.warning("--%s ignored at space site(s) %s: it constrains ground sites only",
+                        option.replace("_", "-"), ", ".join(space))
 
 
 def _joined(spans_jd: list[tuple[float, float]]) -> list[tuple[float, float]]:
@@ -413,6 +472,7 @@ def space_seasons(
 
 
 app.add_typer(journal_app, name="journal")
+app.add_typer(chart_app, name="chart")
 
 
 def main() -> None:  # pragma: no cover - console entry point

@@ -7,12 +7,13 @@ from typing import Optional
 
 import typer
 
-from vigil.cli_support import setup_logging, user_errors
+from vigil.cli_support import out, setup_logging, user_errors
 from vigil.catalog import read_targets
 from vigil.ephemeris.models import target_ephemerides
 from vigil.ephemeris.timing_checks import FORCED_MARK, far_from_prediction
 from vigil.errors import InputError
 from vigil.export.files import OutputTransaction
+from vigil.export.terminal_tables import journal_table
 from vigil.journal import open_journal
 from vigil.names import clean_name
 
@@ -79,7 +80,10 @@ def list_entries(
     setup_logging()
     with user_errors(), open_journal(journal_file, write=False) as journal:
         table = journal.entries(target=None if target is None else clean_name(target, "--target"), status=status)
-    typer.echo(table.to_string(index=False) if len(table) else "no visits recorded")
+    if len(table):
+        out.print(journal_table(table))
+    else:
+        typer.echo("no visits recorded")
 
 
 @journal_app.command("import")

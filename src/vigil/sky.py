@@ -60,3 +60,11 @@ def airmass_kasten_young(alt_deg):
     h = np.asarray(alt_deg, dtype=float)
     with np.errstate(invalid="ignore"):
         return np.where(h > -6.07995, 1.0 / (np.sin(np.radians(h)) + 0.50572 * (h + 6.07995) ** -1.6364), np.nan)
+
+
+def moon_altitude_deg(times: Time, location) -> np.ndarray:
+    """Geometric altitude of the topocentric Moon's centre, degrees (no refraction).
+
+    Example: ``moon_altitude_deg(Time("2027-03-01T03:00"), earth_location(-30.5, -70.8, 2450))``.
+    """
+    return get_body("moon", times, location).transform_to(_frame(times, location)).alt.deg

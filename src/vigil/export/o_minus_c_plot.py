@@ -17,7 +17,7 @@ from matplotlib.figure import Figure
 from vigil.ephemeris.refit import TargetRefit
 from vigil.ephemeris.staleness import DURATION_FRACTION
 from vigil.errors import InputError
-from vigil.export.plots import save_png
+from vigil.export.palette import save_png
 from vigil.time_units import DAYS_PER_JULIAN_YEAR, HOURS_PER_DAY, MINUTES_PER_DAY
 
 J2000_JD = 2451545.0

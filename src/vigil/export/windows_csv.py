@@ -10,7 +10,9 @@ import pandas as pd
 from vigil import schema
 from vigil.export.files import atomic_stream
 from vigil.export.table import csv_bytes, iso_utc
-from vigil.time_units import MINUTES_PER_DAY
+from vigil.time_units import MINUTES_PER_DAY, SECONDS_PER_DAY
+
+UNIX_EPOCH_JD = 2440587.5  # 1970-01-01T00:00:00 UTC (UTC days of 86400 s; leap seconds are not counted by POSIX time)
 
 TIME_COLUMNS = {
     "mid_utc": schema.MID_JD_UTC,
@@ -104,3 +106,23 @@ def write_windows_csv_pieces(pieces: Iterable[pd.DataFrame], path, timezones: di
             if timezones is not None:
                 table = pd.concat([table, local_times(windows, timezones)], axis=1)
             stream.write(csv_bytes(table, header=number == 0))
+
+
+def jd_view(windows: pd.DataFrame) -> pd.DataFrame:
+    """The inverse of `windows_table`: a table with the internal time columns (JD UTC, mid_sigma_d)
+    from one with UTC datetimes; an internal table is returned as is. Charts and the calendar
+    compute in JD.
+
+    Examples
+    --------
+    >>> jd_view(vigil.plan_windows("targets.csv", "sites.toml", "2027-01-01", "2027-01-08"))  # doctest: +SKIP
+    """
+    if schema.MID_JD_UTC in windows.columns or "mid_utc" not in windows.columns:
+        return windows
+    out = windows.copy()
+    for name, internal in TIME_COLUMNS.items():
+        moments = pd.to_datetime(windows[name], utc=True)
+        seconds = (moments - pd.Timestamp("1970-01-01", tz="UTC")).dt.total_seconds()
+        out[internal] = UNIX_EPOCH_JD + seconds.to_numpy(dtype=float) / SECONDS_PER_DAY
+    out[schema.MID_SIGMA_D] = windows["mid_sigma_min"] / MINUTES_PER_DAY
+    return out

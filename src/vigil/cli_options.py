@@ -1,0 +1,34 @@
+"""Command-line options shared by `vigil windows` and `vigil chart` (declared once, so the two
+commands cannot drift apart in name, unit or help)."""
+
+from __future__ import annotations
+
+import typer
+
+MIN_ALTITUDE_OPTION = typer.Option(None, "--min-altitude", metavar="DEG",
+                                   help="Lowest target altitude, degrees [default 30].")
+TWILIGHT_OPTION = typer.Option(None, "--twilight", metavar="KIND", help="Darkness needed: civil, nautical or "
+                               "astronomical (Sun's centre below -6, -12 or -18 degrees) [default astronomical].")
+BASELINE_OPTION = typer.Option(None, "--baseline", metavar="HOURS",
+                               help="Out-of-transit time wanted before ingress and after egress, hours [default 1].")
+SIGMA_OPTION = typer.Option(None, "--sigma", metavar="K",
+                            help="Pad each side by K times the 1-sigma mid-time uncertainty; 0 disables [default 1].")
+MOON_SEP_OPTION = typer.Option(None, "--moon-sep", metavar="DEG", help="Least Moon-target separation while the Moon "
+                               "is above the horizon, degrees; 0 disables [default 0].")
+COVERAGE_OPTION = typer.Option(None, "--coverage", metavar="LIST", help="List only these coverage classes, "
+                               "comma-separated (full, ingress, egress, partial, none), in every output [default all].")
+MIN_FRACTION_OPTION = typer.Option(None, "--min-fraction", metavar="F", help="List only windows with at least this "
+                                   "fraction (0-1) of the transit observable, in every output.")
+SITES_OPTION = typer.Option(..., "--sites", metavar="SITES.toml", help="Sites TOML with [sites.NAME] tables.")
+SITE_OPTION = typer.Option(None, "--site", metavar="NAME",
+                           help="Site name to use (repeatable); default every site in the file.")
+FORCE_OPTION = typer.Option(False, "--force", help="Replace existing output files (otherwise vigil refuses).")
+
+
+def constraint_options(min_altitude=None, twilight=None, baseline=None, sigma=None, moon_sep=None) -> dict:
+    """The constraint options as the keywords of `vigil.plan_windows` (None: not given).
+
+    Example: ``constraint_options(sigma=2.0)["sigma"] == 2.0``.
+    """
+    return {"min_altitude": min_altitude, "twilight": twilight, "baseline": baseline, "sigma": sigma,
+            "moon_sep": moon_sep}
