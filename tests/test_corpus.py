@@ -151,7 +151,7 @@ OPTION_ERRORS = {
     "unknown_site": ((*WINDOW_DATES, "--site", "cima_lejana"), (str(GOOD / "sites.toml"), "'cima_lejana'")),
     "bad_twilight_option": ((*WINDOW_DATES, "--twilight", "dusk"), ("twilight", "civil, nautical or astronomical")),
     "min_altitude_option": ((*WINDOW_DATES, "--min-altitude", "95"), ("--min-altitude", "from -5 to 89")),
-    "start_year_999": (("--start", "0999-03-01", "--end", "0999-03-08"), ("--start", "1950-01-01", "year 999")),
+    "start_year_999": (("--start", "0999-03-01", "--end", "2027-03-08"), ("--start", "1950-01-01", "year 999")),
     "start_year_1899": (("--start", "1899-03-01", "--end", "1899-03-08"), ("--start", "2300-12-31", "1899-03-01")),
     "end_year_2301": (("--start", "2300-12-25", "--end", "2301-01-02"), ("--end", "2300-12-31", "2301-01-02")),
 }
