@@ -185,7 +185,7 @@ def test_read_only_medium_is_one_line_and_reads_still_work(mounted):
     subprocess.run(["mount", "-o", "remount,ro", str(mounted)], check=True)
     line = _one_error_line(_run("journal", "add", path, "--target", "Brisa-4 b", "--epoch", 1000, *VISIT))
     assert "read-only" in line and str(path) in line
-    listed = _run("journal", "list", path)
+    listed = CliRunner().invoke(app, ["journal", "list", str(path)], env={"COLUMNS": "200"})  # names untruncated
     assert listed.exit_code == 0 and listed.output.count("Brisa-4 b") == 3
 
 

@@ -20,17 +20,15 @@ from pathlib import Path
 import pytest
 from typer.testing import CliRunner
 
-from vigil.cli import app
+from vigil.cli import CAMPAIGN_FILES, app
 from vigil.export import files
 
 from test_cli import _restore_vigil_logger  # noqa: F401  (autouse: leave the 'vigil' logger as found)
-from test_corpus import _assert_one_error_line
 from test_journal_damage import mounted  # noqa: F401  (fixture: a small tmpfs, root only)
 
 GOOD = Path(__file__).resolve().parent / "corpus" / "good"
 DATES = ("--start", "2027-03-01", "--end", "2027-03-08")
 OLD = b"an earlier result that must survive\n"
-CAMPAIGN_FILES = ("summary.csv", "forecast.csv", "ledger.csv", "resolution.png", "hours.png")
 
 
 def _run(*args):
@@ -42,7 +40,14 @@ def _snapshot(folder: Path) -> dict:
 
 
 def _one_error_line(result) -> str:
-    return _assert_one_error_line(result, None, ())
+    # The only note allowed beside the error: an earlier .ics that is not a calendar restarts SEQUENCE numbers.
+    lines = result.output.splitlines()
+    notes = [line for line in lines if line.startswith("vigil: note: ")]
+    assert all("SEQUENCE" in note for note in notes), result.output
+    errors = [line for line in lines if line not in notes]
+    assert result.exit_code == 2 and "Traceback" not in result.output, result.output
+    assert len(errors) == 1 and errors[0].startswith("vigil: error: "), result.output
+    return errors[0]
 
 
 def _commands(out: Path) -> dict:
@@ -57,7 +62,7 @@ def _commands(out: Path) -> dict:
     }
 
 
-WRITES = [(command, point) for command, count in (("windows", 2), ("campaign", 5), ("refit", 3))
+WRITES = [(command, point) for command, count in (("windows", 2), ("campaign", len(CAMPAIGN_FILES)), ("refit", 3))
           for point in range(1, count + 1)]
 
 

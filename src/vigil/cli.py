@@ -307,10 +307,10 @@ def _verdict(row, spec) -> str:
     return f"{row.target}: not within {spec.horizon_years:g} years in scenario {row.scenario}: {why}{largest}{others}."
 
 
-def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, exact: bool = False, jobs: int = 1,
+def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path | None, exact: bool = False, jobs: int = 1,
                   scheduler: str | None = None, chunk_dir: Path | None = None, strict: bool = False,
                   outputs: OutputTransaction | None = None):
-    """Run vigil.run_campaign with a progress bar and write its files (refusing any that is an input)."""
+    """Run vigil.run_campaign with a progress bar and write its files into `out_dir` (none when it is None)."""
     spec = api.read_campaign(campaign_file)
     if outputs is not None:
         outputs.check_inputs((spec.targets_file, spec.sites_file, spec.journal_file))
@@ -323,7 +323,7 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, exact:
     with LazyProgress("weather trials") as progress:
         outcome = api.run_campaign(spec, target=target, strict=strict, exact=exact, jobs=jobs, scheduler=scheduler,
                                    chunk_dir=chunk_dir, on_progress=trials_done)
-    return spec, outcome, outcome.write(out_dir)
+    return spec, outcome, ([] if out_dir is None else outcome.write(out_dir))
 
 
 @app.command("campaign", cls=_Command)
@@ -332,7 +332,9 @@ def campaign_command(
     campaign_file: Path = typer.Argument(..., metavar="CAMPAIGN.toml", help="Campaign TOML: start, horizon (years), targets and sites files, "
                                          "weather, allocation, instrument, spectral goal, trials, seed."),
     target: Optional[str] = typer.Option(None, "--target", metavar="NAME", help="Answer for this one target only."),
-    out_dir: Path = typer.Option(Path("vigil-campaign"), "--out", metavar="DIR", help="Output folder for CSVs and PNG plots."),
+    out_dir: Optional[Path] = typer.Option(None, "--out", metavar="DIR", show_default=False,
+                                           help="Output folder for CSVs and PNG plots [default: vigil-campaign; with "
+                                                "--target, no files unless --out is given]."),
     force: bool = typer.Option(False, "--force", help="Replace existing outputs in --out (otherwise vigil refuses)."),
     exact: bool = typer.Option(False, "--exact", help=EXACT_HELP),
     jobs: int = typer.Option(1, "--jobs", metavar="N", show_default=False, help=JOBS_HELP),
@@ -348,9 +350,11 @@ def campaign_command(
     budget.csv (noise terms of the median visit), resolution.png, hours.png and budget.png.
     """
     setup_logging()
+    if out_dir is None and target is None:
+        out_dir = Path("vigil-campaign")
     with user_errors(context):
-        outputs = OutputTransaction([out_dir / name for name in CAMPAIGN_FILES] + [html_path], [campaign_file], force,
-                                    create_folder=out_dir)
+        files = [] if out_dir is None else [out_dir / name for name in CAMPAIGN_FILES]
+        outputs = OutputTransaction(files + [html_path], [campaign_file], force, create_folder=out_dir)
         with outputs.committing():
             spec, result, paths = _run_campaign(campaign_file, target, out_dir, exact, jobs, scheduler, chunk_dir,
                                                 strict, outputs)
@@ -364,7 +368,7 @@ def campaign_command(
                   "hours and years can differ from the full table's)")
     else:
         _print_campaign(result, spec)
-    out.print(f"wrote {', '.join(str(p) for p in paths)}")
+    out.print(f"wrote {', '.join(str(p) for p in paths)}" if paths else "no files written (give --out DIR to write them)")
 
 
 @app.command()
