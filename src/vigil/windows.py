@@ -50,7 +50,9 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints, s
     else:
         rows = np.flatnonzero((classified["coverage"] != "none").to_numpy())
         classified = classified.take(rows).reset_index(drop=True)
-    return notes.attach(pd.concat([classified, conditions_of(rows)], axis=1), found)
+    out = pd.concat([classified, conditions_of(rows)], axis=1)
+    out[schema.MERIDIAN_IN_TRANSIT] = visibility.meridian_in_transit(out)
+    return notes.attach(out, found)
 
 
 def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict, start: Time, end: Time,
