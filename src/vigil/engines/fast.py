@@ -6,8 +6,9 @@ altitude limit; the limit is an apparent altitude, so it is lowered by the refra
 (constant for a site). The stretches above the limit around the culminations nearest
 mid-transit are intersected with the dark intervals and clipped to the window by
 `searchsorted`, for all transits at once. The Moon separation, when asked, is sampled every
-`MOON_STEP_MIN` minutes and its edges interpolated, in the windows where it can cross the
-limit; elsewhere it is settled by its value at mid-transit (see `_moon_clear`).
+`MOON_STEP_MIN` minutes with the Moon's altitude (the limit holds only while the Moon is up)
+and its edges interpolated, in the windows where it can fall below the limit; the others are
+clear throughout, settled by its value at mid-transit (see `_moon_clear`).
 
 Target-independent quantities are tabulated once per process on fixed grids of Julian dates,
 in blocks computed on first use (`vigil.tabulated.Table`), and read at the nearest node or interpolated
