@@ -253,14 +253,16 @@ def test_campaign_command_line_and_api_write_identical_files(tmp_path):
     assert result.exit_code == 0, result.output
     outcome = vigil.run_campaign(campaign, target="Quillon-2 b")
     paths = outcome.write(tmp_path / "api")
-    assert [p.name for p in paths] == ["summary.csv", "forecast.csv", "ledger.csv", "resolution.png", "hours.png"]
+    assert [p.name for p in paths] == ["summary.csv", "scenarios.csv", "forecast.csv", "ledger.csv", "budget.csv",
+                                       "resolution.png", "hours.png", "budget.png"]
     for path in paths:
         assert (tmp_path / "cli" / path.name).read_bytes() == path.read_bytes(), path.name
     # In Python, "never" is NaN (a blank cell in summary.csv), never inf; ledger times are UTC datetimes.
     summary = outcome.summary
     assert not np.isinf(summary[["years_to_goal_p10", "years_to_goal_p50", "years_to_goal_p90"]].to_numpy()).any()
     assert str(outcome.ledger["mid_utc"].dtype) == "datetime64[ns, UTC]"
-    assert outcome.plot_resolution().axes and outcome.plot_hours().axes
+    assert outcome.plot_resolution().axes and outcome.plot_hours().axes and outcome.plot_budget().axes
+    assert set(outcome.budget["term"]) >= {"photon_target", "red_noise", "floor"} and len(outcome.scenarios) >= 3
 
 
 def test_unknown_campaign_target_names_the_option():

@@ -94,8 +94,8 @@ def test_campaign_outputs_are_byte_identical(tmp_path, small_campaign):
     for seed, name in enumerate(("first", "second"), start=1):
         _run("campaign", small_campaign, "--out", "out", "--html", "out/plan.html", hash_seed=seed, cwd=tmp_path / name)
         runs.append(_files(tmp_path / name / "out"))
-    assert set(runs[0]) == {Path(n) for n in ("summary.csv", "forecast.csv", "ledger.csv", "resolution.png",
-                                              "hours.png", "plan.html")}
+    assert set(runs[0]) == {Path(n) for n in ("summary.csv", "scenarios.csv", "forecast.csv", "ledger.csv",
+                                              "budget.csv", "resolution.png", "hours.png", "budget.png", "plan.html")}
     assert runs[0][Path("ledger.csv")].count(b"\n") > 10  # visits were simulated
     differing = sorted(str(name) for name in runs[0] if runs[0][name] != runs[1][name])
     assert not differing

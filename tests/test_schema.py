@@ -64,7 +64,7 @@ def test_writers_refuse_a_table_that_breaks_its_schema(tmp_path):
     from vigil.campaign.result import CampaignResult
 
     broken = CampaignResult(schema.SUMMARY.empty().drop(columns=["reachable"]), schema.FORECAST.empty(),
-                            schema.LEDGER.empty(), {})
+                            schema.LEDGER.empty(), {}, schema.SCENARIOS.empty(), schema.BUDGET.empty())
     with pytest.raises(schema.SchemaError, match="summary table"):
         write_campaign_csvs(broken, tmp_path)
     assert not list(tmp_path.iterdir())  # nothing half-written
@@ -79,6 +79,8 @@ def test_every_table_the_commands_write_passes_its_schema(tmp_path):
     assert _header(out / "windows.csv") == WINDOWS_CSV_COLUMNS
     assert _header(out / "summary.csv")[:len(schema.SUMMARY.names)] == list(schema.SUMMARY.names)
     assert _header(out / "forecast.csv")[:len(schema.FORECAST.names)] == list(schema.FORECAST.names)
+    assert _header(out / "scenarios.csv") == list(schema.SCENARIOS.names)
+    assert _header(out / "budget.csv") == list(schema.BUDGET.names)
     times = {"mid_jd_utc": "mid_utc", "start_jd_utc": "start_utc", "end_jd_utc": "end_utc"}
     assert _header(out / "ledger.csv") == [times.get(n, n) for n in schema.LEDGER.names]
     refit = CliRunner().invoke(app, ["refit", str(EXAMPLES / "timings.csv"), "--targets", str(DEMO_DIR / "targets.csv"),

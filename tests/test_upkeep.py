@@ -58,22 +58,22 @@ def test_refreshes_rescue_a_stale_ephemeris():
     # quarter brings sigma near 1 min again, and the target becomes reachable.
     targets = targets_table({"t0_bjd_tdb": GIANT["t0_bjd_tdb"] - 1000 * GIANT["period_d"], "period_err_d": 1e-3})
     stale = run(campaign_spec(), targets).summary.iloc[0]
-    assert stale["limited_by"] == "ephemeris too stale"
+    assert stale["limited_by"].startswith("ephemeris too stale (")
     kept = run(campaign_spec(refresh_every_years=0.25, refresh_timing_err_d=1.0 / 1440), targets).summary.iloc[0]
     assert kept["reachable"] and kept["transits_per_year"] > 50
 
 
 def test_journal_hours_and_timings_start_the_campaign(tmp_path):
-    # Hours already stacked count from the first day: with them at the goal the wait is zero
-    # (common practice, no source).
+    # Hours already stacked count from the first day: with them (just) at the goal the wait is
+    # zero (common practice, no source).
     spec = campaign_spec(journal_file=tmp_path / "j.db")
     baseline = run(campaign_spec(), targets_table({})).summary.iloc[0]
     needed = baseline["hours_needed"]
     with open_journal(spec.journal_file) as journal:
         journal.add({"target": GIANT["name"], "site": "cerro_tordo", "epoch": 1, "start_utc": "2031-01-01T06:00:00Z",
-                     "end_utc": "2031-01-03T06:00:00Z", "status": "executed", "outcome": "clear",
+                     "end_utc": "2031-01-12T06:00:00Z", "status": "executed", "outcome": "clear",
                      "mid_bjd_tdb": GIANT["t0_bjd_tdb"] + GIANT["period_d"], "mid_err_d": 1e-4,
-                     "in_transit_h": needed, "baseline_h": needed})
+                     "in_transit_h": 1.01 * needed, "baseline_h": 1.01 * needed})
     started = run(spec, targets_table({})).summary.iloc[0]
     assert started["years_to_goal_p50"] == 0.0 and baseline["years_to_goal_p50"] > 0.0
     assert started["in_transit_hours_per_year"] == pytest.approx(baseline["in_transit_hours_per_year"], rel=1e-6)

@@ -1,9 +1,10 @@
 """Planet and star of each target, from the optional physical columns of the targets table.
 
 Columns (units in the names): planet_radius_earth; planet_mass_earth or surface_gravity_m_s2;
-teq_k, or a_over_rstar with star_teff_k; optional mu (default by planet size, see
-spectrum.mean_molecular_weight), n_scale_heights; star_radius_sun, star_teff_k; brightness as
-magnitude with mag_band (V, J, H or Ks) or distance_pc; optional priority (higher first).
+teq_k, or a_over_rstar with star_teff_k; optional mu and n_scale_heights (a "catalog"
+atmosphere scenario besides the campaign's, see scenarios.py), impact_parameter (transit
+shape); star_radius_sun, star_teff_k; brightness as magnitude with mag_band (V, J, H, Ks, G or
+TESS) or distance_pc; optional priority (higher first).
 """
 
 from __future__ import annotations
@@ -17,7 +18,7 @@ from vigil.errors import InputError
 
 REQUIRED = ("planet_radius_earth", "star_radius_sun", "star_teff_k")
 OPTIONAL = ("planet_mass_earth", "surface_gravity_m_s2", "teq_k", "a_over_rstar", "mu", "n_scale_heights",
-            "magnitude", "distance_pc")
+            "impact_parameter", "magnitude", "distance_pc")
 #: Every numeric physical column; catalog.read_targets checks them where they are filled in.
 NUMBER_COLUMNS = (*REQUIRED, *OPTIONAL, "priority")
 # The column behind each field name that spectrum.Planet and spectrum.Star report.
@@ -25,6 +26,7 @@ _COLUMN_OF_FIELD = {
     "planet radius_earth": "planet_radius_earth", "planet mass_earth": "planet_mass_earth",
     "planet surface_gravity_m_s2": "surface_gravity_m_s2", "planet teq_k": "teq_k", "planet mu": "mu",
     "planet a_over_rstar": "a_over_rstar", "planet n_scale_heights": "n_scale_heights",
+    "planet impact_parameter": "impact_parameter",
     "star radius_sun": "star_radius_sun", "star teff_k": "star_teff_k", "star band": "mag_band",
     "star magnitude": "magnitude", "star distance_pc": "distance_pc",
 }
@@ -55,7 +57,7 @@ def target_bodies(row: pd.Series, where: str) -> tuple[spectrum.Planet, spectrum
         planet = spectrum.Planet(
             radius_earth=values["planet_radius_earth"], mass_earth=values["planet_mass_earth"],
             surface_gravity_m_s2=values["surface_gravity_m_s2"], teq_k=values["teq_k"],
-            a_over_rstar=values["a_over_rstar"], mu=values["mu"],
+            a_over_rstar=values["a_over_rstar"], mu=values["mu"], impact_parameter=values["impact_parameter"],
             **({"n_scale_heights": values["n_scale_heights"]} if values["n_scale_heights"] is not None else {}))
         star = spectrum.Star(radius_sun=values["star_radius_sun"], teff_k=values["star_teff_k"],
                              magnitude=values["magnitude"], band=band, distance_pc=values["distance_pc"])

@@ -257,7 +257,8 @@ def demo(
     out.print(f"wrote into {out_dir}/: {names}")
 
 
-CAMPAIGN_FILES = ("summary.csv", "forecast.csv", "ledger.csv", "resolution.png", "hours.png")
+CAMPAIGN_FILES = ("summary.csv", "scenarios.csv", "forecast.csv", "ledger.csv", "budget.csv", "resolution.png",
+                  "hours.png", "budget.png")
 
 
 def _years(value: float) -> str:
@@ -282,13 +283,16 @@ def _verdict(row, spec) -> str:
         return (f"{row.target}: worth pursuing: R = {spec.goal_resolution:g} at SNR {spec.goal_snr:g} is reached after "
                 f"{_years(row.years_to_goal_p50)} years (median; 10-90 % of trials: {_years(row.years_to_goal_p10)}"
                 f" to {_years(row.years_to_goal_p90)}), collecting {row.in_transit_hours_per_year:.1f} in-transit h/yr.")
+    reason, _, term = row.limited_by.partition(" (")
     why = {"noise floor": f"the noise floor caps the SNR per bin at {row.snr_cap:.2f}",
            "weather": "enough windows are scheduled, but weather loses too many in most trials",
            "allocation": "the allocation caps and clashes with other targets leave too few visits",
            "ephemeris too stale": "the growing timing uncertainty widens the windows until they no longer fit a night",
            "too few windows": f"its observable windows give {row.in_transit_hours_per_year:.1f} in-transit h/yr, "
-                              f"against {row.hours_needed:.0f} h needed"}[row.limited_by]
-    return f"{row.target}: not within {spec.horizon_years:g} years: {why}."
+                              f"against {row.hours_needed:.0f} h needed"}[reason]
+    largest = f"; the largest noise term is {term.rstrip(')')}" if term else ""
+    others = f" (reachable under: {row.reachable_scenarios})" if row.reachable_scenarios else ""
+    return f"{row.target}: not within {spec.horizon_years:g} years in scenario {row.scenario}: {why}{largest}{others}."
 
 
 def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path, exact: bool = False, jobs: int = 1,
@@ -324,8 +328,9 @@ def campaign_command(
 ):
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
-    Writes summary.csv, forecast.csv (per target and campaign year), ledger.csv (visits of one
-    simulated campaign with their weather), resolution.png and hours.png.
+    Writes summary.csv, scenarios.csv (verdict per atmosphere scenario), forecast.csv (per target
+    and campaign year), ledger.csv (visits of one simulated campaign with their weather),
+    budget.csv (noise terms of the median visit), resolution.png, hours.png and budget.png.
     """
     setup_logging()
     with user_errors(context):

@@ -196,6 +196,11 @@ VISITS = Table("visits", (
     _col("month", "", "int", "calendar month of the mid-time, 1-12"),
     _col("half_year", "", "int", "2 x year + 1 for July-December: the allocation period"),
 ), optional=(_col("gain", "", "float", "spectral gain per telescope hour (scheduled visits)"),
+              _col("airmass", "", "float", "airmass at mid-transit (noise budget; NaN unknown or space)"),
+              _col("moon_illumination", "", "float", "Moon's illuminated fraction at mid-transit (noise budget)"),
+              _col("moon_sep_deg", "deg", "float", "Moon-target separation at mid-transit (noise budget)"),
+              _col("elevation_m", "m", "float", "site elevation (scintillation)"),
+              _col("ground", "", "bool", "ground site: the atmosphere's noise terms apply"),
               _col("pointing", "", "int", "number of the pointing: visits of planets of one star observed together"),
               _SHARED_WITH))
 
@@ -234,6 +239,24 @@ FORECAST = Table("forecast", (
     _col("resolution_at_goal_snr_p90", "", "float", "resolution reached at the goal SNR, 90th percentile"),
 ), extra_allowed=True)
 
+SCENARIOS = Table("scenarios", (
+    *SUMMARY.columns,
+    _col("scenario", "", "text", "atmosphere scenario (catalog: the target's own mu)"),
+    _col("mu", "u", "float", "mean molecular weight of the scenario"),
+    _col("n_scale_heights", "", "float", "feature amplitude in scale heights"),
+    _col("feature_ppm", "ppm", "float", "feature amplitude, change of the transit depth"),
+))
+
+BUDGET = Table("budget", (
+    _TARGET_NAME,
+    _col("term", "", ("photon_target", "photon_comparison", "sky", "read", "scintillation", "red_noise", "floor"),
+         "noise term"),
+    _col("ppm_per_bin_per_visit", "ppm", "float", "the term's noise on the depth in the deciding bin, median visit"),
+    _col("share_of_variance", "", "float", "its share of the variance after visits_stacked such visits"),
+    _col("wavelength_um", "um", "float", "centre of the deciding bin"),
+    _col("visits_stacked", "", "float", "clear visits over the horizon, median over trials (at least 1)"),
+))
+
 # The windows table as the Python API hands it out and the writers read it: times as UTC
 # datetimes (kind "utc") to the second, the mid-time's sigma in minutes.
 _OUT_TIME = {"mid_utc": "mid-time as seen at the site", "ingress_utc": "first contact at the site",
@@ -256,5 +279,5 @@ WINDOWS_OUT = Table("windows (handed out)", (
     _SHARED_WITH,
 ))
 
-TABLES = (TARGETS, TRANSITS, WINDOWS, WINDOWS_OUT, VISITS, LEDGER, SUMMARY, FORECAST)
+TABLES = (TARGETS, TRANSITS, WINDOWS, WINDOWS_OUT, VISITS, LEDGER, SUMMARY, FORECAST, SCENARIOS, BUDGET)
 TARGET_COLUMNS = TARGETS.descriptions

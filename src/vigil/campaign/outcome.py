@@ -14,10 +14,10 @@ from vigil.campaign.result import CampaignResult
 from vigil.campaign.spec import CampaignSpec
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.palette import save_png
-from vigil.export.plots import hours_figure, resolution_figure
+from vigil.export.plots import budget_figure, hours_figure, resolution_figure
 from vigil.export.windows_csv import utc_datetimes
 
-PLOT_FILES = ("resolution.png", "hours.png")
+PLOT_FILES = ("resolution.png", "hours.png", "budget.png")
 # Summary columns where the runner writes inf for "never" (blank cells in summary.csv).
 NEVER_COLUMNS = ("years_to_goal_p10", "years_to_goal_p50", "years_to_goal_p90", "hours_needed")
 
@@ -51,6 +51,19 @@ class CampaignOutcome:
         return out
 
     @property
+    def scenarios(self) -> pd.DataFrame:
+        """Per target and atmosphere scenario: the verdict columns of the summary."""
+        out = self.simulation.scenarios.copy()
+        for column in NEVER_COLUMNS:
+            out[column] = out[column].where(np.isfinite(out[column]))
+        return out
+
+    @property
+    def budget(self) -> pd.DataFrame:
+        """Per target and noise term: the median visit's noise in the deciding bin and its share."""
+        return self.simulation.budget.copy()
+
+    @property
     def forecast(self) -> pd.DataFrame:
         """Per target and campaign year: stacked hours, SNR and resolution reached (p10/p50/p90)."""
         return self.simulation.yearly.copy()
@@ -79,11 +92,16 @@ class CampaignOutcome:
         """In-transit hours stacked each calendar year (median over trials)."""
         return hours_figure(self.forecast, self.simulation.summary)
 
+    def plot_budget(self) -> Figure:
+        """Shares of the noise terms in each target's deciding bin (median visit)."""
+        return budget_figure(self.budget)
+
     def write(self, folder) -> list[Path]:
-        """summary.csv, forecast.csv, ledger.csv, resolution.png and hours.png in `folder`
-        (each written atomically; existing files are replaced)."""
+        """summary.csv, scenarios.csv, forecast.csv, ledger.csv, budget.csv, resolution.png,
+        hours.png and budget.png in `folder` (each written atomically; existing files are
+        replaced)."""
         folder = Path(folder)
         paths = write_campaign_csvs(self.simulation, folder)
-        for name, figure in zip(PLOT_FILES, (self.plot_resolution(), self.plot_hours())):
+        for name, figure in zip(PLOT_FILES, (self.plot_resolution(), self.plot_hours(), self.plot_budget())):
             save_png(figure, folder / name)
         return [*paths, *(folder / name for name in PLOT_FILES)]

@@ -17,5 +17,7 @@ class CampaignResult:
     summary: pd.DataFrame
     yearly: pd.DataFrame
     ledger: pd.DataFrame
-    years_to_goal: dict  # target -> per-trial years (inf if never)
+    years_to_goal: dict  # target -> per-trial years (inf if never), reference scenario
+    scenarios: pd.DataFrame  # one row per target and atmosphere scenario
+    budget: pd.DataFrame  # one row per target and noise term (median visit)
     notes: tuple[Note, ...] = ()  # for the user (vigil.notes), each once

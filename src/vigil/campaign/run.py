@@ -85,39 +85,52 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
     found, priority = _bodies(targets, spec)
     targets, stacked = _from_journal(spec, targets)
     candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs, executor, chunk_dir)
-    gain = {name: forecast.snr2_per_hour(body, spec) for name, body in found.items()}
+    ground = any(site.kind != "space" for site in sites.values())
+    gain = {name: forecast.snr2_per_hour(body, spec, candidates[candidates["target"] == name], ground)
+            for name, body in found.items()}
     scheduled = schedule.schedule(candidates, gain, priority, spec.per_target_per_semester,
                                   spec.per_site_per_semester, host_of(targets))
     clear = _trials(scheduled, spec, on_progress)
-    rows, yearly, years, found_notes = [], [], {}, [notes.of(candidates)]
+    rows, per_scenario, yearly, budgets, years, found_notes = [], [], [], [], {}, [notes.of(candidates)]
     for name, body in found.items():
-        row, table, years[name] = forecast.target_summary(name, body, spec, scheduled, clear,
-                                                          stacked.get(name, (0.0, 0.0)))
-        row["limited_by"], limit_notes = _limit(row, body, spec, scheduled, candidates, targets, sites, engine,
-                                                stacked.get(name, (0.0, 0.0))[0])
-        found_notes.append(limit_notes)
-        rows.append(row)
-        yearly.append(table)
+        result = forecast.target_forecast(name, body, spec, scheduled, clear, ground, stacked.get(name, (0.0, 0.0)))
+        found_notes.append(_limit(result, spec, scheduled, candidates, targets, sites, engine,
+                                  stacked.get(name, (0.0, 0.0))[0]))
+        in_order = [{**{name: row[name] for name in schema.SCENARIOS.names}, **row} for row in result.rows]
+        reachable = [row["scenario"] for row in in_order if row["reachable"]]
+        rows.append({**in_order[0], "reachable_scenarios": " ".join(reachable)})
+        per_scenario.extend(in_order)
+        yearly.append(result.yearly)
+        budgets.append(result.budget)
+        years[name] = result.years_to_goal
     return CampaignResult(schema.SUMMARY.check(pd.DataFrame(rows)),
                           schema.FORECAST.check(pd.concat(yearly, ignore_index=True)), _ledger(scheduled, clear), years,
-                          notes.merged(*found_notes))
+                          schema.SCENARIOS.check(pd.DataFrame(per_scenario)),
+                          schema.BUDGET.check(pd.concat(budgets, ignore_index=True)), notes.merged(*found_notes))
 
 
-def _limit(row, body, spec, scheduled, candidates, targets, sites, engine, prior_in_h: float):
-    """(limited_by, notes) for one target; hours already stacked (journal) count towards every
-    option. Where even every counted window falls short, the windows are computed again with
-    K = 0 (no timing padding) to tell "ephemeris too stale" from "too few windows"."""
-    name = row["target"]
-    mine = candidates[candidates["target"] == name]
-    ratio = float(mine["baseline_h"].sum() / mine["in_transit_h"].sum()) if len(mine) else 1.0
-    scheduled_h = prior_in_h + forecast.expected_in_transit_h(scheduled, spec, name)
-    candidate_h = prior_in_h + forecast.expected_in_transit_h(candidates, spec, name)
-    verdict = forecast.limiting_factor(row, body, spec, scheduled_h, candidate_h, None, ratio)
-    if verdict != "too few windows":
-        return verdict, ()
-    unpadded = _candidates(targets[targets["name"] == name], sites, spec, {**spec.constraints, "sigma_k": 0.0}, engine)
-    unpadded_h = prior_in_h + forecast.expected_in_transit_h(unpadded, spec, name)
-    return forecast.limiting_factor(row, body, spec, scheduled_h, candidate_h, unpadded_h, ratio), notes.of(unpadded)
+def _limit(result: forecast.TargetForecast, spec, scheduled, candidates, targets, sites, engine, prior_in_h: float):
+    """Set limited_by on each scenario row of one target and return the notes of any windows
+    computed for it; hours already stacked (journal) count towards every option. Where even
+    every counted window falls short, the windows are computed again with K = 0 (no timing
+    padding) to tell "ephemeris too stale" from "too few windows"."""
+    name = result.rows[0]["target"]
+    scheduled_h = prior_in_h + forecast.expected_in_transit_h(scheduled, spec.clear_fraction, name)
+    candidate_h = prior_in_h + forecast.expected_in_transit_h(candidates, spec.clear_fraction, name)
+    dominant = forecast.dominant_term(result.budget)
+    verdicts = [forecast.limiting_factor(row, spec.goal_snr, scheduled_h, candidate_h, None, dominant)
+                for row in result.rows]
+    found = ()
+    if any(v.startswith("too few windows") for v in verdicts):
+        unpadded = _candidates(targets[targets["name"] == name], sites, spec, {**spec.constraints, "sigma_k": 0.0},
+                               engine)
+        unpadded_h = prior_in_h + forecast.expected_in_transit_h(unpadded, spec.clear_fraction, name)
+        verdicts = [forecast.limiting_factor(row, spec.goal_snr, scheduled_h, candidate_h, unpadded_h, dominant)
+                    for row in result.rows]
+        found = notes.of(unpadded)
+    for row, verdict in zip(result.rows, verdicts):
+        row["limited_by"] = verdict
+    return found
 
 
 def _ledger(scheduled: pd.DataFrame, clear: np.ndarray) -> pd.DataFrame:

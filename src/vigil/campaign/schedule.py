@@ -22,6 +22,9 @@ from vigil import schema
 from vigil.hosts import overlap_groups
 from vigil.time_units import HOURS_PER_DAY
 
+#: Visit column <- windows column, conditions at mid-transit for the noise budget.
+CONDITIONS = {"airmass": "airmass_mid", "moon_illumination": "moon_illumination", "moon_sep_deg": "moon_sep_deg"}
+
 
 def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str, ...], min_fraction: float,
                         overhead_h: float) -> pd.DataFrame:
@@ -30,7 +33,8 @@ def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str,
     Counted are the windows of the `coverage` classes observable for at least `min_fraction`
     of the transit. A visit spans the window's observable stretch; in-transit hours are its
     overlap with [ingress, egress], baseline hours the rest of it; telescope hours add
-    `overhead_h`.
+    `overhead_h`. The conditions at mid-transit (airmass, Moon; NaN when the windows table has
+    none) and the site's elevation and kind are kept for the noise budget.
     """
     counted = windows["coverage"].isin(coverage) & (windows[schema.OBSERVABLE_FRACTION] >= min_fraction)
     w = windows[counted].reset_index(drop=True)
@@ -40,6 +44,8 @@ def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str,
     # the local noon-to-noon day (JD starts at noon UT); a space site keeps UTC days
     east_deg = {name: 0.0 if site.kind == "space" else site.longitude_deg for name, site in sites.items()}
     local_day = np.floor(w[schema.MID_JD_UTC].to_numpy() + w["site"].map(east_deg).to_numpy() / 360.0)
+    ground = w["site"].map({name: site.kind != "space" for name, site in sites.items()}).astype(bool)
+    elevation = w["site"].map({name: site.elevation_m for name, site in sites.items()})
     return schema.VISITS.check(pd.DataFrame({
         "target": w["target"], "site": w["site"], "epoch": w["epoch"], "coverage": w["coverage"],
         schema.MID_JD_UTC: w[schema.MID_JD_UTC], "start_jd_utc": start, "end_jd_utc": end,
@@ -47,7 +53,13 @@ def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str,
         "baseline_h": (end - start - inside) * HOURS_PER_DAY,
         "telescope_h": (end - start) * HOURS_PER_DAY + overhead_h,
         "night": local_day.astype(np.int64), "month": months, "half_year": years * 2 + (months > 6),
+        **{name: _conditions(w, column) for name, column in CONDITIONS.items()},
+        "elevation_m": elevation.astype(float), "ground": ground,
     }))
+
+
+def _conditions(windows: pd.DataFrame, column: str) -> np.ndarray:
+    return windows[column].to_numpy(dtype=float) if column in windows else np.full(len(windows), np.nan)
 
 
 def _month_year(jd_utc: np.ndarray):

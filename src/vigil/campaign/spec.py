@@ -13,9 +13,12 @@ from pathlib import Path
 
 from astropy.time import Time
 
+from vigil import noise_model
+from vigil.campaign import noise_spec
 from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
 from vigil.textfile import did_you_mean, load_toml, number_in_range, spelling_hint
 from vigil.errors import InputError
+from vigil.scenarios import DEFAULT_SCENARIOS, Scenario
 from vigil.table_formats import FORMATS
 from vigil.target_source import CatalogueOptions
 from vigil.schema import COVERAGE_CLASSES
@@ -32,8 +35,9 @@ KNOWN = {
     "refresh": {"every_years", "timing_err_min"},
     "allocation": {"per_target_per_semester", "per_site_per_semester", "overhead_h"},
     "instrument": {"aperture_m", "central_obstruction", "throughput", "wavelength_min_um", "wavelength_max_um",
-                   "noise_floor_ppm"},
-    "goal": {"resolution", "snr"},
+                   "noise_floor_ppm", *noise_spec.INSTRUMENT_KEYS},
+    "goal": {"resolution", "snr", "bin_fraction"},
+    "scenarios": None,  # one table per scenario
     "weather": None,  # one key per site
 }
 REQUIRED_KEYS = {"start", "targets", "sites_file", "sites", "aperture_m", "throughput", "wavelength_min_um",
@@ -62,6 +66,9 @@ class CampaignSpec:
     overhead_h: float = 0.0
     constraints: dict = field(default_factory=dict)
     journal_file: Path | None = None
+    noise: noise_model.NoiseModel = noise_model.GROUND
+    goal_bin_fraction: float = 1.0
+    scenarios: tuple[Scenario, ...] = DEFAULT_SCENARIOS
     targets_options: CatalogueOptions = CatalogueOptions()
     refresh_every_years: float | None = None
     refresh_timing_err_d: float = 0.0
@@ -230,6 +237,7 @@ def read_campaign(path: str | Path) -> CampaignSpec:
     goal = _table(path, document, "goal")
     sites_file = path.parent / _get(path, c, "campaign", "sites_file", str)
     _check_sites_known(path, sites_file, sites)
+    instrument = _table(path, document, "instrument")
     constraints = {k: c[k] for k in CONSTRAINT_KEYS if k in c}
     spec = CampaignSpec(
         start=_start(path, c),
@@ -238,7 +246,10 @@ def read_campaign(path: str | Path) -> CampaignSpec:
         sites_file=sites_file,
         site_names=sites,
         clear_fraction=_weather(path, document, sites),
-        instrument=_instrument(path, _table(path, document, "instrument")),
+        instrument=_instrument(path, instrument),
+        noise=noise_spec.read_noise(path, instrument, sites_file, sites),
+        goal_bin_fraction=noise_spec.read_bin_fraction(path, goal),
+        scenarios=noise_spec.read_scenarios(path, document),
         goal_resolution=float(_get(path, goal, "goal", "resolution", (int, float), 1.0, 1e6)),
         goal_snr=float(_get(path, goal, "goal", "snr", (int, float), 0.1, 1e4)),
         trials=int(_get(path, c, "campaign", "trials", int, 1, 100_000, 200)),
@@ -254,4 +265,5 @@ def read_campaign(path: str | Path) -> CampaignSpec:
         **_refresh(path, _table(path, document, "refresh", required=False)),
     )
     _warn_unknown(path, document, sites)
+    noise_spec.warn_assumed(path, instrument, spec.noise)
     return spec

@@ -1,4 +1,5 @@
-"""Campaign outputs as CSV: summary per target, yearly forecast, ledger of visits."""
+"""Campaign outputs as CSV: summary per target, verdict per atmosphere scenario, yearly forecast,
+ledger of visits, noise budget of the median visit."""
 
 from __future__ import annotations
 
@@ -12,7 +13,7 @@ from vigil.export.table import iso_utc, write_csv
 from vigil.campaign.result import CampaignResult
 
 
-def _summary(summary: pd.DataFrame) -> pd.DataFrame:
+def _verdicts(summary: pd.DataFrame) -> pd.DataFrame:
     out = summary.copy()
     for column in ("years_to_goal_p10", "years_to_goal_p50", "years_to_goal_p90", "hours_needed"):
         out[column] = out[column].where(np.isfinite(out[column]))  # never -> empty cell
@@ -28,9 +29,13 @@ def _ledger(ledger: pd.DataFrame) -> pd.DataFrame:
 
 
 def write_campaign_csvs(result: CampaignResult, folder: Path) -> list[Path]:
-    """summary.csv, forecast.csv and ledger.csv in `folder` (atomic writes)."""
-    paths = [folder / "summary.csv", folder / "forecast.csv", folder / "ledger.csv"]
-    write_csv(_summary(schema.SUMMARY.check(result.summary)), paths[0], text_columns=("target", "limited_by"))
-    write_csv(schema.FORECAST.check(result.yearly).round(3), paths[1], text_columns=("target",))
-    write_csv(_ledger(schema.LEDGER.check(result.ledger)), paths[2], text_columns=("target", "site", "shared_with"))
+    """summary.csv, scenarios.csv, forecast.csv, ledger.csv and budget.csv in `folder` (atomic
+    writes)."""
+    paths = [folder / name for name in ("summary.csv", "scenarios.csv", "forecast.csv", "ledger.csv", "budget.csv")]
+    write_csv(_verdicts(schema.SUMMARY.check(result.summary)), paths[0], text_columns=("target", "scenario", "limited_by",
+                                                                  "reachable_scenarios"))
+    write_csv(_verdicts(schema.SCENARIOS.check(result.scenarios)), paths[1], text_columns=("target", "scenario", "limited_by"))
+    write_csv(schema.FORECAST.check(result.yearly).round(3), paths[2], text_columns=("target",))
+    write_csv(_ledger(schema.LEDGER.check(result.ledger)), paths[3], text_columns=("target", "site", "shared_with"))
+    write_csv(schema.BUDGET.check(result.budget).round(4), paths[4], text_columns=("target", "term"))
     return paths

@@ -114,3 +114,26 @@ def resolution_plot(yearly: pd.DataFrame, goal_resolution: float, start_year: fl
 def hours_plot(yearly: pd.DataFrame, path, summary: pd.DataFrame | None = None) -> None:
     """Write `hours_figure` as PNG to `path` (atomic, byte-identical on rerun)."""
     palette.save_png(hours_figure(yearly, summary), path)
+
+
+def budget_figure(budget: pd.DataFrame) -> Figure:
+    """Share of each noise term in the stacked variance of each target's deciding bin (median
+    visit, stacked as often as the median trial observes it), one stacked bar per target.
+
+    Example: ``budget_figure(outcome.budget)``.
+    """
+    figure = Figure(figsize=(8, 5))
+    axes = figure.add_subplot()
+    shares = budget.pivot(index="target", columns="term", values="share_of_variance")
+    shares = shares.loc[budget["target"].unique(), budget["term"].unique()]
+    left = np.zeros(len(shares))
+    for term in shares.columns:
+        axes.barh(shares.index, shares[term], left=left, label=term)
+        left += shares[term].to_numpy()
+    axes.invert_yaxis()
+    axes.set_xlim(0.0, 1.0)
+    axes.set_xlabel("share of the stacked variance in the deciding bin")
+    axes.set_title("Noise budget at the goal resolution (median visit)")
+    axes.legend(fontsize=7, ncol=2)
+    figure.tight_layout()
+    return figure

@@ -1,0 +1,118 @@
+"""The campaign file's noise-budget keys: [instrument] noise settings, [goal] bin_fraction and
+[scenarios.NAME] atmospheres. Every problem is one InputError line naming the file and key.
+
+``[instrument] kind = "ground" | "space"`` picks the documented defaults (noise_model.GROUND,
+noise_model.SPACE) for the keys not given; a file without ``kind`` (written before the budget
+existed) gets the defaults of its sites' kind, with a warning naming them.
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+from dataclasses import replace
+from pathlib import Path
+
+from vigil import noise_model, scenarios
+from vigil.errors import InputError
+from vigil.textfile import load_toml
+
+log = logging.getLogger("vigil")
+
+#: [instrument] keys of the noise budget, with (kind, low, high) of their values.
+NOISE_KEYS = {
+    "exposure_s": (float, 0.001, 1e5), "readout_s": (float, 0.0, 1e4), "comparison_mag_delta": (float, -10.0, 10.0),
+    "extinction": (bool, None, None), "scintillation_factor": (float, 0.0, 100.0),
+    "sky_area_arcsec2": (float, 0.0, 1e5), "read_noise_e": (float, 0.0, 1e4), "spatial_pixels": (float, 0.0, 1e5),
+    "spectral_pixels_per_um": (float, 0.0, 1e7), "red_noise_ppm": (float, 0.0, 1e5), "trapezoid": (bool, None, None),
+    "impact_parameter": (float, 0.0, 0.999), "excluded_um": (list, None, None),
+}
+INSTRUMENT_KEYS = {"kind", *NOISE_KEYS}
+
+
+def _value(path: Path, key: str, value):
+    kind, low, high = NOISE_KEYS[key]
+    where = f"{path}: [instrument] {key}"
+    if key == "comparison_mag_delta" and value is False:
+        return None  # no comparison star
+    if kind is bool:
+        if not isinstance(value, bool):
+            raise InputError(f"{where}: expected true or false, got {value!r}")
+        return value
+    if kind is list:
+        return _ranges(where, value)
+    if not (isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+            and low <= value <= high):
+        extra = " or false (no comparison star)" if key == "comparison_mag_delta" else ""
+        raise InputError(f"{where}: expected a number from {low:g} to {high:g}{extra}, got {value!r}")
+    return float(value)
+
+
+def _ranges(where: str, value) -> tuple[tuple[float, float], ...]:
+    ok = isinstance(value, list) and all(
+        isinstance(pair, list) and len(pair) == 2 and all(isinstance(v, (int, float)) and not isinstance(v, bool)
+                                                          for v in pair) and 0 < pair[0] < pair[1] for pair in value)
+    if not ok:
+        raise InputError(f"{where}: expected a list of [low_um, high_um] pairs with 0 < low < high, got {value!r}")
+    return tuple((float(low), float(high)) for low, high in value)
+
+
+def _sites_kind(sites_file: Path, names: tuple[str, ...]) -> str:
+    """space when every named site is of kind space, else ground."""
+    try:
+        known = load_toml(sites_file).get("sites", {})
+    except InputError:
+        return "ground"
+    kinds = {known.get(name, {}).get("kind", "ground") if isinstance(known.get(name), dict) else "ground"
+             for name in names}
+    return "space" if kinds == {"space"} else "ground"
+
+
+def warn_assumed(path: Path, table: dict, noise: noise_model.NoiseModel) -> None:
+    """Warn, naming them, when defaults were assumed for a file without [instrument] kind."""
+    assumed = sorted(set(NOISE_KEYS) - set(table))
+    if "kind" not in table and assumed:
+        kind = "ground" if noise.comparison_mag_delta is not None or noise.extinction else "space"
+        log.warning("%s: [instrument] kind not given: %s defaults assumed for %s (README, Noise budget)",
+                    path, kind, ", ".join(assumed))
+
+
+def read_noise(path: Path, table: dict, sites_file: Path, site_names: tuple[str, ...]) -> noise_model.NoiseModel:
+    """The NoiseModel of an [instrument] table (module docstring)."""
+    kind = table.get("kind")
+    if kind is None:
+        kind = _sites_kind(sites_file, site_names)
+    if kind not in ("ground", "space"):
+        raise InputError(f"{path}: [instrument] kind: expected \"ground\" or \"space\", got {kind!r}")
+    base = noise_model.GROUND if kind == "ground" else noise_model.SPACE
+    given = {key: _value(path, key, table[key]) for key in NOISE_KEYS if key in table}
+    try:
+        return replace(base, **given)
+    except InputError as exc:
+        raise InputError(f"{path}: [instrument] {exc}") from None
+
+
+def read_bin_fraction(path: Path, goal: dict) -> float:
+    """[goal] bin_fraction: share of usable bins that must reach the SNR (default 1, all)."""
+    value = goal.get("bin_fraction", 1.0)
+    if not (isinstance(value, (int, float)) and not isinstance(value, bool) and 0 < value <= 1):
+        raise InputError(f"{path}: [goal] bin_fraction: expected a number above 0 and at most 1, got {value!r}")
+    return float(value)
+
+
+def read_scenarios(path: Path, document: dict) -> tuple[scenarios.Scenario, ...]:
+    """[scenarios.NAME] tables with mu and n_scale_heights; the defaults when there are none."""
+    table = document.get("scenarios")
+    if table is None:
+        return scenarios.DEFAULT_SCENARIOS
+    if not isinstance(table, dict) or not table:
+        raise InputError(f"{path}: [scenarios]: expected tables [scenarios.NAME] with mu and n_scale_heights")
+    found = []
+    for name, entry in table.items():
+        if not isinstance(entry, dict) or set(entry) != {"mu", "n_scale_heights"}:
+            raise InputError(f"{path}: [scenarios.{name}]: expected exactly mu and n_scale_heights, got {entry!r}")
+        try:
+            found.append(scenarios.Scenario(name, entry["mu"], entry["n_scale_heights"]))
+        except InputError as exc:
+            raise InputError(f"{path}: [scenarios.{name}] {str(exc).split(': ', 1)[1]}") from None
+    return tuple(found)
