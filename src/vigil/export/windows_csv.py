@@ -123,6 +123,8 @@ def jd_view(windows: pd.DataFrame) -> pd.DataFrame:
         return windows
     out = windows.copy()
     for name, internal in TIME_COLUMNS.items():
+        if name not in windows.columns:  # meridian_utc: absent from tables written before it existed
+            continue
         moments = pd.to_datetime(windows[name], utc=True)
         seconds = (moments - pd.Timestamp("1970-01-01", tz="UTC")).dt.total_seconds()
         out[internal] = UNIX_EPOCH_JD + seconds.to_numpy(dtype=float) / SECONDS_PER_DAY
