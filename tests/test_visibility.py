@@ -12,13 +12,13 @@ import ephem
 import numpy as np
 import pandas as pd
 import pytest
-from astropy.coordinates import AltAz, SkyCoord
+from astropy.coordinates import AltAz, SkyCoord, get_body
 from astropy.time import Time
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.optimize import brentq
 
-from authorities import airmass, sun_moon
+from authorities import airmass, sun_moon, window_geometry
 from vigil import intervals, sky, visibility, windows
 from vigil.catalog import read_targets
 from vigil.timescales import earth_location
@@ -216,8 +216,11 @@ def test_alt_mid_is_astropy_apparent_altitude_and_agrees_with_pyephem(demo_week)
         site = chosen[name]
         times = Time(group["mid_jd_utc"].to_numpy(), format="jd", scale="utc")
         targets = SkyCoord(ra=group["ra_deg"].to_numpy() * u.deg, dec=group["dec_deg"].to_numpy() * u.deg)
-        # Reference 1: astropy AltAz with the same pressure and temperature (refraction on).
+        # Reference 1: astropy AltAz with the same pressure and temperature (refraction on) above
+        # the horizon, without pressure (geometric) below it.
         apparent = targets.transform_to(_altaz_frame(site, times, site.air_pressure_hpa)).alt.deg
+        geometric = targets.transform_to(_altaz_frame(site, times, 0.0)).alt.deg
+        apparent = np.where(geometric >= 0.0, apparent, geometric)
         worst_astropy = max(worst_astropy, float(np.max(np.abs(apparent - group["alt_mid_deg"]))))
         # Reference 2: PyEphem's apparent altitude for the same pressure and temperature.
         observer = ephem.Observer()
@@ -377,3 +380,96 @@ def test_from_samples_places_edges_at_sine_zero_crossings_within_interpolation_b
             assert ends[-1] == t[-1]
         expected_count = np.count_nonzero((rises > t[0]) & (rises < t[-1])) + int(np.sin(w * (t[0] - phase)) >= 0)
         assert starts.size == expected_count
+
+
+# --- meridian crossing, Moon below the horizon, altitude below the horizon ------------------
+
+@pytest.mark.parametrize("engine", ENGINES)
+def test_meridian_crossing_matches_astroplan(demo_sites, engine):
+    # Reference: astroplan's target_meridian_transit_time nearest mid-transit (source and
+    # tolerance in authorities.window_geometry).
+    from astroplan import FixedTarget, Observer
+
+    targets = read_targets(DEMO_DIR / "targets.csv")
+    planned = windows.plan_windows(targets, demo_sites, {}, Time("2027-03-01"), Time("2027-03-08"), engine=engine,
+                                   include_unobservable=True)
+    planned = planned[planned["site"].map(lambda s: demo_sites[s].kind != "space")].head(40)
+    assert len(planned) >= 20
+    worst_s, flags_checked = 0.0, 0
+    for row in planned.itertuples():
+        site = demo_sites[row.site]
+        observer = Observer(location=_location(site))
+        target = FixedTarget(SkyCoord(ra=row.ra_deg * u.deg, dec=row.dec_deg * u.deg))
+        truth = observer.target_meridian_transit_time(Time(row.mid_jd_utc, format="jd", scale="utc"), target,
+                                                      which="nearest").utc.jd
+        worst_s = max(worst_s, _seconds(row.meridian_jd_utc, truth))
+        tolerance_d = window_geometry.MERIDIAN_TOLERANCE_S / 86400.0
+        if min(abs(truth - row.ingress_jd_utc), abs(truth - row.egress_jd_utc)) > tolerance_d:
+            assert row.meridian_in_transit == (row.ingress_jd_utc <= truth <= row.egress_jd_utc)
+            flags_checked += 1
+    print(f"{engine}: meridian crossing worst {worst_s:.1f} s vs astroplan over {len(planned)} windows")
+    assert worst_s < window_geometry.MERIDIAN_TOLERANCE_S
+    assert flags_checked >= 20 and planned["meridian_in_transit"].any() and not planned["meridian_in_transit"].all()
+
+
+@pytest.mark.parametrize("engine", ENGINES)
+def test_moon_limit_ends_at_moonrise_when_the_moon_is_close_but_below_the_horizon(make_targets, demo_sites, engine):
+    # Hand-checked with PyEphem: on 2027-06-25 at mirador_sur the Moon's centre rises at about
+    # 03:04 UTC, inside astronomical darkness. The target is put 40 deg above the rising Moon,
+    # so its separation stays under the 50 deg limit for the whole window; the limit applies only
+    # once the Moon is up, so the observable stretch runs from the window's start to moonrise.
+    site = demo_sites["mirador_sur"]
+    observer = ephem.Observer()
+    observer.lat, observer.lon = str(site.latitude_deg), str(site.longitude_deg)
+    observer.elevation, observer.pressure, observer.horizon = site.elevation_m, 0, "0"
+    observer.date = ephem.Date("2027/06/24 23:00")
+    moonrise = Time(observer.next_rising(ephem.Moon(), use_center=True).datetime(), scale="utc")
+    moon = get_body("moon", moonrise, _location(site)).transform_to(_altaz_frame(site, moonrise, 0.0))
+    above = AltAz(alt=40.0 * u.deg, az=moon.az, obstime=moonrise, location=_location(site), pressure=0.0 * u.hPa)
+    target = SkyCoord(above).transform_to("icrs")
+    mid = moonrise - 0.5 * u.h
+    targets = _transit_seen_at(make_targets, site, mid, target.ra.deg, target.dec.deg, duration_h=2.0)
+    row = _plan_one(targets, site, mid, engine, moon_sep_deg=50.0, min_altitude_deg=10.0,
+                    twilight="astronomical", baseline_h=0.5)
+    # The hand check: through the window the Moon is within 50 deg of the target (PyEphem) and
+    # below the horizon until moonrise.
+    body = ephem.FixedBody()
+    body._ra, body._dec, body._epoch = target.ra.rad, target.dec.rad, ephem.J2000
+    for jd in np.linspace(row.window_start_jd_utc, row.window_end_jd_utc, 13):
+        observer.date = ephem.Date(Time(jd, format="jd").datetime)
+        body.compute(observer)
+        luna = ephem.Moon(observer)
+        assert math.degrees(ephem.separation(body, luna)) < 50.0
+        assert (math.degrees(luna.alt) < 0.0) == (jd < moonrise.jd)
+    assert row.coverage == "ingress"
+    assert _seconds(row.observable_start_jd_utc, row.window_start_jd_utc) < 1.0
+    assert _seconds(row.observable_end_jd_utc, moonrise.jd) < window_geometry.MOONRISE_EDGE_TOLERANCE_S
+
+
+def test_engines_agree_on_altitude_below_and_above_the_horizon(demo_sites):
+    # Targets from -80 to +80 deg geometric altitude at one instant; reference: astropy AltAz
+    # with the site's pressure above the horizon and without pressure below (tolerances in
+    # authorities.window_geometry).
+    from vigil.engines import fast, reference
+
+    site = demo_sites["mirador_sur"]
+    when = Time("2027-06-16T04:00:00", scale="utc")
+    wanted_alt = np.r_[np.linspace(-80.0, -1.0, 40), np.linspace(1.0, 80.0, 40)]
+    azimuth = np.linspace(0.0, 350.0, wanted_alt.size)
+    places = SkyCoord(AltAz(alt=wanted_alt * u.deg, az=azimuth * u.deg, obstime=when, location=_location(site),
+                            pressure=0.0 * u.hPa)).transform_to("icrs")
+    table = pd.DataFrame({"mid_jd_utc": when.jd, "ra_deg": places.ra.deg, "dec_deg": places.dec.deg})
+    fast_alt = fast.conditions_at_mid(table, site)["alt_mid_deg"].to_numpy()
+    reference_alt = reference.conditions_at_mid(table, site)["alt_mid_deg"].to_numpy()
+    times = Time(np.full(wanted_alt.size, when.jd), format="jd", scale="utc")
+    geometric = places.transform_to(_altaz_frame(site, times, 0.0)).alt.deg
+    apparent = places.transform_to(_altaz_frame(site, times, site.air_pressure_hpa)).alt.deg
+    below, up = geometric < 0.0, geometric > window_geometry.ALT_COMPARED_ABOVE_DEG
+    assert below.sum() >= 30 and up.sum() >= 30
+    worst_below = np.max(np.abs(fast_alt - reference_alt)[below])
+    worst_up = np.max(np.abs(fast_alt - reference_alt)[up])
+    print(f"engines' alt_mid_deg: worst {worst_below:.4f} deg below the horizon, {worst_up:.4f} deg above 5 deg")
+    assert np.max(np.abs(reference_alt - geometric)[below]) < 1e-6
+    assert np.max(np.abs(reference_alt - apparent)[up]) < 1e-6
+    assert worst_below < window_geometry.ALT_BELOW_HORIZON_TOLERANCE_DEG
+    assert worst_up < window_geometry.ALT_ABOVE_HORIZON_TOLERANCE_DEG

@@ -24,6 +24,7 @@ from vigil.places_of_date import (DAYS_PER_CENTURY, J2000_JD, check_latitude, nu
 from vigil.timescales import tt_minus_utc_s
 
 _SOLAR_DAY_HOUR_ANGLE_RATE_DEG_PER_D = 360.0  # mean solar hour angle advances 360 deg per day
+SIDEREAL_DEG_PER_DAY = 360.98564736629  # Earth's rotation relative to the equinox, per UT day
 _EARTH_RADIUS_KM = 6378.137  # WGS84 equatorial radius
 _EARTH_FLATTENING = 1.0 / 298.257223563  # WGS84
 
@@ -36,7 +37,7 @@ def gmst_deg(jd_ut1):
     """Greenwich mean sidereal time in degrees [0, 360) (IAU 1982; Meeus eq. 12.4)."""
     d = np.asarray(jd_ut1, dtype=float) - J2000_JD
     t = d / DAYS_PER_CENTURY
-    theta = 280.46061837 + 360.98564736629 * d + t * t * (0.000387933 - t / 38710000.0)
+    theta = 280.46061837 + SIDEREAL_DEG_PER_DAY * d + t * t * (0.000387933 - t / 38710000.0)
     return wrap360(theta)
 
 

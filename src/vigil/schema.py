@@ -31,6 +31,8 @@ COVERAGE = "coverage"
 OBSERVABLE_FRACTION = "observable_fraction"
 OBSERVABLE_START_JD_UTC = "observable_start_jd_utc"
 OBSERVABLE_END_JD_UTC = "observable_end_jd_utc"
+MERIDIAN_JD_UTC = "meridian_jd_utc"
+MERIDIAN_IN_TRANSIT = "meridian_in_transit"
 
 _DTYPES = {"float": "float64", "int": "int64", "bool": "bool", "text": "str", "utc": "datetime64[ns, UTC]"}
 
@@ -167,11 +169,16 @@ WINDOWS = Table("windows", (
     _col(OBSERVABLE_FRACTION, "", "float", "fraction of [ingress, egress] that is observable"),
     _col(OBSERVABLE_START_JD_UTC, "JD UTC", "float", "start of the longest observable stretch overlapping the transit"),
     _col(OBSERVABLE_END_JD_UTC, "JD UTC", "float", "end of that stretch"),
-    _col("alt_mid_deg", "deg", "float", "apparent target altitude at mid-transit (refraction included)"),
+    _col("alt_mid_deg", "deg", "float", "target altitude at mid-transit: apparent (refraction included) above "
+         "the horizon, geometric below it"),
     _col("airmass_mid", "", "float", "airmass at mid-transit (Kasten & Young 1989)"),
     _col("sun_alt_mid_deg", "deg", "float", "altitude of the Sun's centre at mid-transit (geometric)"),
     _col("moon_sep_deg", "deg", "float", "Moon-target separation at mid-transit"),
     _col("moon_illumination", "", "float", "illuminated fraction of the Moon's disk at mid-transit (0 new, 1 full)"),
+    _col(MERIDIAN_JD_UTC, "JD UTC", "float", "the target's upper culmination (hour angle 0) nearest mid-transit; "
+         "NaN in space"),
+    _col(MERIDIAN_IN_TRANSIT, "", "bool", "that culmination falls between ingress and egress: a German "
+         "equatorial mount flips during the transit (False in space)"),
 ), optional=(_SHARED_WITH,))
 
 _VISIT_COLUMNS = (
@@ -256,7 +263,8 @@ _OUT_TIME = {"mid_utc": "mid-time as seen at the site", "ingress_utc": "first co
              "egress_utc": "fourth contact at the site", "window_start_utc": "ingress minus baseline minus K sigma",
              "window_end_utc": "egress plus baseline plus K sigma",
              "observable_start_utc": "start of the longest observable stretch overlapping the transit",
-             "observable_end_utc": "end of that stretch"}
+             "observable_end_utc": "end of that stretch",
+             "meridian_utc": "the target's upper culmination (hour angle 0) nearest mid-transit; empty in space"}
 _WINDOW_COLUMN = {c.name: c for c in WINDOWS.columns}
 WINDOWS_OUT = Table("windows (handed out)", (
     *(_WINDOW_COLUMN[n] for n in (TARGET, SITE, "event", EPOCH, MID_BJD_TDB)),
@@ -265,8 +273,9 @@ WINDOWS_OUT = Table("windows (handed out)", (
     *(_col(n, "UTC", "utc", _OUT_TIME[n]) for n in ("ingress_utc", "egress_utc", "window_start_utc", "window_end_utc")),
     _COVERAGE, _WINDOW_COLUMN[OBSERVABLE_FRACTION],
     *(_col(n, "UTC", "utc", _OUT_TIME[n]) for n in ("observable_start_utc", "observable_end_utc")),
-    *(_WINDOW_COLUMN[n] for n in ("alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination",
-                                  "stale")),
+    *(_WINDOW_COLUMN[n] for n in ("alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination")),
+    _col("meridian_utc", "UTC", "utc", _OUT_TIME["meridian_utc"]), _WINDOW_COLUMN[MERIDIAN_IN_TRANSIT],
+    _WINDOW_COLUMN["stale"],
     _SHARED_WITH,
 ))
 

@@ -65,6 +65,21 @@ def classify(windows: pd.DataFrame, observable, sigma_k: float) -> pd.DataFrame:
     return out
 
 
+def meridian_in_transit(windows: pd.DataFrame) -> np.ndarray:
+    """True where the meridian crossing (JD UTC) falls between ingress and egress (False where
+    it is NaN, as in space).
+
+    Examples
+    --------
+    >>> meridian_in_transit(pd.DataFrame({"ingress_jd_utc": [1.0, 1.0], "egress_jd_utc": [1.1, 1.1],
+    ...                                   "meridian_jd_utc": [1.05, 1.2]})).tolist()
+    [True, False]
+    """
+    meridian = windows[schema.MERIDIAN_JD_UTC].to_numpy(dtype=float)
+    return (meridian >= windows[schema.INGRESS_JD_UTC].to_numpy(dtype=float)) & (
+        meridian <= windows[schema.EGRESS_JD_UTC].to_numpy(dtype=float))
+
+
 def _main_stretch(observable, ingress, egress, n: int):
     """Start and end of each row's stretch with the most in-transit time (NaN where none)."""
     row, start, end = observable

@@ -51,7 +51,9 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints, s
         rows = np.flatnonzero((classified["coverage"] != "none").to_numpy())
         classified = classified.take(rows).reset_index(drop=True)
     found = notes.merged(found, _lost_phase_notes(padded[~timed], constraints.sigma_k))
-    return notes.attach(pd.concat([classified, conditions_of(rows)], axis=1), found)
+    out = pd.concat([classified, conditions_of(rows)], axis=1)
+    out[schema.MERIDIAN_IN_TRANSIT] = visibility.meridian_in_transit(out)
+    return notes.attach(out, found)
 
 
 def _lost_phase_notes(untimed: pd.DataFrame, sigma_k: float) -> list[notes.Note]:

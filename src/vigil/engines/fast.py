@@ -6,8 +6,9 @@ altitude limit; the limit is an apparent altitude, so it is lowered by the refra
 (constant for a site). The stretches above the limit around the culminations nearest
 mid-transit are intersected with the dark intervals and clipped to the window by
 `searchsorted`, for all transits at once. The Moon separation, when asked, is sampled every
-`MOON_STEP_MIN` minutes and its edges interpolated, in the windows where it can cross the
-limit; elsewhere it is settled by its value at mid-transit (see `_moon_clear`).
+`MOON_STEP_MIN` minutes with the Moon's altitude (the limit holds only while the Moon is up)
+and its edges interpolated, in the windows where it can fall below the limit; the others are
+clear throughout, settled by its value at mid-transit (see `_moon_clear`).
 
 Target-independent quantities are tabulated once per process on fixed grids of Julian dates,
 in blocks computed on first use (`vigil.tabulated.Table`), and read at the nearest node or interpolated
@@ -38,6 +39,7 @@ import pandas as pd
 from vigil import intervals, local_sky, places_of_date, schema
 from vigil.constraints import Constraints
 from vigil.engines.darkness import ground_notes, span_dark_intervals
+from vigil.local_sky import SIDEREAL_DEG_PER_DAY
 from vigil.sites import Site
 from vigil.sky import airmass_kasten_young
 from vigil.tabulated import BLOCKS_KEPT, Table, block_nodes
@@ -46,7 +48,6 @@ from vigil.timescales import geocentre_mid_jd_utc, jd_tt_from_utc
 from vigil.vectors import angle_deg, unit_vectors
 from vigil.visibility import window_bounds
 
-SIDEREAL_DEG_PER_DAY = 360.98564736629  # Earth's rotation relative to the equinox, per UT day
 MOON_STEP_MIN = 20.0
 # The topocentric Moon moves against the stars by at most about 16.5 deg/day in its orbit plus
 # 6.5 deg/day from the diurnal parallax (1.02 deg swung at 6.3 rad/day): 23 deg/day, taken as
@@ -154,6 +155,13 @@ def _sin_altitude(x, y, z, pointing: _Pointing, site: Site) -> np.ndarray:
     return np.cos(lat) * (x * pointing.cos_lst + y * pointing.sin_lst) + np.sin(lat) * z
 
 
+def _culmination_jd_utc(mid: np.ndarray, pointing: _Pointing) -> np.ndarray:
+    """JD UTC of the upper culmination (hour angle 0) nearest each mid-time `mid` (JD UTC)."""
+    x, y, _ = pointing.target
+    ha_mid = (pointing.lst_deg - np.degrees(np.arctan2(y, x)) + 180.0) % 360.0 - 180.0
+    return mid - ha_mid / SIDEREAL_DEG_PER_DAY
+
+
 def _above_limit(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing):
     """Flat interval set of time above the apparent altitude limit near each window."""
     limit = constraints.min_altitude_deg
@@ -169,8 +177,7 @@ def _above_limit(windows: pd.DataFrame, site: Site, constraints: Constraints, po
     half_width_d = np.degrees(np.arccos(np.clip(cos_h, -1.0, 1.0))) / SIDEREAL_DEG_PER_DAY
     mid = windows[schema.MID_JD_UTC].to_numpy(dtype=float)
     lo, hi = window_bounds(windows)
-    ha_mid = (pointing.lst_deg - np.degrees(np.arctan2(y, x)) + 180.0) % 360.0 - 180.0
-    culmination = mid - ha_mid / SIDEREAL_DEG_PER_DAY
+    culmination = _culmination_jd_utc(mid, pointing)
     sidereal_day = 360.0 / SIDEREAL_DEG_PER_DAY
     reach = int(np.ceil(np.max(np.maximum(mid - lo, hi - mid), initial=0.0) / sidereal_day + 0.5))
     offsets = sidereal_day * np.arange(-reach, reach + 1)  # the culminations that can touch a window
@@ -186,30 +193,46 @@ def _above_limit(windows: pd.DataFrame, site: Site, constraints: Constraints, po
     return row[keep], start[keep], end[keep]
 
 
-def _moon_separation_deg(jd_utc, target: np.ndarray, site: Site, lst_deg=None) -> np.ndarray:
-    """Angle (deg) between directions of date (3, n) and the Moon seen from the site at jd_utc.
+def _topocentric_moon_km(jd_utc, site: Site, lst_deg=None):
+    """The Moon seen from the site at jd_utc (x, y, z; km, true equator and equinox of date) and
+    the local apparent sidereal time (deg; computed unless given).
 
-    The Moon seen from the site is the tabulated geocentric Moon minus the site's position
-    (WGS84) turned by the local apparent sidereal time (computed unless given); the angle is
-    `vectors.angle_deg`.
+    It is the tabulated geocentric Moon minus the site's position (WGS84) turned by the local
+    apparent sidereal time.
     """
     if lst_deg is None:
         lst_deg = _local_sidereal_deg(jd_utc, SKY_TABLE.nearest(jd_utc, SKY_EQUATION_OF_EQUINOXES)[:, 0], site)
     mx, my, mz = MOON_TABLE.at(jd_utc, MOON_XYZ).T
     rho_cos, rho_sin = local_sky.observer_geocentric_km(site.latitude_deg, site.elevation_m)
     lst_rad = np.radians(lst_deg)
-    mx = mx - rho_cos * np.cos(lst_rad)
-    my = my - rho_cos * np.sin(lst_rad)
-    mz = mz - rho_sin
-    return angle_deg(target, (mx, my, mz))
+    return (mx - rho_cos * np.cos(lst_rad), my - rho_cos * np.sin(lst_rad), mz - rho_sin), lst_deg
+
+
+def _moon_separation_deg(jd_utc, target: np.ndarray, site: Site, lst_deg=None) -> np.ndarray:
+    """Angle (deg) between directions of date (3, n) and the Moon seen from the site at jd_utc
+    (`vectors.angle_deg`)."""
+    moon, _ = _topocentric_moon_km(jd_utc, site, lst_deg)
+    return angle_deg(target, moon)
+
+
+def _moon_margin_deg(jd_utc, target: np.ndarray, site: Site, limit_deg) -> np.ndarray:
+    """How far (deg) the Moon is beyond the separation limit or below the horizon, whichever is
+    larger: the limit holds only while the Moon's centre is above the horizon (geometric)."""
+    (mx, my, mz), lst_deg = _topocentric_moon_km(jd_utc, site)
+    lst_rad = np.radians(lst_deg)
+    lat = np.radians(site.latitude_deg)
+    sin_alt = (np.cos(lat) * (mx * np.cos(lst_rad) + my * np.sin(lst_rad)) + np.sin(lat) * mz) / np.sqrt(
+        mx ** 2 + my ** 2 + mz ** 2)
+    moon_alt = np.degrees(np.arcsin(np.clip(sin_alt, -1.0, 1.0)))
+    return np.maximum(angle_deg(target, (mx, my, mz)) - limit_deg, -moon_alt)
 
 
 def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing):
     """Flat interval set where the Moon is at least the required angle away.
 
-    A window whose separation at mid-transit is farther from the limit than the separation
-    can move in its half-length (MOON_SEPARATION_RATE_DEG_PER_D) is clear throughout or not at
-    all; only the others are sampled.
+    A window whose separation at mid-transit exceeds the limit by more than the separation can
+    move in its half-length (MOON_SEPARATION_RATE_DEG_PER_D) is clear throughout; the others
+    are sampled, as the Moon may be below the horizon for some of the window.
     """
     mid = windows[schema.MID_JD_UTC].to_numpy(dtype=float)
     lo, hi = window_bounds(windows)
@@ -218,13 +241,13 @@ def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, poi
     reach_deg = MOON_SEPARATION_RATE_DEG_PER_D * np.maximum(mid - lo, hi - mid)
     if facility.moon_table:  # the limit follows the phase: every window is sampled
         reach_deg = np.full(mid.shape, np.inf)
-    near = np.flatnonzero(np.abs(margin_mid) <= reach_deg)
+    near = np.flatnonzero(margin_mid <= reach_deg)
     clear = np.flatnonzero(margin_mid > reach_deg)
     sample_row, jd = intervals.sample_grid(lo[near], hi[near], MOON_STEP_MIN / MINUTES_PER_DAY)
-    separation = _moon_separation_deg(jd, pointing.target[:, near[sample_row]], site)
     limit = facility.moon_limit_deg(MOON_TABLE.at(jd, MOON_ILLUMINATION)[:, 0],
                                     constraints.moon_sep_deg)
-    row, start, end = intervals.from_samples(sample_row, jd, separation - limit)
+    row, start, end = intervals.from_samples(sample_row, jd, _moon_margin_deg(jd, pointing.target[:, near[sample_row]],
+                                                                              site, limit))
     row = np.concatenate([near[row], clear])
     order = np.argsort(row, kind="stable")
     return row[order], np.concatenate([start, lo[clear]])[order], np.concatenate([end, hi[clear]])[order]
@@ -279,8 +302,9 @@ def _facility_clear(windows: pd.DataFrame, site: Site, pointing: _Pointing):
 
 
 def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
-    """Target altitude (apparent) and airmass, Sun altitude, Moon separation and illumination at
-    mid-transit, indexed like `windows`."""
+    """Target altitude (apparent above the horizon, geometric below) and airmass, Sun altitude,
+    Moon separation and illumination at mid-transit, and the meridian crossing nearest it,
+    indexed like `windows`."""
     conditions = _conditions(windows[schema.MID_JD_UTC].to_numpy(dtype=float), site, _pointing(windows, site))
     return conditions.set_axis(windows.index)
 
@@ -290,10 +314,13 @@ def _conditions(mid: np.ndarray, site: Site, pointing: _Pointing) -> pd.DataFram
     geometric = np.degrees(np.arcsin(np.clip(_sin_altitude(*pointing.target, pointing, site), -1.0, 1.0)))
     sun = SKY_TABLE.at(mid, SKY_SUN).T
     sin_sun_alt = _sin_altitude(*sun, pointing, site) / np.sqrt(sun[0] ** 2 + sun[1] ** 2 + sun[2] ** 2)
+    refraction = np.where(geometric >= 0.0, local_sky.refraction_deg(geometric, site.air_pressure_hpa,
+                                                                      site.temperature_c), 0.0)
     return pd.DataFrame({
-        "alt_mid_deg": geometric + local_sky.refraction_deg(geometric, site.air_pressure_hpa, site.temperature_c),
+        "alt_mid_deg": geometric + refraction,
         "airmass_mid": airmass_kasten_young(geometric),
         "sun_alt_mid_deg": np.degrees(np.arcsin(np.clip(sin_sun_alt, -1.0, 1.0))),
         "moon_sep_deg": _moon_separation_deg(mid, pointing.target, site, pointing.lst_deg),
         "moon_illumination": MOON_TABLE.at(mid, MOON_ILLUMINATION)[:, 0],
+        schema.MERIDIAN_JD_UTC: _culmination_jd_utc(mid, pointing),
     })

@@ -21,6 +21,7 @@ from vigil.constraints import Constraints
 from vigil.engines.darkness import ground_notes
 from vigil.engines.protocol import evaluate_in_two_steps
 from vigil.sites import Site
+from vigil.local_sky import SIDEREAL_DEG_PER_DAY
 from vigil.time_units import MINUTES_PER_DAY
 from vigil.timescales import bjd_tdb_to_site_time, earth_location
 from vigil.visibility import window_bounds
@@ -56,7 +57,10 @@ def constraint_margin_deg(windows: pd.DataFrame, row, jd_utc, site: Site, constr
         margin = np.minimum(margin, facility.margin_deg(alt, az, ha, dec_of_date))
     if constraints.moon_sep_deg > 0 or facility.moon_table:
         limit = facility.moon_limit_deg(sky.moon_illumination(times), constraints.moon_sep_deg)
-        margin = np.minimum(margin, sky.moon_separation_deg(ra, dec, times, location) - limit)
+        # the limit holds only while the Moon's centre is above the horizon (geometric)
+        moon_margin = np.maximum(sky.moon_separation_deg(ra, dec, times, location) - limit,
+                                 -sky.moon_altitude_deg(times, location))
+        margin = np.minimum(margin, moon_margin)
     return margin
 
 
@@ -72,18 +76,21 @@ def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constra
 
 
 def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
-    """Target altitude (apparent) and airmass, Sun altitude and Moon separation at mid-transit."""
+    """Target altitude (apparent above the horizon, geometric below) and airmass, Sun altitude,
+    Moon separation at mid-transit, and the meridian crossing nearest it (astropy hour angle)."""
     location = earth_location(site.latitude_deg, site.longitude_deg, site.elevation_m)
     times = Time(windows[schema.MID_JD_UTC].to_numpy(), format="jd", scale="utc")
     ra, dec = windows["ra_deg"].to_numpy(), windows["dec_deg"].to_numpy()
     apparent, _ = sky.target_altaz_deg(ra, dec, times, location, site.air_pressure_hpa, site.temperature_c)
     geometric, _ = sky.target_altaz_deg(ra, dec, times, location)
+    ha_deg, _ = sky.target_hadec_deg(ra, dec, times, location)
     return pd.DataFrame({
-        "alt_mid_deg": apparent,
+        "alt_mid_deg": np.where(geometric >= 0.0, apparent, geometric),
         "airmass_mid": sky.airmass_kasten_young(geometric),
         "sun_alt_mid_deg": sky.sun_altitude_deg(times, location),
         "moon_sep_deg": sky.moon_separation_deg(ra, dec, times, location),
         "moon_illumination": sky.moon_illumination(times),
+        schema.MERIDIAN_JD_UTC: times.jd - ha_deg / SIDEREAL_DEG_PER_DAY,
     }, index=windows.index)
 
 

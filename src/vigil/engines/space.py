@@ -137,7 +137,8 @@ def _moon_separation_deg(ra_deg, dec_deg, mid_jd_utc, space: SpaceSettings) -> n
 
 def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
     """The columns of the ground engines at mid-transit: altitude, airmass and Sun altitude are
-    NaN (no horizon in space); moon_sep_deg is geocentric (NaN beyond a low orbit's distance)."""
+    NaN (no horizon in space), and so is the meridian crossing; moon_sep_deg is geocentric (NaN
+    beyond a low orbit's distance)."""
     space = _space_settings(site)
     mid = windows[schema.MID_JD_UTC].to_numpy(dtype=float)
     nothing = np.full(mid.shape, np.nan)
@@ -148,6 +149,7 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
         "moon_sep_deg": _moon_separation_deg(windows["ra_deg"].to_numpy(dtype=float),
                                              windows["dec_deg"].to_numpy(dtype=float), mid, space),
         "moon_illumination": places_of_date.moon_illuminated_fraction(jd_tt_from_utc(mid)),
+        schema.MERIDIAN_JD_UTC: nothing,
     }, index=windows.index)
 
 

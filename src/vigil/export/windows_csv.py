@@ -22,6 +22,7 @@ TIME_COLUMNS = {
     "window_end_utc": schema.WINDOW_END_JD_UTC,
     "observable_start_utc": schema.OBSERVABLE_START_JD_UTC,
     "observable_end_utc": schema.OBSERVABLE_END_JD_UTC,
+    "meridian_utc": schema.MERIDIAN_JD_UTC,
 }
 COLUMNS = list(schema.WINDOWS_OUT.names)
 DECIMALS = {schema.MID_BJD_TDB: 6, "mid_sigma_min": 2, schema.OBSERVABLE_FRACTION: 4, "alt_mid_deg": 2,
@@ -50,7 +51,8 @@ def windows_table(windows: pd.DataFrame) -> pd.DataFrame:
     schema.WINDOWS.check(windows)
     out = pd.DataFrame({c: windows[c] for c in ("target", "site", "event", "epoch", "mid_bjd_tdb", "coverage",
                                                  "observable_fraction", "alt_mid_deg", "airmass_mid",
-                                                 "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "stale")})
+                                                 "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination",
+                                                 schema.MERIDIAN_IN_TRANSIT, "stale")})
     out["mid_sigma_min"] = windows[schema.MID_SIGMA_D] * MINUTES_PER_DAY
     out["shared_with"] = windows["shared_with"] if "shared_with" in windows.columns else ""
     for name, source in TIME_COLUMNS.items():
@@ -121,6 +123,8 @@ def jd_view(windows: pd.DataFrame) -> pd.DataFrame:
         return windows
     out = windows.copy()
     for name, internal in TIME_COLUMNS.items():
+        if name not in windows.columns:  # meridian_utc: absent from tables written before it existed
+            continue
         moments = pd.to_datetime(windows[name], utc=True)
         seconds = (moments - pd.Timestamp("1970-01-01", tz="UTC")).dt.total_seconds()
         out[internal] = UNIX_EPOCH_JD + seconds.to_numpy(dtype=float) / SECONDS_PER_DAY
