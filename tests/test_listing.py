@@ -80,3 +80,18 @@ def test_journal_list_is_a_table_without_nan_or_none(tmp_path):
     assert "Tamsin-7 b" in listed.output and "planned" in listed.output
     assert "NaN" not in listed.output and "None" not in listed.output
     assert max(len(line) for line in listed.output.splitlines()) <= 80
+
+
+def test_campaign_table_keeps_names_and_numbers_whole_in_80_columns(tmp_path):
+    result = CliRunner().invoke(app, ["campaign", str(DEMO_DIR / "campaign.toml"), "--out", str(tmp_path / "out")],
+                                env={"COLUMNS": "80"})
+    assert result.exit_code == 0, result.output
+    lines = result.output.splitlines()
+    table = lines[next(i for i, line in enumerate(lines) if line.startswith("Campaign ")):]
+    assert max(len(line) for line in table) <= 80
+    names = [row["target"] for row in _rows(tmp_path / "out" / "summary.csv")]
+    years = re.compile(r"^(never|\d+\.\d)/(never|\d+\.\d)/(never|\d+\.\d)$")
+    for name in names:  # each target's row starts with its whole name and holds whole p10/p50/p90 years
+        row = next(line for line in table if line.startswith(name + " "))
+        assert any(years.match(cell) for cell in row.split()), row
+    assert "…" not in "\n".join(table)

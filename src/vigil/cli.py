@@ -281,12 +281,15 @@ def _print_campaign(result: CampaignOutcome, spec) -> None:
                           f"{spec.goal_resolution:g} at SNR {spec.goal_snr:g} per bin ({spec.trials} trials)",
                           [("target", "left"), ("transits/yr", "right"), ("h/yr", "right"),
                            ("years to goal p10/50/90", "right"), ("verdict", "left")])
-    for row in result.summary.itertuples(index=False):
-        verdict = (Text("reachable", style="green") if row.reachable else
-                   Text.assemble(("no", "red"), f": {row.limited_by}"))
-        table.add_row(row.target, f"{row.transits_per_year:.1f}", f"{row.in_transit_hours_per_year:.1f}",
-                      "/".join(_years(v) for v in (row.years_to_goal_p10, row.years_to_goal_p50, row.years_to_goal_p90)),
-                      verdict)
+    rows = [(row.target, f"{row.transits_per_year:.1f}", f"{row.in_transit_hours_per_year:.1f}",
+             "/".join(_years(v) for v in (row.years_to_goal_p10, row.years_to_goal_p50, row.years_to_goal_p90)),
+             Text("reachable", style="green") if row.reachable else Text.assemble(("no", "red"), f": {row.limited_by}"))
+            for row in result.summary.itertuples(index=False)]
+    for column, cells in zip(table.columns[:4], zip(*rows)):  # names and numbers whole; the verdict wraps instead
+        column.min_width = max(len(str(c)) for c in (column.header, *cells))
+    table.columns[4].no_wrap, table.columns[4].overflow = False, "fold"
+    for cells in rows:
+        table.add_row(*cells)
     out.print(table)
 
 
