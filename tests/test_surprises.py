@@ -95,6 +95,14 @@ def test_campaign_target_says_clashes_are_left_out_and_writes_nothing_unasked(tm
     assert again.exit_code == 0, again.output
 
 
+def test_campaign_target_passes_over_journal_timings_of_other_targets(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    campaign = _campaign_with_journal(tmp_path)  # the journal holds a timing of Brisa-4 b only
+    one = _run("campaign", campaign, "--target", "Orla-12 b")
+    assert one.exit_code == 0, one.output
+    assert one.output.startswith("Orla-12 b: ")
+
+
 def test_a_library_warning_reaches_the_user_as_one_vigil_line(tmp_path, monkeypatch):
     import warnings
 

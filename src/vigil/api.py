@@ -341,12 +341,13 @@ def run_campaign(campaign, targets=None, sites=None, *, target: str | None = Non
     if target is not None:
         if target not in set(targets["name"]):
             raise ArgumentError("target", f"no target named {target!r}{did_you_mean(target, targets['name'])}")
+        left_out = [name for name in targets["name"] if name != target]
         targets = targets[targets["name"] == target].reset_index(drop=True)
     sites = read_sites(spec.sites_file if sites is None else sites)
     with workers_for(scheduler, jobs, chunk_dir) as workers:
         result = simulate_campaign(spec, targets, sites, engine="reference" if exact else "fast",
                                    on_progress=on_progress, jobs=workers.count, executor=workers.executor,
-                                   chunk_dir=workers.chunk_dir)
+                                   chunk_dir=workers.chunk_dir, left_out=left_out if target is not None else ())
     notes.report(result.notes)
     return CampaignOutcome(spec, result)
 

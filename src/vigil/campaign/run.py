@@ -48,14 +48,17 @@ def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: s
     return notes.attach(visits, notes.merged(*(notes.of(p) for p in pieces)))
 
 
-def _from_journal(spec: CampaignSpec, targets: pd.DataFrame) -> tuple[pd.DataFrame, dict]:
-    """Targets with the journal's measured timings folded in, and hours already stacked per target."""
+def _from_journal(spec: CampaignSpec, targets: pd.DataFrame, left_out=()) -> tuple[pd.DataFrame, dict]:
+    """Targets with the journal's measured timings folded in, and hours already stacked per target.
+
+    Timings of `left_out` targets (in the catalogue, but not in this run) are passed over."""
     if spec.journal_file is None:
         return targets, {}
     if not spec.journal_file.exists():
         raise InputError(f"{spec.journal_file}: journal not found (named by [campaign] journal)")
     with open_journal(spec.journal_file, write=False) as journal:
         timings, hours = journal.timings(), journal.executed_hours()
+    timings = timings[~timings["target"].isin(set(left_out))]
     stacked = {row.target: (float(row.in_transit_h), float(row.baseline_h)) for row in hours.itertuples(index=False)}
     return upkeep.assimilate_timings(targets, timings), stacked
 
@@ -73,17 +76,19 @@ def _trials(scheduled: pd.DataFrame, spec: CampaignSpec, on_progress: Callable[[
 
 def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Site], engine: str = "fast",
                  on_progress: Callable[[int], None] | None = None, jobs: int = 1, executor: Executor | None = None,
-                 chunk_dir: Path | None = None) -> CampaignResult:
+                 chunk_dir: Path | None = None, left_out=()) -> CampaignResult:
     """Simulate the campaign: summary per target, yearly forecast, ledger of trial 0.
 
-    jobs, executor and chunk_dir say where the windows step runs (vigil.sweep.iter_windows).
+    jobs, executor and chunk_dir say where the windows step runs (vigil.sweep.iter_windows);
+    left_out names catalogue targets not in `targets` (one-target runs), whose journal timings are
+    passed over rather than refused as unknown.
     """
     missing = [s for s in spec.site_names if s not in sites]
     if missing:
         raise InputError(f"{spec.sites_file}: campaign site {missing[0]!r} not found; sites are {', '.join(sites)}")
     sites = {n: sites[n] for n in spec.site_names}
     found, priority = _bodies(targets, spec)
-    targets, stacked = _from_journal(spec, targets)
+    targets, stacked = _from_journal(spec, targets, left_out)
     candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs, executor, chunk_dir)
     ground = any(site.kind != "space" for site in sites.values())
     gain = {name: forecast.snr2_per_hour(body, spec, candidates[candidates["target"] == name], ground)
