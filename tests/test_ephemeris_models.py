@@ -125,3 +125,40 @@ def test_ics_uids_agree_across_a_refit(tmp_path):
         assert ran.exit_code == 0, ran.output
         uids.append({line for line in ics.read_text().splitlines() if line.startswith("UID:")})
     assert len(uids[0] & uids[1]) >= 0.9 * max(len(uids[0]), len(uids[1]))
+
+
+def test_catalogue_projection_equals_each_targets_own_projection():
+    # Definition check (common practice, no source): the set of epochs n with start <= T(n) <= end
+    # for each target. The whole catalogue is projected at once (vectorised); each target alone
+    # (its own model, one by one) must give the same rows, including quadratic ones, epochs
+    # referenced elsewhere and spans that start or end exactly on a predicted mid-time.
+    rng = np.random.default_rng(7)
+    n = 60
+    rows = pd.DataFrame({"name": [f"Vex-{i} b" for i in range(n)], "ra_deg": rng.uniform(0, 360, n),
+                         "dec_deg": rng.uniform(-60, 60, n), "t0_bjd_tdb": 2460000.0 + rng.uniform(0, 50, n),
+                         "t0_err_d": 1e-4, "period_d": rng.uniform(0.5, 30.0, n), "period_err_d": 1e-6,
+                         "duration_h": 2.0, "dp_dn_d": np.where(np.arange(n) % 3 == 0, -2e-9, np.nan),
+                         "dp_dn_err_d": np.where(np.arange(n) % 3 == 0, 1e-10, np.nan),
+                         "t0_epoch": np.where(np.arange(n) % 4 == 0, 250.0, np.nan)})
+    start = float(target_ephemerides(rows.iloc[:1])[0].mid_bjd_tdb(40))  # exactly on a mid-time of the first
+    end = start + 700.0
+    together = project_transits(rows, start, end)
+    for i, model in enumerate(target_ephemerides(rows)):
+        own = together[together["target"] == rows["name"].iat[i]]
+        first, last = model.epoch_range(start, end)
+        np.testing.assert_array_equal(own["epoch"], np.arange(first, last + 1))
+        np.testing.assert_array_equal(own["mid_bjd_tdb"], model.mid_bjd_tdb(own["epoch"].to_numpy()))
+        mids = model.mid_bjd_tdb(np.array([first - 1, first, last, last + 1]))
+        assert mids[0] < start <= mids[1] and mids[2] <= end < mids[3]
+    assert together["epoch"][together["target"] == "Vex-0 b"].iat[0] == 40
+
+
+def test_empty_optional_ephemeris_cells_in_a_dataframe_read_as_absent():
+    # A table built in Python with NaN in the optional quadratic columns (pandas' missing value)
+    # is read like a CSV with those cells empty: linear, same rows.
+    plain = pd.DataFrame([{k: v for k, v in QUADRATIC.items() if k not in ("dp_dn_d", "dp_dn_err_d", "t0_dp_dn_cov_d2",
+                                                                             "period_dp_dn_cov_d2")}])
+    with_gaps = plain.assign(dp_dn_d=np.nan, dp_dn_err_d=np.nan, t0_dp_dn_cov_d2=np.nan, period_dp_dn_cov_d2=np.nan)
+    pd.testing.assert_frame_equal(project_transits(with_gaps, 2463000.0, 2463100.0),
+                                  project_transits(plain, 2463000.0, 2463100.0))
+    assert target_ephemerides(with_gaps)[0].kind == "linear"

@@ -82,7 +82,7 @@ class PolynomialEphemeris:
     """T(n) = T0 + k P + k^2 dp_dn / 2 with k = n - t0_epoch (module docstring); times BJD_TDB, days.
 
     covariance_d2 is the 3 x 3 covariance of (T0, P, dP/dN). Fields may be numpy arrays of one
-    length (one target each), as `stacked` builds them for vectorised prediction.
+    length (one target each), as `catalogue_ephemeris` builds them for vectorised prediction.
 
     Examples
     --------
@@ -136,29 +136,46 @@ class PolynomialEphemeris:
                                   quad(1, 2), quad(2, 2))
 
     def epoch_range(self, start_bjd_tdb: float, end_bjd_tdb: float) -> tuple[int, int]:
-        first = int(np.ceil(self.epoch_at(start_bjd_tdb)))
-        last = int(np.floor(self.epoch_at(end_bjd_tdb)))
+        first, last = self.epoch_ranges(start_bjd_tdb, end_bjd_tdb)
+        return int(first[0]), int(last[0])
+
+    def epoch_ranges(self, start_bjd_tdb, end_bjd_tdb) -> tuple[np.ndarray, np.ndarray]:
+        """First and last epoch with start <= T(n) <= end (int64 arrays of at least one dimension, numpy-broadcast over a stacked
+        ephemeris and the span ends, BJD_TDB); last < first where there is none.
+
+        Examples
+        --------
+        >>> both = catalogue_ephemeris(pd.DataFrame({"name": ["b", "c"], "t0_bjd_tdb": [2460000.0, 2460000.5],
+        ...     "t0_err_d": [0.0, 0.0], "period_d": [2.0, 3.0], "period_err_d": [0.0, 0.0]}))
+        >>> [a.tolist() for a in both.epoch_ranges(2460001.0, 2460006.0)]
+        [[1, 1], [3, 1]]
+        """
+        first = np.atleast_1d(np.ceil(self.epoch_at(start_bjd_tdb)).astype(np.int64))
+        last = np.atleast_1d(np.floor(self.epoch_at(end_bjd_tdb)).astype(np.int64))
         # The rounded root can land one epoch off an end that falls exactly on a mid-time;
         # settle each end with the same expression that gives the mid-times.
-        while self.mid_bjd_tdb(first - 1) >= start_bjd_tdb:
-            first -= 1
-        while self.mid_bjd_tdb(first) < start_bjd_tdb:
-            first += 1
-        while self.mid_bjd_tdb(last + 1) <= end_bjd_tdb:
-            last += 1
-        while self.mid_bjd_tdb(last) > end_bjd_tdb:
-            last -= 1
+        _step_while(first, -1, lambda n: self.mid_bjd_tdb(n - 1) >= start_bjd_tdb)
+        _step_while(first, +1, lambda n: self.mid_bjd_tdb(n) < start_bjd_tdb)
+        _step_while(last, +1, lambda n: self.mid_bjd_tdb(n + 1) <= end_bjd_tdb)
+        _step_while(last, -1, lambda n: self.mid_bjd_tdb(n) > end_bjd_tdb)
         return first, last
 
-    def epoch_at(self, bjd_tdb: float) -> float:
-        """The (fractional) epoch whose predicted mid-time is bjd_tdb: root of Q k^2/2 + P k + c = 0
-        in the cancellation-free form k = -2c / (P + sqrt(P^2 - 2 Q c))."""
-        c = float(self.t0_bjd_tdb) - bjd_tdb
-        discriminant = float(self.period_d) ** 2 - 2.0 * float(self.dp_dn_d) * c
-        if discriminant < 0:
-            raise InputError(f"ephemeris: the quadratic term reaches zero period before BJD_TDB {bjd_tdb:.1f}; "
+    def epoch_at(self, bjd_tdb):
+        """The (fractional) epoch whose predicted mid-time is bjd_tdb (numpy-broadcast): root of
+        Q k^2/2 + P k + c = 0 in the cancellation-free form k = -2c / (P + sqrt(P^2 - 2 Q c))."""
+        c = np.asarray(self.t0_bjd_tdb, dtype=float) - np.asarray(bjd_tdb, dtype=float)
+        period = np.asarray(self.period_d, dtype=float)
+        discriminant = period**2 - 2.0 * np.asarray(self.dp_dn_d, dtype=float) * c
+        if np.any(discriminant < 0):
+            date = float(np.broadcast_to(bjd_tdb, discriminant.shape)[discriminant < 0][0])
+            raise InputError(f"ephemeris: the quadratic term reaches zero period before BJD_TDB {date:.1f}; "
                              "check the sign and units of dp_dn_d (days per epoch)")
-        return self.t0_epoch - 2.0 * c / (float(self.period_d) + np.sqrt(discriminant))
+        return self.t0_epoch - 2.0 * c / (period + np.sqrt(discriminant))
+
+    def row(self, i: int) -> "PolynomialEphemeris":
+        """The ephemeris of target i of a stacked ephemeris (fields as Python scalars)."""
+        return PolynomialEphemeris(float(self.t0_bjd_tdb[i]), float(self.period_d[i]), float(self.dp_dn_d[i]),
+                                   np.array(self.covariance_d2[i]), int(self.t0_epoch[i]))
 
     def updated(self, epoch: int, timing_err_d: float, mid_bjd_tdb: float | None = None) -> "PolynomialEphemeris":
         """This ephemeris updated by one timing at `epoch` of 1-sigma timing_err_d (days).
@@ -187,6 +204,14 @@ class PolynomialEphemeris:
                                    int(self.t0_epoch))
 
 
+def _step_while(epochs: np.ndarray, step: int, condition) -> None:
+    """Move each epoch by step (in place) while condition(epochs) holds for it."""
+    moving = np.asarray(condition(epochs), dtype=bool)
+    while moving.any():
+        epochs[moving] += step
+        moving &= np.asarray(condition(epochs), dtype=bool)
+
+
 def _picker(rows):
     """Index a stacked field by `rows` (None: the field as it is)."""
     if rows is None:
@@ -208,21 +233,12 @@ def linear_ephemeris(t0_bjd_tdb: float, t0_err_d: float, period_d: float, period
     return PolynomialEphemeris(t0_bjd_tdb, period_d, 0.0, covariance, t0_epoch)
 
 
-def stacked(models: list[PolynomialEphemeris]) -> PolynomialEphemeris:
-    """One PolynomialEphemeris whose fields are arrays over `models` (for vectorised prediction)."""
-    return PolynomialEphemeris(
-        np.array([m.t0_bjd_tdb for m in models], dtype=float), np.array([m.period_d for m in models], dtype=float),
-        np.array([m.dp_dn_d for m in models], dtype=float),
-        np.array([m.covariance_d2 for m in models], dtype=float).reshape(-1, 3, 3),
-        np.array([m.t0_epoch for m in models], dtype=np.int64))
-
-
 def numeric_column(targets: pd.DataFrame, column: str, low: float, high: float) -> np.ndarray:
     """An optional numeric targets column (NaN where empty); InputError naming target and field for
     text or values outside [low, high]."""
     if column not in targets.columns:
         return np.full(len(targets), np.nan)
-    text = targets[column].astype(str).str.strip().replace({"": "nan", "None": "nan"})
+    text = targets[column].astype(str).str.strip().replace({"": "nan", "None": "nan"}).fillna("nan")
     values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
     bad = (np.isnan(values) & (text.str.lower() != "nan").to_numpy()) | (values < low) | (values > high)
     if bad.any():
@@ -232,33 +248,59 @@ def numeric_column(targets: pd.DataFrame, column: str, low: float, high: float) 
     return values
 
 
-def target_ephemerides(targets: pd.DataFrame) -> list[PolynomialEphemeris]:
-    """The polynomial ephemeris of each targets row (linear unless dp_dn_d or dp_dn_err_d is given).
+def catalogue_ephemeris(targets: pd.DataFrame) -> PolynomialEphemeris:
+    """The polynomial ephemerides of all targets rows as one stacked PolynomialEphemeris (linear
+    where dp_dn_d and dp_dn_err_d are absent or zero).
 
     Reads t0_bjd_tdb, t0_err_d, period_d, period_err_d, optional t0_period_cov_d2, the optional
     QUADRATIC_COLUMNS and t0_epoch. InputError names the target and field when the covariance of
     (T0, P, dP/dN) is not positive semi-definite or t0_epoch is not a whole number.
+
+    Examples
+    --------
+    >>> table = pd.DataFrame({"name": ["b"], "t0_bjd_tdb": [2460000.0], "t0_err_d": [1e-4], "period_d": [2.0],
+    ...                       "period_err_d": [1e-6]})
+    >>> catalogue_ephemeris(table).mid_bjd_tdb([5], rows=[0]).tolist()
+    [2460010.0]
     """
     quad = {c: np.nan_to_num(numeric_column(targets, c, *bounds)) for c, bounds in QUADRATIC_COLUMNS.items()}
-    origin = numeric_column(targets, EPOCH_ORIGIN_COLUMN, -1e9, 1e9)
     names = targets["name"].astype(str).to_numpy()
-    if np.any(np.isfinite(origin) & (origin != np.round(origin))):
-        i = int(np.flatnonzero(np.isfinite(origin) & (origin != np.round(origin)))[0])
-        raise InputError(f"target {names[i]!r}, field {EPOCH_ORIGIN_COLUMN}: expected a whole epoch number")
-    cov_tp = targets["t0_period_cov_d2"] if "t0_period_cov_d2" in targets.columns else pd.Series(0.0, index=targets.index)
-    models = []
-    for i, row in enumerate(targets.itertuples(index=False)):
-        t0_tp = 0.0 if pd.isna(cov_tp.iat[i]) else float(cov_tp.iat[i])
-        c = np.array([[row.t0_err_d**2, t0_tp, quad["t0_dp_dn_cov_d2"][i]],
-                      [t0_tp, row.period_err_d**2, quad["period_dp_dn_cov_d2"][i]],
-                      [quad["t0_dp_dn_cov_d2"][i], quad["period_dp_dn_cov_d2"][i], quad["dp_dn_err_d"][i] ** 2]])
-        scale = np.sqrt(np.maximum(np.diag(c), 1e-300))
-        if np.linalg.eigvalsh(c / np.outer(scale, scale)).min() < -1e-9:
-            raise InputError(f"target {names[i]!r}, fields t0_period_cov_d2, t0_dp_dn_cov_d2, period_dp_dn_cov_d2: "
-                             "the covariance of (T0, P, dP/dN) must be positive semi-definite (|correlations| <= 1)")
-        models.append(PolynomialEphemeris(float(row.t0_bjd_tdb), float(row.period_d), float(quad["dp_dn_d"][i]), c,
-                                          int(np.nan_to_num(origin[i]))))
-    return models
+    origin = numeric_column(targets, EPOCH_ORIGIN_COLUMN, -1e9, 1e9)
+    fractional = np.isfinite(origin) & (origin != np.round(origin))
+    if fractional.any():
+        raise InputError(f"target {names[np.flatnonzero(fractional)[0]]!r}, field {EPOCH_ORIGIN_COLUMN}: "
+                         "expected a whole epoch number")
+    t0_tp = (np.nan_to_num(pd.to_numeric(targets["t0_period_cov_d2"]).to_numpy(dtype=float))
+             if "t0_period_cov_d2" in targets.columns else np.zeros(len(targets)))
+    c = np.empty((len(targets), 3, 3))
+    c[:, 0, 0] = np.square(targets["t0_err_d"].to_numpy(dtype=float))
+    c[:, 1, 1] = np.square(targets["period_err_d"].to_numpy(dtype=float))
+    c[:, 2, 2] = np.square(quad["dp_dn_err_d"])
+    c[:, 0, 1] = c[:, 1, 0] = t0_tp
+    c[:, 0, 2] = c[:, 2, 0] = quad["t0_dp_dn_cov_d2"]
+    c[:, 1, 2] = c[:, 2, 1] = quad["period_dp_dn_cov_d2"]
+    scale = np.sqrt(np.maximum(np.diagonal(c, axis1=1, axis2=2), 1e-300))
+    indefinite = np.linalg.eigvalsh(c / (scale[:, :, None] * scale[:, None, :])).min(axis=1) < -1e-9
+    if indefinite.any():
+        raise InputError(f"target {names[np.flatnonzero(indefinite)[0]]!r}, fields t0_period_cov_d2, t0_dp_dn_cov_d2, "
+                         "period_dp_dn_cov_d2: the covariance of (T0, P, dP/dN) must be positive semi-definite "
+                         "(|correlations| <= 1)")
+    return PolynomialEphemeris(targets["t0_bjd_tdb"].to_numpy(dtype=float), targets["period_d"].to_numpy(dtype=float),
+                               quad["dp_dn_d"], c, np.nan_to_num(origin).astype(np.int64))
+
+
+def target_ephemerides(targets: pd.DataFrame) -> list[PolynomialEphemeris]:
+    """The polynomial ephemeris of each targets row, one object each (`catalogue_ephemeris`).
+
+    Examples
+    --------
+    >>> table = pd.DataFrame({"name": ["b"], "t0_bjd_tdb": [2460000.0], "t0_err_d": [1e-4], "period_d": [2.0],
+    ...                       "period_err_d": [1e-6]})
+    >>> target_ephemerides(table)[0].kind
+    'linear'
+    """
+    both = catalogue_ephemeris(targets)
+    return [both.row(i) for i in range(len(targets))]
 
 
 def epochs_between(model: Ephemeris, start_bjd_tdb: float, end_bjd_tdb: float) -> np.ndarray:

@@ -10,7 +10,7 @@ import numpy as np
 import pandas as pd
 
 from vigil.ephemeris.events import EVENTS, event_offsets
-from vigil.ephemeris.models import PolynomialEphemeris, stacked, target_ephemerides
+from vigil.ephemeris.models import PolynomialEphemeris, catalogue_ephemeris
 from vigil.errors import InputError
 
 #: Optional targets column holding an Ephemeris object that replaces the row's own ephemeris
@@ -33,10 +33,14 @@ def with_models(targets: pd.DataFrame, models: dict) -> pd.DataFrame:
 
 def ephemerides(targets: pd.DataFrame) -> list:
     """The Ephemeris of each targets row: an attached model (`with_models`) or the row's polynomial."""
-    own = target_ephemerides(targets)
-    if MODEL_COLUMN not in targets.columns:
-        return own
-    return [m if m is not None else p for m, p in zip(targets[MODEL_COLUMN], own)]
+    own, attached = _models(targets)
+    return [model if model is not None else own.row(i) for i, model in enumerate(attached)]
+
+
+def _models(targets: pd.DataFrame) -> tuple[PolynomialEphemeris, list]:
+    """The rows' polynomials stacked, and per row its attached model or None."""
+    attached = list(targets[MODEL_COLUMN]) if MODEL_COLUMN in targets.columns else [None] * len(targets)
+    return catalogue_ephemeris(targets), attached
 
 
 def project_transits(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: float,
@@ -57,18 +61,19 @@ def project_transits(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: f
     if not end_bjd_tdb > start_bjd_tdb:
         raise InputError("the end of the date range must come after its start")
     offsets, durations = event_offsets(targets, event)
-    models = ephemerides(targets)
-    ranges = np.array([m.epoch_range(start_bjd_tdb - o, end_bjd_tdb - o) for m, o in zip(models, offsets)],
-                      dtype=np.int64).reshape(-1, 2)
-    first, counts = ranges[:, 0], np.maximum(ranges[:, 1] - ranges[:, 0] + 1, 0)
+    own, attached = _models(targets)
+    first, last = own.epoch_ranges(start_bjd_tdb - offsets, end_bjd_tdb - offsets)
+    for i, model in enumerate(attached):
+        if model is not None:
+            first[i], last[i] = model.epoch_range(start_bjd_tdb - offsets[i], end_bjd_tdb - offsets[i])
+    counts = np.maximum(last - first + 1, 0)
     which = np.repeat(np.arange(len(targets)), counts)
     epochs = first[which] + (np.arange(which.size) - np.repeat(np.cumsum(counts) - counts, counts))
-    mid, sigma = _predict(models, which, epochs)
-    names = targets["name"].astype(str).to_numpy()
+    mid, sigma = _predict(own, attached, which, epochs)
     column = lambda name: targets[name].to_numpy(dtype=float)[which]  # noqa: E731
     return pd.DataFrame({
-        "target": names[which],
-        "event": pd.Categorical([event] * which.size, categories=EVENTS),
+        "target": targets["name"].astype(str).array.take(which),  # array take: no per-row string objects
+        "event": pd.Categorical.from_codes(np.full(which.size, EVENTS.index(event), dtype=np.int8), categories=EVENTS),
         "epoch": epochs,
         "mid_bjd_tdb": mid + offsets[which],
         "mid_sigma_d": sigma,
@@ -79,19 +84,14 @@ def project_transits(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: f
     })
 
 
-def _predict(models: list, which: np.ndarray, epochs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Mid-times and sigmas of `epochs` of models[which]: polynomials vectorised, others one by one."""
-    mid, sigma = np.empty(epochs.size), np.empty(epochs.size)
-    polynomial = np.array([isinstance(m, PolynomialEphemeris) for m in models], dtype=bool)
-    rows = polynomial[which] if which.size else np.zeros(0, dtype=bool)
-    if rows.any():
-        index = np.flatnonzero(polynomial)
-        position = np.full(len(models), -1)
-        position[index] = np.arange(index.size)
-        model, picked = stacked([models[i] for i in index]), position[which[rows]]
-        mid[rows] = model.mid_bjd_tdb(epochs[rows], picked)
-        sigma[rows] = model.mid_sigma_d(epochs[rows], picked)
-    for i in np.flatnonzero(~polynomial):
-        at = which == i
-        mid[at], sigma[at] = models[i].mid_bjd_tdb(epochs[at]), models[i].mid_sigma_d(epochs[at])
+def _predict(own: PolynomialEphemeris, attached: list, which: np.ndarray,
+             epochs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Mid-times and sigmas of `epochs` of the targets `which`: the rows' own polynomials
+    vectorised, attached models one by one."""
+    mid = own.mid_bjd_tdb(epochs, which)
+    sigma = own.mid_sigma_d(epochs, which)
+    for i, model in enumerate(attached):
+        if model is not None:
+            at = which == i
+            mid[at], sigma[at] = model.mid_bjd_tdb(epochs[at]), model.mid_sigma_d(epochs[at])
     return mid, sigma
