@@ -374,3 +374,23 @@ def test_reused_pointing_never_serves_other_windows(paired):
     expected = fast_engine.conditions_at_mid(moved.copy(), site)
     pd.testing.assert_frame_equal(got, expected, check_exact=True)
     assert got["alt_mid_deg"].iat[0] != fast_engine.conditions_at_mid(rows, site)["alt_mid_deg"].iat[0]
+
+
+def test_place_of_date_shared_by_a_run_of_sites_is_exact_for_each(paired):
+    # The place of date is computed once for a run of sites with equal windows; each site must
+    # still get exactly what it gets alone (reference: the same call after an unrelated one),
+    # and windows that differ only in a target's coordinates get their own place.
+    table, _ = paired
+    rows = table[table["site"] == "mittelberg"].reset_index(drop=True)
+    after_other_site = (fast_engine.conditions_at_mid(rows, SITES["austral_ridge"]),
+                        fast_engine.conditions_at_mid(rows, SITES["mittelberg"]))[1]
+    fast_engine.conditions_at_mid(rows.iloc[:1], SITES["austral_ridge"])
+    alone = fast_engine.conditions_at_mid(rows.copy(), SITES["mittelberg"])
+    pd.testing.assert_frame_equal(after_other_site, alone, check_exact=True)
+    shifted = rows.copy()
+    shifted.loc[0, "ra_deg"] = (shifted.loc[0, "ra_deg"] + 30.0) % 360.0
+    fast_engine.conditions_at_mid(rows, SITES["mittelberg"])
+    got = fast_engine.conditions_at_mid(shifted, SITES["mittelberg"])
+    fast_engine.conditions_at_mid(rows.iloc[:1], SITES["austral_ridge"])
+    pd.testing.assert_frame_equal(got, fast_engine.conditions_at_mid(shifted.copy(), SITES["mittelberg"]), check_exact=True)
+    assert got["alt_mid_deg"].iat[0] != alone["alt_mid_deg"].iat[0]

@@ -87,8 +87,8 @@ MOON_XYZ, MOON_ILLUMINATION = slice(0, 3), slice(3, 4)
 
 class _Latest:
     """The result of the latest computation with copies of its inputs, handed back when the
-    next call's inputs are equal (plan_windows asks for the mid-times once per site, and this
-    engine computes them at the geocentre, alike for every site)."""
+    next call's inputs are equal (plan_windows asks for the mid-times and places of date once
+    per site, and this engine computes both at the geocentre, alike for every site)."""
 
     def __init__(self):
         self._inputs = None
@@ -104,6 +104,7 @@ class _Latest:
 
 
 _latest_mid = _Latest()
+_latest_place = _Latest()
 
 
 def site_mid_jd_utc(transits: pd.DataFrame, site: Site) -> np.ndarray:
@@ -127,7 +128,17 @@ class _Pointing(NamedTuple):
 
 def _pointing(windows: pd.DataFrame, site: Site) -> _Pointing:
     """Each window's pointing at mid-transit; read-only arrays."""
-    mid, ra, dec = (windows[c].to_numpy(dtype=float) for c in (schema.MID_JD_UTC, "ra_deg", "dec_deg"))
+    columns = tuple(windows[c].to_numpy(dtype=float) for c in (schema.MID_JD_UTC, "ra_deg", "dec_deg"))
+    target, greenwich_deg = _latest_place.get(None, columns, _place_of_date)
+    lst = greenwich_deg + site.longitude_deg
+    lst_rad = np.radians(lst)
+    return _Pointing(target, lst, np.cos(lst_rad), np.sin(lst_rad))
+
+
+def _place_of_date(mid, ra, dec) -> tuple[np.ndarray, np.ndarray]:
+    """The apparent directions of date (3, n) of ICRS (ra, dec) (deg) at the JD UTC `mid`, and the
+    Greenwich apparent sidereal time there (deg, UT1 taken as UTC); read-only. Alike for every
+    site, so `_pointing` computes them once for a run of sites (`_latest_place`)."""
     terms = SKY_TABLE.nearest(mid, _POINTING)  # (n, 13): its columns are read strided, not copied
     x0, y0, z0 = unit_vectors(ra, dec).T
     v = np.empty((3, mid.size))
@@ -139,10 +150,10 @@ def _pointing(windows: pd.DataFrame, site: Site) -> _Pointing:
     v_dot_beta = v[0] * beta[0] + v[1] * beta[1] + v[2] * beta[2]
     v += beta
     v -= v_dot_beta * v
-    lst = _local_sidereal_deg(mid, terms[:, 12], site)
-    lst_rad = np.radians(lst)
-    pointing = _Pointing(v, lst, np.cos(lst_rad), np.sin(lst_rad))
-    return pointing
+    greenwich = local_sky.gmst_deg(mid) + terms[:, 12]
+    v.setflags(write=False)
+    greenwich.setflags(write=False)
+    return v, greenwich
 
 
 def _local_sidereal_deg(jd_utc, equation_of_equinoxes_deg, site: Site):
@@ -257,8 +268,11 @@ def evaluate(windows: pd.DataFrame, site: Site, constraints: Constraints, timed:
     """Observable intervals of the `timed` rows (row numbers of `windows`) and the conditions at
     mid of any rows asked for later, from one pointing computation."""
     pointing = _pointing(windows, site)
-    row, start, end = observable_intervals(windows[timed].reset_index(drop=True), site, constraints,
-                                           _Pointing(*(a[..., timed] for a in pointing)))
+    if timed.all():  # as usual: no row to leave out
+        row, start, end = observable_intervals(windows, site, constraints, pointing)
+    else:
+        row, start, end = observable_intervals(windows[timed].reset_index(drop=True), site, constraints,
+                                               _Pointing(*(a[..., timed] for a in pointing)))
     mid = windows["mid_jd_utc"].to_numpy(dtype=float)
 
     def conditions_of(rows: np.ndarray) -> pd.DataFrame:
