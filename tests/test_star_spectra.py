@@ -149,6 +149,12 @@ def test_spectrum_path_is_relative_to_the_targets_file(tmp_path, model_file, mon
     assert np.isfinite(star_spectra.flux_at_earth_w_m2_um(named, 10.0, "V")).sum() > 1000
 
 
+def test_uncertainty_and_other_columns_are_ignored(tmp_path):
+    path = _write_csv(tmp_path / "s.csv", "wavelength_nm,flux_err_w_m2_um,flux_w_m2_um,order",
+                      [(300.0, 9.0, 1.0, 1), (3000.0, 9.0, 2.0, 1)])
+    assert star_spectra.read_star_spectrum(path).flux_w_m2_um.tolist() == [1.0, 2.0]
+
+
 def test_a_rewritten_file_is_read_again(tmp_path):
     path = _write_csv(tmp_path / "s.csv", "wavelength_um,flux_w_m2_um", [(0.3, 1.0), (3.0, 1.0)])
     first = star_spectra.star_spectrum(path).flux_w_m2_um

@@ -14,7 +14,8 @@ unit frequency, in energy or photons, finite and not negative (converted with as
 ``spectral_density`` equivalencies). Only the shape matters: the flux is scaled to the
 target's catalogue magnitude through the band's response, as the built-in model is
 (``stars.scaled_to_magnitude``), so the spectrum must cover the band, and the forecast's
-wavelength range (``require_range``). Nothing is extrapolated.
+wavelength range (``StarSpectrum.require_range``). Nothing is extrapolated. Columns of
+uncertainties (``flux_err...``) are ignored like any other.
 """
 
 from __future__ import annotations
@@ -91,7 +92,9 @@ def unit_from_name(column: str, where: str) -> u.UnitBase:
 
 
 def _column(path: Path, header: str, columns, role: str) -> str:
-    found = [c for c in columns if c.lower() == role or c.lower().startswith(role + "_")]
+    """The one column of ``role`` (its uncertainty columns, ``<role>_err...``, aside)."""
+    found = [c for c in columns if c.lower() == role or (c.lower().startswith(role + "_")
+                                                          and not c.lower().startswith(role + "_err"))]
     if len(found) != 1:
         got = f"{len(found)} ({', '.join(found)})" if found else "none"
         raise InputError(f"{line_of(path, header)}: expected one {role} column ({role}_<unit>, or {role} with a unit "
