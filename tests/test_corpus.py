@@ -32,6 +32,7 @@ TARGET_ERRORS = {
     "empty.csv": ("empty", "header line"),
     "blank_lines_only.csv": ("empty", "header line"),
     "header_only.csv": ("header only", "one row per target"),
+    "header_commented_out.csv": ("line 2", "header row is commented out", "'# name,ra_deg,...'", "remove the '#'"),
     "nan_period.csv": ("line 3", "field period_d", "positive period in days", "'NaN'"),
     "infinite_duration.csv": ("line 3", "field duration_h", "duration in hours", "'inf'"),
     "text_in_dec.csv": ("line 2", "field dec_deg", "declination in degrees", "'minus thirty'"),
