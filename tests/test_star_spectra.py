@@ -314,3 +314,12 @@ def test_campaign_file_with_a_bad_spectrum_names_the_targets_row_and_the_spectru
     with pytest.raises(InputError, match=r"targets\.csv: line 4, field star_spectrum_file: target 'Vessa-11 c': "
                                          r".*bad\.csv: line 4, field wavelength_um: 0\.5 does not follow 0\.6"):
         vigil.run_campaign(campaign, target="Vessa-11 c")
+
+
+def test_campaign_says_which_stars_shine_with_their_own_spectrum(model_file):
+    result = run(campaign_spec(), targets_table({"star_spectrum_file": str(model_file)}))
+    said = [note.text() for note in result.notes]
+    assert f"Brasa-4 b: the star's light is the spectrum in {model_file}, scaled to V = 10, in place of the built-in " \
+           "model" in said
+    assert not any("own spectrum" in text or "star's light" in text for text in
+                   (note.text() for note in run(campaign_spec(), targets_table({})).notes))
