@@ -17,6 +17,7 @@ from vigil.timescales import FIRST_PLAN_YEAR, LAST_PLAN_YEAR, check_plan_date
 from vigil import noise_model
 from vigil.campaign import noise_spec
 from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
+from vigil.ephemeris.table import read_ephemeris_table
 from vigil.textfile import did_you_mean, load_toml, number_in_range, spelling_hint
 from vigil.errors import InputError
 from vigil.scenarios import DEFAULT_SCENARIOS, Scenario
@@ -32,7 +33,7 @@ FIRST_START_YEAR, LAST_START_YEAR = FIRST_PLAN_YEAR, LAST_PLAN_YEAR
 KNOWN = {
     "campaign": {"start", "horizon_years", "targets", "sites_file", "sites", "trials", "seed", "coverage",
                  "min_fraction", "min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg", "journal",
-                 "targets_format", "targets_columns"},
+                 "targets_format", "targets_columns", "ephemeris_table", "extrapolate_table"},
     "refresh": {"every_years", "timing_err_min"},
     "allocation": {"per_target_per_semester", "per_site_per_semester", "overhead_h"},
     "instrument": {"aperture_m", "central_obstruction", "throughput", "wavelength_min_um", "wavelength_max_um",
@@ -73,6 +74,8 @@ class CampaignSpec:
     targets_options: CatalogueOptions = CatalogueOptions()
     refresh_every_years: float | None = None
     refresh_timing_err_d: float = 0.0
+    ephemeris_table: Path | None = None
+    extrapolate_table: bool = False
 
     @property
     def end(self) -> Time:
@@ -80,7 +83,7 @@ class CampaignSpec:
 
 
 def _expected(kind, low, high, unit: str) -> str:
-    words = {str: "text in quotes", int: "a whole number", list: "a list [...]"}.get(kind, "a number")
+    words = {str: "text in quotes", int: "a whole number", list: "a list [...]", bool: "true or false"}.get(kind, "a number")
     return f"{words} from {low:g} to {high:g}{unit}" if low is not None else words
 
 
@@ -93,7 +96,7 @@ def _get(path: Path, table: dict, section: str, key: str, kind, low=None, high=N
     value = table[key]
     if kind == (int, float) and low is not None:
         return number_in_range(f"{path}: [{section}] {key}", value, low, high, unit.strip())
-    ok = isinstance(value, kind) and not isinstance(value, bool)
+    ok = isinstance(value, kind) and (kind is bool or not isinstance(value, bool))
     if ok and low is not None and not low <= value <= high:
         ok = False
     if not ok:
@@ -223,6 +226,23 @@ def _targets_options(path: Path, c: dict) -> CatalogueOptions:
     return CatalogueOptions(format=fmt, columns=path.parent / columns if columns else None)
 
 
+def _ephemeris_table(path: Path, c: dict) -> dict:
+    """ephemeris_table (a per-epoch table CSV, relative to the campaign file, read as `vigil windows
+    --ephemeris-table` reads it) and extrapolate_table (true or false, default false)."""
+    name = _get(path, c, "campaign", "ephemeris_table", str, default=None)
+    extrapolate = _get(path, c, "campaign", "extrapolate_table", bool, default=False)
+    if name is None:
+        if extrapolate:
+            raise InputError(f"{path}: [campaign] extrapolate_table: needs ephemeris_table, the table to extrapolate")
+        return {}
+    table = path.parent / name
+    try:
+        read_ephemeris_table(table, extrapolate)
+    except InputError as exc:
+        raise InputError(f"{path}: [campaign] ephemeris_table: {exc}") from None
+    return {"ephemeris_table": table, "extrapolate_table": extrapolate}
+
+
 def read_campaign(path: str | Path) -> CampaignSpec:
     """Read a campaign TOML file (see configs/campaign.example.toml for every key)."""
     path = Path(path)
@@ -264,6 +284,7 @@ def read_campaign(path: str | Path) -> CampaignSpec:
         constraints=checked_constraints(f"{path}: [campaign]", constraints),
         journal_file=path.parent / c["journal"] if _get(path, c, "campaign", "journal", str, default=None) else None,
         targets_options=_targets_options(path, c),
+        **_ephemeris_table(path, c),
         **_refresh(path, _table(path, document, "refresh", required=False)),
     )
     check_plan_date(spec.end, f"{path}: [campaign] horizon_years: the campaign's end ({spec.horizon_years:g} years "
