@@ -50,6 +50,8 @@ SAME_VALUE = {
     "clear_fraction_text.toml": {"clear_fraction": _clear(["clear", *MONTHS[1:]])},
     "goal_snr_negative.toml": {"goal_snr": -3},
     "ends_after_2300.toml": {"start": "2250-01-01", "horizon_years": 100},
+    "ephemeris_table_missing.toml": {"ephemeris_table": CORPUS / "campaign" / "companions/ttv_missing.csv"},
+    "ephemeris_table_gap.toml": {"ephemeris_table": CORPUS / "campaign" / "companions/ttv_gap.csv"},
 }
 # Instrument values are checked by the Instrument itself, which the campaign file's reader builds.
 SAME_INSTRUMENT = {
@@ -133,6 +135,7 @@ def test_python_values_are_normalised_like_the_files():
     ({"targets_file": 5}, ("targets_file", "file path")),
     ({"refresh_every_years": 1.0, "refresh_timing_err_d": 0.0}, ("refresh_timing_err_d", "600 minutes")),
     ({"start": datetime.datetime(2027, 1, 1)}, ("start", "time zone")),
+    ({"extrapolate_table": True}, ("extrapolate_table", "needs ephemeris_table")),
 ])
 def test_values_only_python_can_give_are_refused_naming_the_field(changes, words):
     with pytest.raises(ArgumentError) as caught:

@@ -116,3 +116,12 @@ def test_standard_atmosphere_pressure_at_site_elevation(tmp_path):
     assert site.air_pressure_hpa == pytest.approx(airmass.STANDARD_PRESSURE_AT_2000_M_HPA, abs=0.5)
     assert math.isclose(read_sites(_write(tmp_path, "p.toml", _site_toml(pressure_hpa=700.0)))["loma_fria"]
                         .air_pressure_hpa, 700.0)
+
+
+def test_a_comment_naming_the_columns_above_a_real_header_is_kept_as_a_comment(tmp_path):
+    # Catalogue exports often repeat the column names in a comment above the header (common
+    # practice, no source); only a commented header with data right below it is refused.
+    path = _write(tmp_path, "t.csv", f"# {HEADER}\n{HEADER}\n{GOOD_ROW}\n")
+    assert read_targets(path)["name"].tolist() == ["Tamsin-7 b"]
+    refused = _write(tmp_path, "u.csv", f"# {HEADER}\n{GOOD_ROW}\n")
+    assert _error(read_targets, refused).startswith(f"{refused}: line 1: the header row is commented out")

@@ -32,6 +32,7 @@ TARGET_ERRORS = {
     "empty.csv": ("empty", "header line"),
     "blank_lines_only.csv": ("empty", "header line"),
     "header_only.csv": ("header only", "one row per target"),
+    "header_commented_out.csv": ("line 2", "header row is commented out", "'# name,ra_deg,...'", "remove the '#'"),
     "nan_period.csv": ("line 3", "field period_d", "positive period in days", "'NaN'"),
     "infinite_duration.csv": ("line 3", "field duration_h", "duration in hours", "'inf'"),
     "text_in_dec.csv": ("line 2", "field dec_deg", "declination in degrees", "'minus thirty'"),
@@ -125,6 +126,8 @@ CAMPAIGN_ERRORS = {
     "goal_snr_negative.toml": ("[goal] snr", "from 0.1 to 10000", "-3"),
     "latin1_comment.toml": ("line 1", "not UTF-8"),
     "ends_after_2300.toml": ("[campaign] horizon_years", "100 years", "2300-12-31", "2350-01-02"),
+    "ephemeris_table_missing.toml": ("[campaign] ephemeris_table", "companions/ttv_missing.csv",
+                                     "cannot read the ephemeris table"),
 }
 # campaign files whose fault sits in a companion file: (companion it names, words).
 CAMPAIGN_COMPANION_ERRORS = {
@@ -132,6 +135,8 @@ CAMPAIGN_COMPANION_ERRORS = {
     "targets_without_radius.toml": ("companions/targets_without_radius.csv",
                                     ("line 2", "field planet_radius_earth", "needs planet_radius_earth")),
     "targets_bad_band.toml": ("companions/targets_bad_band.csv", ("line 3", "field mag_band", "V, J, H, Ks", "'Q'")),
+    "ephemeris_table_gap.toml": ("companions/ttv_gap.csv", ("ephemeris_table_gap.toml: [campaign] ephemeris_table",
+                                                         "line 4", "field epoch", "consecutive epochs", "137 then 139")),
 }
 TIMING_ERRORS = {
     "missing_column.csv": ("line 1", "missing column", "mid_err_d"),

@@ -54,3 +54,21 @@ def test_timing_far_from_prediction_is_refused_unless_forced(tmp_path):
     with open_journal(db) as journal:
         timings = journal.timings()
     assert timings["forced"].tolist() == [True] and timings["epoch"].tolist() == [580]
+
+
+def test_unknown_target_is_one_line_naming_the_closest(tmp_path):
+    # A misspelt --target (lower case, a missing space) is named with the closest known name, in one
+    # line, whether the names come from --targets or from the journal's own visits (difflib ratio,
+    # Python standard library: the helper behind every "did you mean" of vigil).
+    runner, db = CliRunner(), tmp_path / "j.db"
+    targets_file = Path(__file__).resolve().parents[1] / "src" / "vigil" / "data" / "demo" / "targets.csv"
+    misspelt = [("Tamsin-7b" if word == "Tamsin-7 b" else word) for word in VISIT]
+    refused = runner.invoke(app, ["journal", "add", str(db), *misspelt, "--targets", str(targets_file)])
+    assert refused.exit_code == 2 and not db.exists()
+    assert refused.output.strip() == f"vigil: error: {targets_file}: no target 'Tamsin-7b'; did you mean 'Tamsin-7 b'?"
+    assert runner.invoke(app, ["journal", "add", str(db), *VISIT]).exit_code == 0
+    listed = runner.invoke(app, ["journal", "list", str(db), "--target", "tamsin-7 b"])
+    assert listed.exit_code == 2 and len(listed.output.strip().splitlines()) == 1
+    assert "no visits of 'tamsin-7 b'; did you mean 'Tamsin-7 b'?" in " ".join(listed.output.split())
+    quiet = runner.invoke(app, ["journal", "list", str(db), "--target", "Tamsin-7 b", "--status", "planned"])
+    assert quiet.exit_code == 0 and quiet.output.strip() == "no visits recorded"

@@ -92,7 +92,7 @@ def read_targets(source, *, format: str | None = None, columns=None, strict: boo
     else:
         targets = catalog.targets_from_source(prepared_cells(memory_cells(source, "targets"), options), strict)
     if ephemeris_table is not None:
-        targets = with_models(targets, read_ephemeris_table(ephemeris_table, extrapolate_table))
+        targets = with_models(targets, read_ephemeris_table(ephemeris_table, extrapolate_table), ephemeris_table)
     return _mark_checked(targets)
 
 
@@ -346,7 +346,8 @@ def run_campaign(campaign, targets=None, sites=None, *, target: str | None = Non
     if sites is None and spec.sites_file is None:
         raise ArgumentError("sites", "required: the campaign names no sites_file")
     targets = read_targets(spec.targets_file if targets is None else targets, format=spec.targets_options.format,
-                           columns=spec.targets_options.columns, strict=strict)
+                           columns=spec.targets_options.columns, strict=strict, ephemeris_table=spec.ephemeris_table,
+                           extrapolate_table=spec.extrapolate_table)
     if target is not None:
         if target not in set(targets["name"]):
             raise ArgumentError("target", f"no target named {target!r}{did_you_mean(target, targets['name'])}")

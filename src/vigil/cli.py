@@ -316,7 +316,7 @@ def _run_campaign(campaign_file: Path, target: str | None, out_dir: Path | None,
     """Run vigil.run_campaign with a progress bar and write its files into `out_dir` (none when it is None)."""
     spec = api.read_campaign(campaign_file)
     if outputs is not None:
-        outputs.check_inputs((spec.targets_file, spec.sites_file, spec.journal_file))
+        outputs.check_inputs((spec.targets_file, spec.sites_file, spec.journal_file, spec.ephemeris_table))
     done = [0]
 
     def trials_done(count: int) -> None:

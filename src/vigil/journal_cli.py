@@ -16,6 +16,7 @@ from vigil.export.files import OutputTransaction
 from vigil.export.terminal_tables import journal_table
 from vigil.journal import open_journal
 from vigil.names import clean_name
+from vigil.textfile import did_you_mean
 
 journal_app = typer.Typer(help="Keep a campaign journal (one SQLite file): planned and executed visits, their "
                                "outcome, measured mid-times (BJD_TDB, days) and hours collected.",
@@ -64,10 +65,17 @@ def _check_against_catalogue(targets_file: Path, target: str, epoch: int, mid_bj
     targets = read_targets(targets_file)
     row = targets[targets["name"] == clean_name(target, "--target")]
     if row.empty:
-        raise InputError(f"{targets_file}: no target {target!r}")
+        raise InputError(f"{targets_file}: no target {target!r}{did_you_mean(target, targets['name'])}")
     problem = far_from_prediction(target_ephemerides(row)[0], epoch, mid_bjd_tdb, mid_err_d)
     if problem:
         raise InputError(f"--mid-bjd-tdb: {problem} in {targets_file}; refused, add it with --force if it is right")
+
+
+def _check_recorded(journal_file: Path, target: str, recorded) -> None:
+    """Refuse a --target the journal has no visit of while it has others', naming the closest."""
+    if len(recorded) and target not in set(recorded):
+        raise InputError(f"{journal_file}: --target: no visits of {target!r}{did_you_mean(target, recorded)} "
+                         f"(targets in the journal: {', '.join(sorted(recorded))})")
 
 
 @journal_app.command("list")
@@ -80,6 +88,8 @@ def list_entries(
     setup_logging()
     with user_errors(), open_journal(journal_file, write=False) as journal:
         table = journal.entries(target=None if target is None else clean_name(target, "--target"), status=status)
+        if target is not None and table.empty:
+            _check_recorded(journal_file, clean_name(target, "--target"), journal.entries()["target"].unique())
     if len(table):
         out.print(journal_table(table))
     else:

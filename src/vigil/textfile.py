@@ -129,6 +129,27 @@ def _check_header(path: Path, line: int, header: list[str]) -> None:
         raise InputError(f"{path}: line {line}: column {twice!r} appears twice in the header")
 
 
+def _is_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+def _check_commented_header(path: Path, text: str, header_line: int, header: list[str]) -> None:
+    """Refuse a file whose column names sit on a comment line: the last comment before the first
+    record has as many comma-separated names (no numbers) as that record, which holds a number."""
+    lines = _LINE_BREAK.split(text)[:header_line - 1]
+    number = next((n for n in range(len(lines), 0, -1) if _COMMENT_LINE.fullmatch(lines[n - 1])), None)
+    if number is None or not any(_is_number(f) for f in header):
+        return
+    names = [f.strip() for f in next(csv.reader([lines[number - 1].strip()[1:]]), [])]
+    if len(names) == len(header) and all(names) and not any(_is_number(f) for f in names):
+        raise InputError(f"{path}: line {number}: the header row is commented out ('# {names[0]},{names[1]},...'); "
+                         f"remove the '#' so that line {number} names the columns")
+
+
 def _cells(path: Path, line: int, fields: list[str], header: list[str]) -> list[str]:
     """The row's values for the named columns; short rows are padded with empty cells."""
     if len(fields) > len(header) and any(fields[len(header):]):
@@ -150,6 +171,7 @@ def read_csv(path: Path, rows_are: str) -> tuple[int, pd.DataFrame]:
     if not records:
         raise InputError(f"{path}: file is empty; expected a header line and one row per {rows_are}")
     (header_line, header), body = records[0], records[1:]
+    _check_commented_header(path, text, header_line, header)
     _check_header(path, header_line, header)
     if not body:
         raise InputError(f"{path}: header only; expected one row per {rows_are} below line {header_line}")

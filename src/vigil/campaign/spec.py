@@ -30,7 +30,7 @@ log = logging.getLogger("vigil")
 KNOWN = {
     "campaign": {"start", "horizon_years", "targets", "sites_file", "sites", "trials", "seed", "coverage",
                  "min_fraction", "min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg", "journal",
-                 "targets_format", "targets_columns"},
+                 "targets_format", "targets_columns", "ephemeris_table", "extrapolate_table"},
     "refresh": {"every_years", "timing_err_min"},
     "allocation": {"per_target_per_semester", "per_site_per_semester", "overhead_h"},
     "instrument": {"aperture_m", "central_obstruction", "throughput", "wavelength_min_um", "wavelength_max_um",
@@ -87,6 +87,9 @@ class CampaignSpec:
     refresh_every_years : float, optional
         A planned ephemeris refresh every so many years (0.1 to 100), each a timing of
         `refresh_timing_err_d` days (0.01 to 600 minutes).
+    ephemeris_table : str or Path, optional
+        A per-epoch table of predicted mid-times (as `vigil windows --ephemeris-table` reads
+        it) for the targets it names; `extrapolate_table` continues it beyond its span.
 
     Examples
     --------
@@ -119,6 +122,8 @@ class CampaignSpec:
     targets_options: CatalogueOptions = CatalogueOptions()
     refresh_every_years: float | None = None
     refresh_timing_err_d: float = 0.0
+    ephemeris_table: Path | None = None
+    extrapolate_table: bool = False
 
     def __post_init__(self) -> None:
         given = {f.name: getattr(self, f.name) for f in dataclasses.fields(self)}
@@ -256,6 +261,8 @@ def read_campaign(path: str | Path) -> CampaignSpec:
             journal_file=_relative(path, c.get("journal") or None),
             targets_options=CatalogueOptions(format=c.get("targets_format"),
                                              columns=_relative(path, c.get("targets_columns"))),
+            ephemeris_table=_relative(path, c.get("ephemeris_table")),
+            extrapolate_table=c.get("extrapolate_table", False),
             **_refresh(path, _table(path, document, "refresh", required=False)),
         )
     except ArgumentError as exc:

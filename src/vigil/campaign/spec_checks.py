@@ -17,6 +17,7 @@ from astropy.time import Time
 
 from vigil import noise_model
 from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
+from vigil.ephemeris.table import read_ephemeris_table
 from vigil.errors import ArgumentError, InputError
 from vigil.inputs import as_time
 from vigil.scenarios import Scenario
@@ -40,6 +41,7 @@ FILE_KEYS = {
     "per_target_per_semester": "[allocation] per_target_per_semester",
     "per_site_per_semester": "[allocation] per_site_per_semester", "overhead_h": "[allocation] overhead_h",
     "refresh_every_years": "[refresh] every_years", "refresh_timing_err_d": "[refresh] timing_err_min",
+    "ephemeris_table": "[campaign] ephemeris_table", "extrapolate_table": "[campaign] extrapolate_table",
     "instrument": "[instrument]", "noise": "[instrument]", "scenarios": "[scenarios]",
 }
 _REFRESH_ERR_MIN = (0.01, 600.0)  # timing precision of a planned refresh, minutes
@@ -228,7 +230,25 @@ def checked_fields(f: dict) -> dict:
         "goal_bin_fraction": _bin_fraction(f["goal_bin_fraction"]), "scenarios": _scenarios(f["scenarios"]),
         "targets_options": _targets_options(f["targets_options"]),
         "refresh_every_years": every, "refresh_timing_err_d": error_d,
+        **_ephemeris_table(f["ephemeris_table"], f["extrapolate_table"]),
     }
+
+
+def _ephemeris_table(name, extrapolate) -> dict:
+    """The per-epoch table, read now as `vigil windows --ephemeris-table` reads it, so a bad one
+    is refused before any work starts."""
+    if not isinstance(extrapolate, bool):
+        raise ArgumentError("extrapolate_table", f"expected true or false, got {extrapolate!r}")
+    table = _path("ephemeris_table", name)
+    if table is None:
+        if extrapolate:
+            raise ArgumentError("extrapolate_table", "needs ephemeris_table, the table to extrapolate")
+    else:
+        try:
+            read_ephemeris_table(table, extrapolate)
+        except InputError as exc:
+            raise ArgumentError("ephemeris_table", str(exc)) from None
+    return {"ephemeris_table": table, "extrapolate_table": extrapolate}
 
 
 def _bin_fraction(value) -> float:

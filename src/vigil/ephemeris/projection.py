@@ -18,14 +18,14 @@ from vigil.errors import InputError
 MODEL_COLUMN = "ephemeris_model"
 
 
-def with_models(targets: pd.DataFrame, models: dict) -> pd.DataFrame:
+def with_models(targets: pd.DataFrame, models: dict, source="ephemeris table") -> pd.DataFrame:
     """Targets whose named rows use the given Ephemeris objects instead of their own columns.
 
-    InputError when a model names no target in the table.
+    InputError, starting with `source` (the table's file), when a model names no target in the table.
     """
     unknown = sorted(set(models) - set(targets["name"]))
     if unknown:
-        raise InputError(f"ephemeris table: target {unknown[0]!r} is not in the targets table")
+        raise InputError(f"{source}: target {unknown[0]!r} is not in the targets table")
     out = targets.copy()
     out[MODEL_COLUMN] = [models.get(name) for name in out["name"]]
     return out

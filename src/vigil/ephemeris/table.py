@@ -59,7 +59,8 @@ class TableEphemeris:
             return
         raise InputError(f"ephemeris table of {self.target!r} covers BJD_TDB {self.mids_bjd_tdb[0]:.3f} to "
                          f"{self.mids_bjd_tdb[-1]:.3f} (epochs {self.epochs[0]} to {self.epochs[-1]}); the dates asked "
-                         "for go beyond it (allow a linear continuation with --extrapolate-table)")
+                         "for go beyond it (allow a linear continuation with --extrapolate-table, or "
+                         "extrapolate_table = true in a campaign file)")
 
     def epoch_range(self, start_bjd_tdb: float, end_bjd_tdb: float) -> tuple[int, int]:
         self._refuse(start_bjd_tdb, end_bjd_tdb)
