@@ -4,7 +4,8 @@ Columns (units in the names): planet_radius_earth; planet_mass_earth or surface_
 teq_k, or a_over_rstar with star_teff_k; optional mu and n_scale_heights (a "catalog"
 atmosphere scenario besides the campaign's, see scenarios.py), impact_parameter (transit
 shape); star_radius_sun, star_teff_k; brightness as magnitude with mag_band (V, J, H, Ks, G or
-TESS) or distance_pc; optional priority (higher first).
+TESS) or distance_pc; optional star_spectrum_file (the star's own spectrum, scaled to the
+magnitude); optional priority (higher first).
 """
 
 from __future__ import annotations
@@ -17,6 +18,9 @@ from vigil import spectrum
 from vigil.errors import InputError
 
 REQUIRED = ("planet_radius_earth", "star_radius_sun", "star_teff_k")
+#: The optional column naming a file with the star's own spectrum (star_spectra), relative to
+#: the targets file (catalog.read_targets makes it a path from the working directory).
+SPECTRUM_FILE_COLUMN = "star_spectrum_file"
 OPTIONAL = ("planet_mass_earth", "surface_gravity_m_s2", "teq_k", "a_over_rstar", "mu", "n_scale_heights",
             "impact_parameter", "magnitude", "distance_pc")
 #: Every numeric physical column; catalog.read_targets checks them where they are filled in.
@@ -85,6 +89,12 @@ def target_bodies(row: pd.Series, where: str) -> tuple[spectrum.Planet, spectrum
             raise InputError(f"{where}: target {row['name']!r}: {exc}") from None
         raise InputError(f"{where}, field {column}: target {row['name']!r}: {problem}") from None
     return planet, star
+
+
+def spectrum_file_of(row: pd.Series) -> str | None:
+    """The row's star_spectrum_file (a path), or None when the cell is absent or empty."""
+    text = str(row.get(SPECTRUM_FILE_COLUMN, "")).strip()
+    return None if text in ("", "nan", "None") else text
 
 
 def priority_of(row: pd.Series, where: str) -> float:

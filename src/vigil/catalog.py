@@ -263,6 +263,9 @@ def targets_from_source(source: SourceTable, strict: bool = False) -> pd.DataFra
             log.warning("%s", note)
     extra = [c for c in table.columns if c not in parsed.columns and c not in ("ra", "dec")]
     result = pd.concat([parsed, table[extra].reset_index(drop=True)], axis=1)
+    if bodies.SPECTRUM_FILE_COLUMN in result:  # relative to the targets file; absolute, so tables written from it keep it
+        result[bodies.SPECTRUM_FILE_COLUMN] = [str((Path(path).parent / cell).absolute()) if cell else ""
+                                               for cell in result[bodies.SPECTRUM_FILE_COLUMN]]
     result.attrs["source_rows"] = dict(zip(parsed["name"], (line_of(path, line) for line in table.index)))
     return schema.TARGETS.check(result)
 

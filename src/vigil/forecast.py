@@ -29,10 +29,12 @@ _CONDITIONS = ("airmass", "moon_illumination", "moon_sep_deg", "elevation_m")
 
 @dataclass(frozen=True)
 class Body:
-    """What the forecast needs to know of one target."""
+    """What the forecast needs to know of one target; ``star_light``: the star's own spectrum
+    (F_lambda on ``stars.GRID_UM``, W m^-2 um^-1; ``star_spectra``) in place of the model."""
 
     planet: spectrum.Planet
     star: spectrum.Star
+    star_light: np.ndarray | None = field(default=None, repr=False, compare=False)
 
 
 @dataclass
@@ -51,6 +53,12 @@ class TargetForecast:
 def star_flux(star: spectrum.Star) -> np.ndarray:
     """The star's F_lambda above the atmosphere on ``stars.GRID_UM`` (W m^-2 um^-1)."""
     return stars.flux_at_earth_w_m2_um(star.teff_k, star.radius_sun, star.magnitude, star.band, star.distance_pc)
+
+
+def star_light(body: Body) -> np.ndarray:
+    """The F_lambda the forecast uses: the star's own spectrum when the body carries one, else
+    the built-in model's."""
+    return star_flux(body.star) if body.star_light is None else body.star_light
 
 
 def in_transit_weight(body: Body, spec: CampaignSpec) -> float:
@@ -79,7 +87,7 @@ def median_visit(visits: pd.DataFrame, ground: bool) -> pd.DataFrame:
 
 
 def _parts(body: Body, spec: CampaignSpec, visits: pd.DataFrame):
-    return visit_budget.variance_parts(star_flux(body.star), spec.instrument, spec.noise, visits, wavelengths_um(spec),
+    return visit_budget.variance_parts(star_light(body), spec.instrument, spec.noise, visits, wavelengths_um(spec),
                                        in_transit_weight(body, spec))
 
 
@@ -122,7 +130,7 @@ def budget_table(target: str, body: Body, spec: CampaignSpec, visit: pd.DataFram
     each term's share of the variance after ``stacked_visits`` such visits (the floor does not
     average down)."""
     wavelength_um = wavelengths_um(spec)
-    parts = visit_budget.term_variances(star_flux(body.star), spec.instrument, spec.noise, visit, wavelength_um,
+    parts = visit_budget.term_variances(star_light(body), spec.instrument, spec.noise, visit, wavelength_um,
                                         spec.goal_resolution, in_transit_weight(body, spec))
     total = sum(parts.values())[0]
     information = np.nan_to_num(1.0 / total, posinf=0.0)

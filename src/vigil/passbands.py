@@ -102,3 +102,16 @@ def vega_magnitude(name: str, wavelength_um: np.ndarray, flux_w_m2_um: np.ndarra
     flux = np.asarray(flux_w_m2_um, dtype=float) * (u.W / (u.m**2 * u.um))
     ab = chosen.response.get_ab_magnitude(flux, np.asarray(wavelength_um, dtype=float) * u.um)
     return np.asarray(ab) - chosen.ab_minus_vega_mag
+
+
+def band_range_um(name: str) -> tuple[float, float]:
+    """(shortest, longest) wavelength (um) of band ``name``'s tabulated response: what a
+    spectrum must cover to be integrated through it.
+
+    Examples
+    --------
+    >>> [round(edge, 6) for edge in band_range_um("V")]
+    [0.47, 0.7]
+    """
+    wavelength_um = band(name).response.wavelength * u.AA.to(u.um)
+    return float(wavelength_um[0]), float(wavelength_um[-1])

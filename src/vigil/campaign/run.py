@@ -9,7 +9,7 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from vigil import bodies, forecast, notes, schema
+from vigil import bodies, forecast, notes, schema, star_spectra
 from vigil.campaign import schedule, weather
 from vigil.campaign.result import CampaignResult
 from vigil.campaign.spec import CampaignSpec
@@ -29,9 +29,20 @@ def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
     for row in targets.to_dict("records"):
         where = places.get(row["name"], str(spec.targets_file or "targets"))
         planet, star = bodies.target_bodies(pd.Series(row), where)
-        found[row["name"]] = forecast.Body(planet, star)
+        found[row["name"]] = forecast.Body(planet, star, _own_spectrum(row, star, spec, where))
         priority[row["name"]] = bodies.priority_of(pd.Series(row), where)
     return found, priority
+
+
+def _own_spectrum(row: dict, star, spec: CampaignSpec, where: str):
+    """The star's light from its star_spectrum_file (read, checked, scaled), or None."""
+    path = bodies.spectrum_file_of(pd.Series(row))
+    if path is None:
+        return None
+    try:
+        return star_spectra.star_light(path, star, spec.instrument)
+    except InputError as exc:
+        raise InputError(f"{where}, field {bodies.SPECTRUM_FILE_COLUMN}: target {row['name']!r}: {exc}") from None
 
 
 def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str, jobs: int = 1,
