@@ -231,3 +231,22 @@ def test_campaign_file_names_the_catalogue_format_and_mapping(tmp_path):
     (tmp_path / "sites.toml").write_text((DEMO_DIR / "sites.toml").read_text())
     options = read_campaign(tmp_path / "campaign.toml").targets_options
     assert options.format == "ecsv" and options.columns == tmp_path / "../examples/team_columns.toml"
+
+
+def test_quadratic_ephemeris_columns_in_stated_units_are_converted_to_their_names_units(tmp_path):
+    # dP/dN stated in seconds per epoch and its covariances in s^2 become days and d^2 (1 d = 86 400 s,
+    # SI Brochure); t0_epoch is a plain number. The columns are those schema.TARGETS lists as optional.
+    table = Table({"name": ["Lirio-2 b"], "ra_deg": [15.30], "dec_deg": [-20.5], "t0_bjd_tdb": [2460412.3],
+                   "t0_err_d": [0.001], "period_d": [2.5], "period_err_d": [1e-5], "duration_h": [2.0],
+                   "t0_epoch": [12], "dp_dn_d": [-8.64e-5], "dp_dn_err_d": [8.64e-6],
+                   "t0_dp_dn_cov_d2": [0.5 * 0.001 * 1e-10 * DAY_S], "period_dp_dn_cov_d2": [0.0]})
+    for name in ("dp_dn_d", "dp_dn_err_d"):
+        table[name].unit = u.s
+    table["t0_dp_dn_cov_d2"].unit = u.d * u.s
+    table["period_dp_dn_cov_d2"].unit = u.s ** 2
+    table.write(tmp_path / "one.ecsv", format="ascii.ecsv")
+    targets = read_targets(tmp_path / "one.ecsv")
+    assert targets["dp_dn_d"][0] == pytest.approx(-8.64e-5 / DAY_S, rel=1e-12)
+    assert targets["dp_dn_err_d"][0] == pytest.approx(8.64e-6 / DAY_S, rel=1e-12)
+    assert targets["t0_dp_dn_cov_d2"][0] == pytest.approx(0.5 * 0.001 * 1e-10, rel=1e-12)  # correlation 0.5
+    assert targets["t0_epoch"][0] == 12.0

@@ -10,6 +10,7 @@ from typer.testing import CliRunner
 from vigil import schema
 from vigil.catalog import read_sites, read_targets
 from vigil.cli import app
+from vigil.errors import InputError
 from vigil.export.campaign_csv import write_campaign_csvs
 from vigil.export.windows_csv import COLUMNS as WINDOWS_CSV_COLUMNS
 from vigil.windows import plan_windows
@@ -87,3 +88,27 @@ def test_every_table_the_commands_write_passes_its_schema(tmp_path):
                                      "--out", str(tmp_path / "refit.csv")])
     assert refit.exit_code == 0, refit.output
     assert schema.TARGETS.check(read_targets(tmp_path / "refit.csv")).shape[0] > 0
+
+
+def test_targets_schema_names_the_optional_ephemeris_columns_models_reads_and_readme_gives_their_units():
+    # One place for the names: what the ephemeris model reads is what the schema lists, and the
+    # README's Targets section states each with the schema's unit (project convention, no source).
+    from vigil.ephemeris.models import EPOCH_ORIGIN_COLUMN, QUADRATIC_COLUMNS
+    optional = {c.name: c.unit for c in schema.TARGETS.optional}
+    assert set(optional) == {*QUADRATIC_COLUMNS, EPOCH_ORIGIN_COLUMN}
+    readme = (DEMO_DIR.parents[3] / "README.md").read_text(encoding="utf-8")
+    targets_section = readme.split("### Targets", 1)[1].split("\n### ", 1)[0]
+    as_written = {"d": "d", "d^2": "d²", "": "epoch number"}
+    for name, unit in optional.items():
+        assert f"`{name}` ({as_written[unit]}" in targets_section, name
+
+
+def test_a_quadratic_term_out_of_range_is_refused_naming_file_line_and_field(tmp_path):
+    # dP/dN of a whole day per epoch is a unit mistake; the reader refuses it before any work.
+    path = tmp_path / "t.csv"
+    path.write_text("name,ra_deg,dec_deg,t0_bjd_tdb,t0_err_d,period_d,period_err_d,duration_h,dp_dn_d\n"
+                    "Lirio-2 b,15.3,-20.5,2460412.3,0.001,2.5,0.00001,2.0,\n"
+                    "Lirio-3 b,15.3,-20.5,2460412.3,0.001,2.5,0.00001,2.0,3.5\n", encoding="utf-8")
+    with pytest.raises(InputError) as caught:
+        read_targets(path)
+    assert str(caught.value).startswith(f"{path}: line 3, target 'Lirio-3 b', field dp_dn_d: expected a number")

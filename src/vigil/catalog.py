@@ -23,6 +23,7 @@ from astropy.time import Time
 
 from vigil import bodies, geometry, schema
 from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
+from vigil.ephemeris.models import catalogue_ephemeris
 from vigil.errors import InputError
 from vigil.names import clean_name
 from vigil.facility import FACILITY_KEYS, read_facility
@@ -158,6 +159,11 @@ def _target_row(path: Path, line: int, row: pd.Series, coordinates: tuple[str, s
         values[column] = csv_number(path, line, column, row[column], expected)
     cov = row.get("t0_period_cov_d2", "")
     values["t0_period_cov_d2"] = csv_number(path, line, "t0_period_cov_d2", cov, "a covariance in d^2") if cov else 0.0
+    for column in schema.TARGET_EPHEMERIS_COLUMNS:
+        if column.name in row:
+            text = row[column.name]
+            expected = f"a number ({column.text}{', ' + column.unit if column.unit else ''})"
+            values[column.name] = csv_number(path, line, column.name, text, expected) if text else math.nan
     _check_target_values(path, line, values)
     _check_body_columns(path, line, row)
     return values
@@ -267,6 +273,7 @@ def targets_from_source(source: SourceTable, strict: bool = False) -> pd.DataFra
         result[bodies.SPECTRUM_FILE_COLUMN] = [str((Path(path).parent / cell).absolute()) if cell else ""
                                                for cell in result[bodies.SPECTRUM_FILE_COLUMN]]
     result.attrs["source_rows"] = dict(zip(parsed["name"], (line_of(path, line) for line in table.index)))
+    catalogue_ephemeris(result)  # the ephemeris columns' ranges and covariance, refused before any work
     return schema.TARGETS.check(result)
 
 

@@ -12,9 +12,8 @@ from typing import Optional
 
 import typer
 
-from vigil.cli_options import (BASELINE_OPTION, COVERAGE_OPTION, FORCE_OPTION, MIN_ALTITUDE_OPTION,
-                               MIN_FRACTION_OPTION, MOON_SEP_OPTION, SIGMA_OPTION, SITE_OPTION, SITES_OPTION,
-                               TWILIGHT_OPTION, constraint_options)
+from vigil.cli_options import (BASELINE_OPTION, FORCE_OPTION, SIGMA_OPTION, SITE_OPTION, SITES_OPTION,
+                               WindowOptions, constraint_options, with_window_options)
 from vigil.cli_support import out, setup_logging, user_errors
 from vigil.export.files import OutputTransaction
 from vigil.errors import InputError
@@ -31,19 +30,20 @@ OUT_OPTION = typer.Option(..., "--out", metavar="FILE.png", help="Write the char
 START_OPTION = typer.Option(..., "--start", metavar="DATE", help="First date, UTC (e.g. 2027-03-01).")
 
 
-def _windows(targets_file: Path, sites_file: Path, site, start: str, end: str, options: dict, include_all: bool,
-             coverage, min_fraction):
+def _windows(targets_file: Path, sites_file: Path, site, start: str, end: str, options: WindowOptions,
+             include_all: bool):
     """The windows (internal JD columns, with each target's coordinates) and sites, through the
     windows command's own path so that both agree."""
     from vigil.cli import _run_windows
     from vigil.export.night_chart import with_coordinates
 
-    run = _run_windows(targets_file, sites_file, site, start, end, options, include_all, None, None,
-                       coverage=coverage, min_fraction=min_fraction, keep_all=True)
+    run = _run_windows(targets_file, sites_file, site, start, end, options.constraints, include_all, None, None,
+                       coverage=options.coverage, min_fraction=options.min_fraction, keep_all=True)
     return with_coordinates(run.windows, run.targets), run.sites
 
 
 @chart_app.command("night")
+@with_window_options
 def night(
     targets_file: Path = TARGETS_ARG,
     sites_file: Path = SITES_OPTION,
@@ -53,13 +53,7 @@ def night(
     end: Optional[str] = typer.Option(None, "--end", metavar="DATE", help="Last date, UTC, included [default --start]."),
     count: int = typer.Option(3, "--count", metavar="N", min=1, max=12, help="Chart the first N windows [default 3]."),
     out_path: Path = OUT_OPTION,
-    min_altitude: Optional[float] = MIN_ALTITUDE_OPTION,
-    twilight: Optional[str] = TWILIGHT_OPTION,
-    baseline: Optional[float] = BASELINE_OPTION,
-    sigma: Optional[float] = SIGMA_OPTION,
-    moon_sep: Optional[float] = MOON_SEP_OPTION,
-    coverage: Optional[str] = COVERAGE_OPTION,
-    min_fraction: Optional[float] = MIN_FRACTION_OPTION,
+    window_options: WindowOptions = WindowOptions(),
     include_all: bool = typer.Option(False, "--all", help="Chart unobservable transits too."),
     force: bool = FORCE_OPTION,
 ):
@@ -68,23 +62,22 @@ def night(
     from vigil.export.night_chart import night_chart
 
     setup_logging()
-    options = constraint_options(min_altitude, twilight, baseline, sigma, moon_sep)
     with user_errors():
         OutputTransaction([out_path], force=force)  # the output checks; the write itself is atomic
-        windows, sites = _windows(targets_file, sites_file, site, start, end or start, options, include_all,
-                                  coverage, min_fraction)
+        windows, sites = _windows(targets_file, sites_file, site, start, end or start, window_options, include_all)
         ground = windows["site"].map(lambda s: sites[s].kind == "ground").astype(bool)
         mine = windows[(windows["target"] == target) & ground]
         if mine.empty:
             raise InputError(f"no {'' if include_all else 'observable '}windows of {target!r} at a ground site from "
                              f"{start} to {end or start}")
-        overrides = api.constraint_overrides(options)
+        overrides = api.constraint_overrides(window_options.constraints)
         constraints = {n: resolve_constraints(s.defaults, overrides) for n, s in sites.items()}
         save_png(night_chart(mine.head(count), sites, constraints), out_path)
     out.print(f"charted {min(count, len(mine))} of {len(mine)} windows; wrote {out_path}")
 
 
 @chart_app.command("timeline")
+@with_window_options
 def timeline(
     targets_file: Path = TARGETS_ARG,
     sites_file: Path = SITES_OPTION,
@@ -92,13 +85,7 @@ def timeline(
     start: str = START_OPTION,
     end: str = typer.Option(..., "--end", metavar="DATE", help="Last date, UTC, included (a month or a semester)."),
     out_path: Path = OUT_OPTION,
-    min_altitude: Optional[float] = MIN_ALTITUDE_OPTION,
-    twilight: Optional[str] = TWILIGHT_OPTION,
-    baseline: Optional[float] = BASELINE_OPTION,
-    sigma: Optional[float] = SIGMA_OPTION,
-    moon_sep: Optional[float] = MOON_SEP_OPTION,
-    coverage: Optional[str] = COVERAGE_OPTION,
-    min_fraction: Optional[float] = MIN_FRACTION_OPTION,
+    window_options: WindowOptions = WindowOptions(),
     force: bool = FORCE_OPTION,
 ):
     """Every window per site over a span, one row per target, coloured by coverage; windows of
@@ -107,10 +94,9 @@ def timeline(
     from vigil.export.timeline_chart import timeline_chart
 
     setup_logging()
-    options = constraint_options(min_altitude, twilight, baseline, sigma, moon_sep)
     with user_errors():
         OutputTransaction([out_path], force=force)  # the output checks; the write itself is atomic
-        windows, _ = _windows(targets_file, sites_file, site, start, end, options, False, coverage, min_fraction)
+        windows, _ = _windows(targets_file, sites_file, site, start, end, window_options, False)
         bars = windows.rename(columns={"window_start_jd_utc": "start_jd_utc", "window_end_jd_utc": "end_jd_utc"})
         figure = timeline_chart(bars, as_time(start, "--start").utc.jd, as_time(_inclusive_end(end), "--end").utc.jd,
                                 f"Transit windows {start} to {end} (bars: padded windows)")

@@ -3,6 +3,11 @@ commands cannot drift apart in name, unit or help)."""
 
 from __future__ import annotations
 
+import functools
+import inspect
+from dataclasses import dataclass
+from typing import Optional, get_type_hints
+
 import typer
 
 MIN_ALTITUDE_OPTION = typer.Option(None, "--min-altitude", metavar="DEG",
@@ -32,3 +37,54 @@ def constraint_options(min_altitude=None, twilight=None, baseline=None, sigma=No
     """
     return {"min_altitude": min_altitude, "twilight": twilight, "baseline": baseline, "sigma": sigma,
             "moon_sep": moon_sep}
+
+
+@dataclass(frozen=True)
+class WindowOptions:
+    """The constraint and listing options of a command that plans windows, as typed (None: not given)."""
+
+    min_altitude: Optional[float] = None
+    twilight: Optional[str] = None
+    baseline: Optional[float] = None
+    sigma: Optional[float] = None
+    moon_sep: Optional[float] = None
+    coverage: Optional[str] = None
+    min_fraction: Optional[float] = None
+
+    @property
+    def constraints(self) -> dict:
+        """The constraint options as `constraint_options` gives them."""
+        return constraint_options(self.min_altitude, self.twilight, self.baseline, self.sigma, self.moon_sep)
+
+
+# The typer declarations of WindowOptions' fields, in the order the commands list them.
+_WINDOW_OPTIONS = {"min_altitude": MIN_ALTITUDE_OPTION, "twilight": TWILIGHT_OPTION, "baseline": BASELINE_OPTION,
+                   "sigma": SIGMA_OPTION, "moon_sep": MOON_SEP_OPTION, "coverage": COVERAGE_OPTION,
+                   "min_fraction": MIN_FRACTION_OPTION}
+
+
+def with_window_options(command):
+    """Declare the options of WindowOptions in place of the command's `window_options` parameter
+    and call the command with them gathered into one WindowOptions.
+
+    Example: ``@app.command() @with_window_options def draw(out: Path, window_options: WindowOptions): ...``
+    takes ``--min-altitude ... --min-fraction`` between ``out`` and the parameters after it.
+    """
+    signature = inspect.signature(command, eval_str=True)
+    hints = get_type_hints(WindowOptions)
+    parameters = []
+    for parameter in signature.parameters.values():
+        if parameter.name != "window_options":
+            parameters.append(parameter)
+            continue
+        parameters += [inspect.Parameter(name, parameter.kind, default=option, annotation=hints[name])
+                       for name, option in _WINDOW_OPTIONS.items()]
+
+    @functools.wraps(command)
+    def gathered(**values):
+        options = WindowOptions(**{name: values.pop(name) for name in _WINDOW_OPTIONS})
+        return command(**values, window_options=options)
+
+    gathered.__signature__ = signature.replace(parameters=parameters)
+    gathered.__annotations__ = {p.name: p.annotation for p in parameters}
+    return gathered

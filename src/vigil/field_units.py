@@ -1,6 +1,6 @@
 """The unit of each vigil target field, and conversion of columns whose file states a unit.
 
-A field's unit is in its name (`_deg`, `_d`, `_h`, `_min`, and a few named ones such as
+A field's unit is in its name (`_deg`, `_d`, `_d2` for covariances in d^2, `_h`, `_min`, and a few named ones such as
 `planet_radius_earth`). A column whose file (ECSV, VOTable, IPAC) states a unit is converted
 into its field's unit; a unit that cannot be converted is refused. Right ascension is the one
 ambiguous case: a bare number in an `ra` column with no unit could be hours or degrees and is
@@ -18,11 +18,11 @@ from vigil.errors import InputError
 from vigil.table_formats import SourceTable
 
 _BY_NAME = {
-    "t0_bjd_tdb": u.day, "t0_period_cov_d2": u.day ** 2, "planet_radius_earth": u.earthRad,
+    "t0_bjd_tdb": u.day, "planet_radius_earth": u.earthRad,
     "planet_mass_earth": u.earthMass, "star_radius_sun": u.solRad, "surface_gravity_m_s2": u.m / u.s ** 2,
     "teq_k": u.K, "star_teff_k": u.K, "distance_pc": u.pc,
 }
-_BY_SUFFIX = (("_deg", u.deg), ("_min", u.min), ("_h", u.hour), ("_d", u.day))
+_BY_SUFFIX = (("_deg", u.deg), ("_min", u.min), ("_h", u.hour), ("_d", u.day), ("_d2", u.day ** 2))
 # Sexagesimal and decimal coordinates under these names become the *_deg fields when a unit is stated.
 ANGLE_FIELDS = {"ra": "ra_deg", "dec": "dec_deg"}
 

@@ -132,6 +132,21 @@ _EPOCH = _col(EPOCH, "", "int", "transit number counted from t0")
 _COVERAGE = _col(COVERAGE, "", COVERAGE_CLASSES, "full, ingress, egress, partial or none")
 _SHARED_WITH = _col("shared_with", "", "text", "other planets of the same star whose windows overlap this one")
 
+# Optional ephemeris columns of the targets table (read by vigil.ephemeris.models): a quadratic
+# ephemeris T(n) = T0 + kP + k^2 dP/dN / 2 with k = n - t0_epoch, and its covariances.
+T0_EPOCH = "t0_epoch"
+DP_DN_D = "dp_dn_d"
+DP_DN_ERR_D = "dp_dn_err_d"
+T0_DP_DN_COV_D2 = "t0_dp_dn_cov_d2"
+PERIOD_DP_DN_COV_D2 = "period_dp_dn_cov_d2"
+TARGET_EPHEMERIS_COLUMNS = (
+    _col(T0_EPOCH, "", "float", "epoch number of t0_bjd_tdb, counted from the catalogue's T0 (0 when absent)"),
+    _col(DP_DN_D, "d", "float", "dP/dN, change of the period per epoch (negative for a shrinking orbit)"),
+    _col(DP_DN_ERR_D, "d", "float", "1-sigma uncertainty of dp_dn_d"),
+    _col(T0_DP_DN_COV_D2, "d^2", "float", "covariance of t0 and dp_dn_d"),
+    _col(PERIOD_DP_DN_COV_D2, "d^2", "float", "covariance of period and dp_dn_d"),
+)
+
 TARGETS = Table("targets", (
     _col("name", "", "text", "planet name"),
     _col("ra_deg", "deg", "float", "right ascension, ICRS"),
@@ -142,7 +157,7 @@ TARGETS = Table("targets", (
     _col("period_err_d", "d", "float", "1-sigma uncertainty of the period"),
     _col("duration_h", "h", "float", "total transit duration, first to fourth contact"),
     _col("t0_period_cov_d2", "d^2", "float", "covariance of t0 and period (0 when absent)"),
-), extra_allowed=True)
+), optional=TARGET_EPHEMERIS_COLUMNS, extra_allowed=True)
 
 TRANSITS = Table("transits", (
     _TARGET_NAME,

@@ -23,13 +23,15 @@ from typing import Protocol
 import numpy as np
 import pandas as pd
 
+from vigil import schema
 from vigil.errors import InputError
 
-#: Optional targets columns of the quadratic term (days per epoch, and covariances).
-QUADRATIC_COLUMNS = {"dp_dn_d": (-1.0, 1.0), "dp_dn_err_d": (0.0, 1.0), "t0_dp_dn_cov_d2": (-1.0, 1.0),
-                     "period_dp_dn_cov_d2": (-1.0, 1.0)}
+#: Optional targets columns of the quadratic term (days per epoch, and covariances; named and
+#: described in vigil.schema) with the range each value must lie in.
+QUADRATIC_COLUMNS = {schema.DP_DN_D: (-1.0, 1.0), schema.DP_DN_ERR_D: (0.0, 1.0), schema.T0_DP_DN_COV_D2: (-1.0, 1.0),
+                     schema.PERIOD_DP_DN_COV_D2: (-1.0, 1.0)}
 #: Optional targets column: the epoch number (catalogue count) of t0_bjd_tdb; 0 when absent.
-EPOCH_ORIGIN_COLUMN = "t0_epoch"
+EPOCH_ORIGIN_COLUMN = schema.T0_EPOCH
 
 
 class Ephemeris(Protocol):
@@ -233,9 +235,17 @@ def linear_ephemeris(t0_bjd_tdb: float, t0_err_d: float, period_d: float, period
     return PolynomialEphemeris(t0_bjd_tdb, period_d, 0.0, covariance, t0_epoch)
 
 
+def row_label(targets: pd.DataFrame, i: int) -> str:
+    """"FILE: line N, target 'X'" for row i of a table read from a file (its attrs["source_rows"],
+    set by the reader), else "target 'X'": the start of a message about that row."""
+    name = str(targets["name"].iat[i])
+    where = targets.attrs.get("source_rows", {}).get(name)
+    return f"{where}, target {name!r}" if where else f"target {name!r}"
+
+
 def numeric_column(targets: pd.DataFrame, column: str, low: float, high: float) -> np.ndarray:
-    """An optional numeric targets column (NaN where empty); InputError naming target and field for
-    text or values outside [low, high]."""
+    """An optional numeric targets column (NaN where empty); InputError naming the row (`row_label`)
+    and field for text or values outside [low, high]."""
     if column not in targets.columns:
         return np.full(len(targets), np.nan)
     text = targets[column].astype(str).str.strip().replace({"": "nan", "None": "nan"}).fillna("nan")
@@ -243,7 +253,7 @@ def numeric_column(targets: pd.DataFrame, column: str, low: float, high: float) 
     bad = (np.isnan(values) & (text.str.lower() != "nan").to_numpy()) | (values < low) | (values > high)
     if bad.any():
         i = int(np.flatnonzero(bad)[0])
-        raise InputError(f"target {targets['name'].iat[i]!r}, field {column}: expected a number from {low:g} to "
+        raise InputError(f"{row_label(targets, i)}, field {column}: expected a number from {low:g} to "
                          f"{high:g}, got {targets[column].iat[i]!r}")
     return values
 
@@ -253,7 +263,7 @@ def catalogue_ephemeris(targets: pd.DataFrame) -> PolynomialEphemeris:
     where dp_dn_d and dp_dn_err_d are absent or zero).
 
     Reads t0_bjd_tdb, t0_err_d, period_d, period_err_d, optional t0_period_cov_d2, the optional
-    QUADRATIC_COLUMNS and t0_epoch. InputError names the target and field when the covariance of
+    QUADRATIC_COLUMNS and t0_epoch. InputError names the row (`row_label`) and field when the covariance of
     (T0, P, dP/dN) is not positive semi-definite or t0_epoch is not a whole number.
 
     Examples
@@ -264,29 +274,28 @@ def catalogue_ephemeris(targets: pd.DataFrame) -> PolynomialEphemeris:
     [2460010.0]
     """
     quad = {c: np.nan_to_num(numeric_column(targets, c, *bounds)) for c, bounds in QUADRATIC_COLUMNS.items()}
-    names = targets["name"].astype(str).to_numpy()
     origin = numeric_column(targets, EPOCH_ORIGIN_COLUMN, -1e9, 1e9)
     fractional = np.isfinite(origin) & (origin != np.round(origin))
     if fractional.any():
-        raise InputError(f"target {names[np.flatnonzero(fractional)[0]]!r}, field {EPOCH_ORIGIN_COLUMN}: "
+        raise InputError(f"{row_label(targets, int(np.flatnonzero(fractional)[0]))}, field {EPOCH_ORIGIN_COLUMN}: "
                          "expected a whole epoch number")
     t0_tp = (np.nan_to_num(pd.to_numeric(targets["t0_period_cov_d2"]).to_numpy(dtype=float))
              if "t0_period_cov_d2" in targets.columns else np.zeros(len(targets)))
     c = np.empty((len(targets), 3, 3))
     c[:, 0, 0] = np.square(targets["t0_err_d"].to_numpy(dtype=float))
     c[:, 1, 1] = np.square(targets["period_err_d"].to_numpy(dtype=float))
-    c[:, 2, 2] = np.square(quad["dp_dn_err_d"])
+    c[:, 2, 2] = np.square(quad[schema.DP_DN_ERR_D])
     c[:, 0, 1] = c[:, 1, 0] = t0_tp
-    c[:, 0, 2] = c[:, 2, 0] = quad["t0_dp_dn_cov_d2"]
-    c[:, 1, 2] = c[:, 2, 1] = quad["period_dp_dn_cov_d2"]
+    c[:, 0, 2] = c[:, 2, 0] = quad[schema.T0_DP_DN_COV_D2]
+    c[:, 1, 2] = c[:, 2, 1] = quad[schema.PERIOD_DP_DN_COV_D2]
     scale = np.sqrt(np.maximum(np.diagonal(c, axis1=1, axis2=2), 1e-300))
     indefinite = np.linalg.eigvalsh(c / (scale[:, :, None] * scale[:, None, :])).min(axis=1) < -1e-9
     if indefinite.any():
-        raise InputError(f"target {names[np.flatnonzero(indefinite)[0]]!r}, fields t0_period_cov_d2, t0_dp_dn_cov_d2, "
-                         "period_dp_dn_cov_d2: the covariance of (T0, P, dP/dN) must be positive semi-definite "
-                         "(|correlations| <= 1)")
+        raise InputError(f"{row_label(targets, int(np.flatnonzero(indefinite)[0]))}, fields t0_period_cov_d2, "
+                         f"{schema.T0_DP_DN_COV_D2}, {schema.PERIOD_DP_DN_COV_D2}: the covariance of (T0, P, dP/dN) "
+                         "must be positive semi-definite (|correlations| <= 1)")
     return PolynomialEphemeris(targets["t0_bjd_tdb"].to_numpy(dtype=float), targets["period_d"].to_numpy(dtype=float),
-                               quad["dp_dn_d"], c, np.nan_to_num(origin).astype(np.int64))
+                               quad[schema.DP_DN_D], c, np.nan_to_num(origin).astype(np.int64))
 
 
 def target_ephemerides(targets: pd.DataFrame) -> list[PolynomialEphemeris]:
