@@ -272,3 +272,54 @@ def test_example_spectrum_serves_the_demo_instrument():
     # model's shape a little away from it.
     ratio = stars.photon_flux(flux, [0.58, 0.80]) / stars.photon_flux(forecast.star_flux(star), [0.58, 0.80])
     assert ratio[0] / ratio[1] == pytest.approx(0.5, rel=0.01)
+
+
+# --- from the files, as the command line reads them ---------------------------------------------
+
+
+def _demo_copy(folder: Path, spectrum_cell: str) -> Path:
+    """The demo's files in `folder`, two campaign years and ten trials, Vessa-11 c's row naming
+    `spectrum_cell` in a star_spectrum_file column; returns the campaign file."""
+    demo = resources.files("vigil") / "data" / "demo"
+    lines = (demo / "targets.csv").read_text(encoding="utf-8").splitlines()
+    rows = [lines[0] + ",star_spectrum_file"] + [f"{line},{spectrum_cell if line.startswith('Vessa-11 c') else ''}"
+                                                 for line in lines[1:]]
+    (folder / "targets.csv").write_text("\n".join(rows) + "\n", encoding="utf-8")
+    (folder / "sites.toml").write_text((demo / "sites.toml").read_text(encoding="utf-8"), encoding="utf-8")
+    campaign = (demo / "campaign.toml").read_text(encoding="utf-8")
+    campaign = campaign.replace("horizon_years = 30", "horizon_years = 2").replace("trials = 200", "trials = 10")
+    (folder / "campaign.toml").write_text(campaign, encoding="utf-8")
+    return folder / "campaign.toml"
+
+
+def test_campaign_file_reads_the_spectrum_beside_its_targets_file(tmp_path, monkeypatch):
+    # The example's invented band (half the light at 0.58 um) costs the M dwarf photons in the
+    # bluest bins: more hours needed than with the model, and the deciding bin moves off 0.55 um.
+    (tmp_path / "cat" / "spectra").mkdir(parents=True)
+    (tmp_path / "cat" / "spectra" / "own.ecsv").write_bytes((EXAMPLES / "star_spectrum.ecsv").read_bytes())
+    with_file = _demo_copy(tmp_path / "cat", "spectra/own.ecsv")
+    (tmp_path / "plain").mkdir()
+    without = _demo_copy(tmp_path / "plain", "")
+    monkeypatch.chdir(tmp_path / "plain")  # the spectrum is found from the targets file, not from here
+    own = vigil.run_campaign(with_file, target="Vessa-11 c")
+    model = vigil.run_campaign(without, target="Vessa-11 c")
+    assert own.summary["hours_needed"].iloc[0] > 1.2 * model.summary["hours_needed"].iloc[0]
+    assert model.budget["wavelength_um"].iloc[0] == pytest.approx(0.55)
+    assert own.budget["wavelength_um"].iloc[0] > 0.56
+
+
+def test_campaign_file_with_a_bad_spectrum_names_the_targets_row_and_the_spectrum_line(tmp_path):
+    _write_csv(tmp_path / "bad.csv", "wavelength_um,flux_w_m2_um", [(0.4, 1.0), (0.6, 1.0), (0.5, 1.0), (2.5, 1.0)])
+    campaign = _demo_copy(tmp_path, "bad.csv")
+    with pytest.raises(InputError, match=r"targets\.csv: line 4, field star_spectrum_file: target 'Vessa-11 c': "
+                                         r".*bad\.csv: line 4, field wavelength_um: 0\.5 does not follow 0\.6"):
+        vigil.run_campaign(campaign, target="Vessa-11 c")
+
+
+def test_campaign_says_which_stars_shine_with_their_own_spectrum(model_file):
+    result = run(campaign_spec(), targets_table({"star_spectrum_file": str(model_file)}))
+    said = [note.text() for note in result.notes]
+    assert f"Brasa-4 b: the star's light is the spectrum in {model_file}, scaled to V = 10, in place of the built-in " \
+           "model" in said
+    assert not any("own spectrum" in text or "star's light" in text for text in
+                   (note.text() for note in run(campaign_spec(), targets_table({})).notes))

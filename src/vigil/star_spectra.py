@@ -26,6 +26,7 @@ from pathlib import Path
 
 import astropy.units as u
 import numpy as np
+import pandas as pd
 
 from vigil import passbands, stars
 from vigil.spectrum import Instrument, Star
@@ -125,7 +126,11 @@ def _check_kinds(path: Path, header: str, columns: dict, units: dict) -> None:
 
 
 def _numbers(path: Path, cells, column: str, expected: str) -> np.ndarray:
-    return np.array([csv_number(path, line, column, text, expected) for line, text in cells[column].items()])
+    """The column as finite floats; the first cell that is not one is refused by csv_number."""
+    values = pd.to_numeric(cells[column], errors="coerce").to_numpy(dtype=float)
+    for i in np.flatnonzero(~np.isfinite(values)):
+        values[i] = csv_number(path, cells.index[i], column, cells[column].iloc[i], expected)
+    return values
 
 
 def _ecsv_lines(path: Path, cells):

@@ -23,26 +23,33 @@ from vigil.hosts import host_of
 TRIAL_CHUNK = 50
 
 
-def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict]:
-    found, priority = {}, {}
+def _bodies(targets: pd.DataFrame, spec: CampaignSpec) -> tuple[dict, dict, list]:
+    """Body and priority of each target, and a note for each star whose light comes from its own spectrum."""
+    found, priority, said = {}, {}, []
     places = targets.attrs.get("source_rows", {})  # "FILE: line N" of each target, kept by read_targets
     for row in targets.to_dict("records"):
         where = places.get(row["name"], str(spec.targets_file or "targets"))
         planet, star = bodies.target_bodies(pd.Series(row), where)
-        found[row["name"]] = forecast.Body(planet, star, _own_spectrum(row, star, spec, where))
+        light, note = _own_spectrum(row, star, spec, where)
+        found[row["name"]] = forecast.Body(planet, star, light)
         priority[row["name"]] = bodies.priority_of(pd.Series(row), where)
-    return found, priority
+        said.extend([note] if note else [])
+    return found, priority, said
 
 
 def _own_spectrum(row: dict, star, spec: CampaignSpec, where: str):
-    """The star's light from its star_spectrum_file (read, checked, scaled), or None."""
+    """(the star's light from its star_spectrum_file, read, checked and scaled; a note saying
+    so), or (None, None) without one."""
     path = bodies.spectrum_file_of(pd.Series(row))
     if path is None:
-        return None
+        return None, None
     try:
-        return star_spectra.star_light(path, star, spec.instrument)
+        light = star_spectra.star_light(path, star, spec.instrument)
     except InputError as exc:
         raise InputError(f"{where}, field {bodies.SPECTRUM_FILE_COLUMN}: target {row['name']!r}: {exc}") from None
+    text = (f"{row['name']}: the star's light is the spectrum in {path}, scaled to {star.band} = {star.magnitude:g}, "
+            "in place of the built-in model").replace("{", "{{").replace("}", "}}")
+    return light, notes.Note(("star_spectrum", row["name"]), text, spec.start.utc.jd, spec.end.utc.jd)
 
 
 def _candidates(targets, sites, spec: CampaignSpec, constraints: dict, engine: str, jobs: int = 1,
@@ -98,7 +105,7 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
     if missing:
         raise InputError(f"{spec.sites_file}: campaign site {missing[0]!r} not found; sites are {', '.join(sites)}")
     sites = {n: sites[n] for n in spec.site_names}
-    found, priority = _bodies(targets, spec)
+    found, priority, spectrum_notes = _bodies(targets, spec)
     targets, stacked = _from_journal(spec, targets, left_out)
     candidates = _candidates(targets, sites, spec, spec.constraints, engine, jobs, executor, chunk_dir)
     ground = any(site.kind != "space" for site in sites.values())
@@ -107,7 +114,7 @@ def run_campaign(spec: CampaignSpec, targets: pd.DataFrame, sites: dict[str, Sit
     scheduled = schedule.schedule(candidates, gain, priority, spec.per_target_per_semester,
                                   spec.per_site_per_semester, host_of(targets))
     clear = _trials(scheduled, spec, on_progress)
-    rows, per_scenario, yearly, budgets, years, found_notes = [], [], [], [], {}, [notes.of(candidates)]
+    rows, per_scenario, yearly, budgets, years, found_notes = [], [], [], [], {}, [spectrum_notes, notes.of(candidates)]
     for name, body in found.items():
         result = forecast.target_forecast(name, body, spec, scheduled, clear, ground, stacked.get(name, (0.0, 0.0)))
         found_notes.append(_limit(result, spec, scheduled, candidates, targets, sites, engine,
