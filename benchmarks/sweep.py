@@ -136,10 +136,12 @@ def _span(years: float):
 
 # --- one configuration, in a process of its own -------------------------------------------
 
-def _row_bytes(piece: pd.DataFrame) -> bytes:
-    """Every number of every row, and the coverage class, as bytes (names are implied by them)."""
-    numbers = piece.select_dtypes(include=["number", "bool"]).to_numpy(dtype=float)
-    return numbers.tobytes() + pd.Categorical(piece["coverage"], categories=COVERAGE_CLASSES).codes.tobytes()
+def _digest_rows(digest, piece: pd.DataFrame) -> None:
+    """Feed every number of every row, column by column, and the coverage class to the digest
+    (names are implied by them)."""
+    for column in piece.select_dtypes(include=["number", "bool"]).columns:
+        digest.update(np.ascontiguousarray(piece[column].to_numpy()).tobytes())
+    digest.update(pd.Categorical(piece["coverage"], categories=COVERAGE_CLASSES).codes.tobytes())
 
 
 def run_configuration(n_targets: int, years: float, scheduler: str | None, jobs: int, include_all: bool,
@@ -155,8 +157,8 @@ def run_configuration(n_targets: int, years: float, scheduler: str | None, jobs:
         for piece in sweep.iter_windows(targets, sites, {}, start, end, jobs=workers.count,
                                         executor=workers.executor, chunk_dir=workers.chunk_dir,
                                         include_unobservable=include_all):
-            counts.update(piece["coverage"].astype(str).value_counts().to_dict())
-            digest.update(_row_bytes(piece))
+            counts.update({str(k): int(v) for k, v in piece["coverage"].value_counts().items()})
+            _digest_rows(digest, piece)
             listed += len(piece)
             kept.append(piece.loc[piece["target"].isin(keep), ["target", "site", "epoch", "coverage"]])
     wall, cpu = time.perf_counter() - began, _cpu_s() - cpu_began

@@ -66,7 +66,7 @@ def test_calendar_shows_a_shared_pointing_as_one_event_naming_both_planets():
     windows = pd.DataFrame([_window("Orla b", 12, 2461000.60, 2461000.75, "Orla c"),
                             _window("Orla c", 7, 2461000.70, 2461000.85, "Orla b"),
                             _window("Orla b", 13, 2461003.60, 2461003.75)]).astype({
-        c: "datetime64[ns, UTC]" for c in ("mid_utc", "ingress_utc", "egress_utc", "window_start_utc", "window_end_utc",
+        c: "datetime64[s, UTC]" for c in ("mid_utc", "ingress_utc", "egress_utc", "window_start_utc", "window_end_utc",
                                            "observable_start_utc", "observable_end_utc")})
     calendar = icalendar_events(windows_calendar(windows).to_ical())
     assert len(calendar) == 2
@@ -99,3 +99,28 @@ def test_marks_on_streamed_pieces_equal_marks_on_the_whole_table():
         pieces = [windows.iloc[:cut], windows.iloc[cut:cut + 1], windows.iloc[cut + 1:]]
         streamed = [m for p in mark_shared(pieces, hosts) for m in p["shared_with"]]
         assert streamed == whole, cut
+
+
+def test_calendar_written_piece_by_piece_equals_the_calendar_written_whole(tmp_path, monkeypatch):
+    # A shared pointing cut between two pieces is still one event, and the file is byte for byte
+    # the one written from the whole table (RFC 5545 content lines in the same order).
+    from vigil.export.calendar import windows_ics_writer, write_windows_ics
+
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1800000000")
+    windows = pd.DataFrame([_window("Vey b", 3, 2460999.10, 2460999.30),
+                            _window("Orla b", 12, 2461000.60, 2461000.75, "Orla c"),
+                            _window("Orla c", 7, 2461000.70, 2461000.85, "Orla b"),
+                            _window("Vey b", 4, 2461000.72, 2461000.90),
+                            _window("Orla b", 13, 2461003.60, 2461003.75, "Orla c"),
+                            _window("Orla c", 8, 2461003.65, 2461003.80, "Orla b")]).astype({
+        c: "datetime64[s, UTC]" for c in ("mid_utc", "ingress_utc", "egress_utc", "window_start_utc", "window_end_utc",
+                                           "observable_start_utc", "observable_end_utc")})
+    write_windows_ics(windows, tmp_path / "whole.ics")
+    whole = (tmp_path / "whole.ics").read_bytes()
+    assert len(icalendar_events(whole)) == 4
+    for cut in range(len(windows) + 1):  # every cut, including inside each shared pointing
+        for second in range(cut, len(windows) + 1):
+            with windows_ics_writer(tmp_path / "pieces.ics") as add:
+                for piece in (windows.iloc[:cut], windows.iloc[cut:second], windows.iloc[second:]):
+                    add(piece)
+            assert (tmp_path / "pieces.ics").read_bytes() == whole, (cut, second)

@@ -74,3 +74,29 @@ def test_chunks_in_processes_merge_their_notes_into_one_each(arctic_site):
     darkness = next(note for note in found if note.key[0] == "no darkness")
     # The merged note spans every chunk's windows: from the first window to the last.
     assert darkness.start_jd_utc < Time(START).jd + 1 and darkness.end_jd_utc > Time(END).jd - 1
+
+
+def test_a_library_warning_in_worker_processes_is_one_note(arctic_site, monkeypatch, capfd):
+    # A library warning raised while planning comes back with the chunk's notes (worker processes
+    # have no vigil console), one line naming its kind, said once however many chunks met it.
+    # Forked workers inherit the patched stage; the warning text is the kind numpy gives.
+    import multiprocessing
+    import warnings
+    from concurrent.futures import ProcessPoolExecutor
+
+    from vigil import windows
+
+    planned = windows.site_windows
+
+    def warning_stage(*args, **kwargs):
+        warnings.warn("invalid value encountered in arccos", RuntimeWarning)
+        return planned(*args, **kwargs)
+
+    monkeypatch.setattr(windows, "site_windows", warning_stage)
+    targets = read_targets(DEMO_DIR / "targets.csv")
+    with ProcessPoolExecutor(2, mp_context=multiprocessing.get_context("fork")) as pool:
+        table = sweep.plan_windows_chunked(targets, read_sites(arctic_site), {}, Time(START), Time(END), jobs=2,
+                                           chunk_targets=1, executor=pool)
+    texts = [note.text() for note in notes.of(table) if note.key[0] == "library warning"]
+    assert texts == ["invalid value encountered in arccos (RuntimeWarning, from tests)"]
+    assert "RuntimeWarning" not in capfd.readouterr().err

@@ -116,3 +116,33 @@ def test_socket_guard_refuses_connections(no_network):
 
     with pytest.raises(RuntimeError, match="network access"):
         socket.create_connection(("127.0.0.1", 9), timeout=1)
+
+
+def test_windows_past_2100_and_2262_plan_and_say_once_the_earth_series_is_extrapolated(tmp_path):
+    # Every date in vigil's span (to 2300) must plan. Past 2100 the Earth's position series runs
+    # outside the years it was fitted to (authorities.time_scales); vigil says so once in its own
+    # words and lets no raw ERFA warning through; past 2262 (the end of nanosecond timestamps)
+    # the table still holds its UTC datetimes. Reference: the exact engine (astropy's own
+    # conversions and AltAz) lists the same transits with the same coverage.
+    from typer.testing import CliRunner
+
+    import vigil
+    from conftest import DEMO_DIR
+    from vigil.cli import app
+
+    fast = vigil.plan_windows(DEMO_DIR / "targets.csv", DEMO_DIR / "sites.toml", "2290-01-01", "2290-01-08",
+                              site="nordvik", include_unobservable=True)
+    exact = vigil.plan_windows(DEMO_DIR / "targets.csv", DEMO_DIR / "sites.toml", "2290-01-01", "2290-01-08",
+                               site="nordvik", include_unobservable=True, exact=True)
+    both = fast.merge(exact, on=["target", "site", "epoch"], suffixes=("", "_exact"), validate="1:1")
+    assert len(both) == len(fast) == len(exact) > 0
+    assert (both["coverage"].astype(str) == both["coverage_exact"].astype(str)).all()
+    assert str(fast["mid_utc"].dtype) == "datetime64[s, UTC]" and (fast["mid_utc"].dt.year == 2290).all()
+    result = CliRunner().invoke(app, ["windows", str(DEMO_DIR / "targets.csv"), "--sites", str(DEMO_DIR / "sites.toml"),
+                                      "--site", "nordvik", "--start", "2290-01-01", "--end", "2290-01-08", "--exact",
+                                      "--csv", str(tmp_path / "w.csv")])
+    assert result.exit_code == 0, result.output
+    lines = [line for line in result.output.splitlines() if "ERFA" in line or "epv00" in line]
+    assert len(lines) == 1 and f"outside {time_scales.EARTH_SERIES_FIT_YEARS[0]}-{time_scales.EARTH_SERIES_FIT_YEARS[1]}" \
+        in lines[0] and "yielded" not in lines[0], result.output
+    assert f"from {time_scales.EARTH_SERIES_FIT_YEARS[1]}-01-01 to 2290-01-0" in lines[0]

@@ -227,7 +227,7 @@ def plan_windows(targets, sites, start, end, *, site=None, include_unobservable:
     Returns
     -------
     pandas.DataFrame
-        The columns of the windows CSV: UTC times as datetime64[ns, UTC], mid_bjd_tdb as
+        The columns of the windows CSV: UTC times as datetime64[s, UTC], mid_bjd_tdb as
         float days, mid_sigma_min in minutes, missing values NaN/NaT; sorted by mid-time,
         then target, then site. Notes found on the way (e.g. a site that never gets dark) are
         logged on the "vigil" logger and kept in `table.attrs["notes"]`.

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import collections
 import math
 import sys
 from contextlib import ExitStack
@@ -21,13 +20,13 @@ from vigil.campaign.outcome import CampaignOutcome
 from vigil.cli_support import LazyProgress, log, out, setup_logging, user_errors
 from vigil.errors import InputError
 from vigil.inputs import as_time
-from vigil.export.calendar import SAFETY_NOTE, run_stamp, write_windows_ics
+from vigil.export.calendar import SAFETY_NOTE, run_stamp, windows_ics_writer
 from vigil.export.files import OutputTransaction
 from vigil.export.table import iso_utc, write_csv
 from vigil.export.night_chart import with_coordinates
 from vigil.export.html_report import campaign_sections, html_page, windows_sections, write_html
 from vigil.export.terminal_tables import UPCOMING_ROWS, compact_table, windows_table
-from vigil.export.windows_csv import write_windows_csv_pieces
+from vigil.export.windows_csv import windows_csv_writer
 from vigil.chart_cli import chart_app
 from vigil.target_source import CatalogueOptions
 from vigil.journal_cli import journal_app
@@ -107,9 +106,9 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
                  chunk_dir: Path | None = None, catalogue: CatalogueOptions = CatalogueOptions(),
                  ephemeris_table: Path | None = None, extrapolate_table: bool = False, coverage: str | None = None,
                  min_fraction: float | None = None, keep_all: bool = False) -> "WindowsRun":
-    """Plan through vigil.iter_windows, write the CSV piece by piece and the calendar; return
-    the coverage tally, the sites and the windows kept: all of them with a calendar or
-    `keep_all`, else the first UPCOMING_ROWS."""
+    """Plan through vigil.iter_windows, write the CSV and the calendar piece by piece; return
+    the coverage tally, the sites and the windows kept: all of them with `keep_all`, else the
+    first UPCOMING_ROWS."""
     api.constraint_overrides(constraints)  # option errors before any file is read
     chosen = parse_coverage(coverage)
     targets = api.read_targets(targets_file, format=catalogue.format, columns=catalogue.columns,
@@ -118,7 +117,6 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
     sites = api.read_sites(sites_file, [clean_name(n, "--site") for n in site_names] if site_names else None)
     _warn_ground_only_options(sites, constraints)
     tallies, kept, listed, found = [], [], [], []
-    keep_all = keep_all or ics_path is not None
 
     def noted(pieces):
         for piece in pieces:
@@ -134,20 +132,21 @@ def _run_windows(targets_file: Path, sites_file: Path, site_names, start: str, e
                 kept.append(piece if keep_all else piece.head(UPCOMING_ROWS))
             yield piece
 
-    with LazyProgress("windows (chunks)") as progress:
-        pieces = tallied(noted(api.iter_windows(targets, sites, start, _inclusive_end(end), include_unobservable=include_all,
-                                                event=event, exact=exact, jobs=jobs, scheduler=scheduler,
-                                                chunk_dir=chunk_dir, on_progress=progress.advance, **constraints)))
+    timezones = {n: s.timezone for n, s in sites.items()}
+    with LazyProgress("windows (chunks)") as progress, ExitStack() as files:
+        writers = []  # finished in reverse order: the CSV, then the calendar (opened at its first piece)
+        if ics_path is not None:
+            writers.append(files.enter_context(windows_ics_writer(ics_path, timezones)))
         if csv_path is not None:
-            write_windows_csv_pieces(pieces, csv_path,
-                                     {n: s.timezone for n, s in sites.items()} if local_time else None)
-        else:
-            collections.deque(pieces, maxlen=0)
+            writers.append(files.enter_context(windows_csv_writer(csv_path, timezones if local_time else None)))
+        for piece in tallied(noted(api.iter_windows(targets, sites, start, _inclusive_end(end),
+                                                    include_unobservable=include_all, event=event, exact=exact,
+                                                    jobs=jobs, scheduler=scheduler, chunk_dir=chunk_dir,
+                                                    on_progress=progress.advance, **constraints))):
+            for add in writers:
+                add(piece)
     notes.report(notes.merged(*found))
-    windows = pd.concat(kept, ignore_index=True)
-    if ics_path is not None:
-        write_windows_ics(windows, ics_path, {n: s.timezone for n, s in sites.items()})
-    return WindowsRun(add_tallies(tallies), windows, sites, sum(listed), targets)
+    return WindowsRun(add_tallies(tallies), pd.concat(kept, ignore_index=True), sites, sum(listed), targets)
 
 
 class WindowsRun(NamedTuple):
@@ -257,7 +256,7 @@ def demo(
              out_dir / "plan.html"]
     with user_errors(), OutputTransaction(files, force=True, create_folder=out_dir).committing():
         run = _run_windows(demo_file("targets.csv"), demo_file("sites.toml"), None, "2027-01-01", "2027-12-31", {},
-                           False, out_dir / "windows.csv", out_dir / "windows.ics")
+                           False, out_dir / "windows.csv", out_dir / "windows.ics", keep_all=True)
         _print_summary(run.tally, "Demo: transit windows in 2027")
         spec, campaign_result, paths = _run_campaign(demo_file("campaign.toml"), None, out_dir)
         write_html(out_dir / "plan.html", html_page("vigil demo: windows of 2027 and a 30-year campaign",

@@ -5,12 +5,12 @@ from __future__ import annotations
 import logging
 import warnings
 from contextlib import contextmanager
-from pathlib import Path
 
 import typer
 from rich.console import Console
 
 from vigil.errors import ArgumentError, InputError
+from vigil.notes import warning_text
 
 # Names and every other user string are printed literally: no console markup, emoji codes or
 # highlighting is read from text (a target "Tamsin-7 [b]" keeps its brackets); styles are Text objects.
@@ -37,9 +37,7 @@ def setup_logging() -> None:
 def _library_warning(message, category, filename, lineno, file=None, line=None) -> None:
     """A warning of a library (numpy, ERFA, matplotlib, astropy) as one vigil note, never its raw
     two-line form with a source path; vigil's own checks should make these rare."""
-    text = " ".join(str(message).split())
-    source = Path(filename or "?").parent.name or Path(filename or "?").name
-    log.info("%s (%s, from %s)", text, category.__name__, source)
+    log.info("%s", warning_text(message, category, filename))
 
 
 @contextmanager

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import logging
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Iterable
 
 import pandas as pd
@@ -91,3 +92,32 @@ def beyond_earth_orientation(table_end_jd_utc: float, last_ut1_minus_utc_s: floa
                 "mean, and the fast engine takes UT1 = UTC throughout; the unforeseeable drift of UT1 (under a "
                 "second a year) moves rising, setting and twilight by about as much, and mid-times by far less",
                 table_end_jd_utc, end_jd_utc)
+
+
+def outside_earth_series(start_jd_utc: float, end_jd_utc: float) -> Note:
+    """Dates outside 1900-2100, where the Earth's position series was not fitted."""
+    return Note(("earth series",),
+                "dates from {start} to {end} lie outside 1900-2100, the years the Earth's position series (ERFA "
+                "epv00) was fitted to: BJD_TDB to UTC conversions there are less precise than within them",
+                start_jd_utc, end_jd_utc)
+
+
+def warning_text(message, category: type, filename: str | None) -> str:
+    """A library's warning (numpy, ERFA, matplotlib, astropy) in one line naming its kind and
+    the library's module folder, never its raw two-line form with a source path.
+
+    Examples
+    --------
+    >>> warning_text("invalid value\n encountered", RuntimeWarning, "/x/numpy/core/fromnumeric.py")
+    'invalid value encountered (RuntimeWarning, from core)'
+    """
+    text = " ".join(str(message).split())
+    source = Path(filename or "?").parent.name or Path(filename or "?").name
+    return f"{text} ({category.__name__}, from {source})"
+
+
+def library_warning(message, category: type, filename: str | None, start_jd_utc: float, end_jd_utc: float) -> Note:
+    """A library's warning given while planning the span [start, end] (JD UTC), as a note that
+    travels with the results (from worker processes too) and is said once."""
+    text = warning_text(message, category, filename)
+    return Note(("library warning", text), text.replace("{", "{{").replace("}", "}}"), start_jd_utc, end_jd_utc)

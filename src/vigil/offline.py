@@ -30,3 +30,6 @@ def configure_offline() -> None:
     warnings.filterwarnings("ignore", message=".*Tried to get polar motions.*")
     warnings.filterwarnings("ignore", category=iers.IERSDegradedAccuracyWarning)
     warnings.filterwarnings("ignore", message=".*dubious year.*")
+    # Past 2100 (or before 1900) the Earth's position series is used outside the years it was
+    # fitted to; vigil says so once in its own words (timescales.outside_earth_series_notes).
+    warnings.filterwarnings("ignore", message=r'.*"epv00".*outside\s*the range 1900-2100')

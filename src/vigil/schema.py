@@ -34,7 +34,7 @@ OBSERVABLE_END_JD_UTC = "observable_end_jd_utc"
 MERIDIAN_JD_UTC = "meridian_jd_utc"
 MERIDIAN_IN_TRANSIT = "meridian_in_transit"
 
-_DTYPES = {"float": "float64", "int": "int64", "bool": "bool", "text": "str", "utc": "datetime64[ns, UTC]"}
+_DTYPES = {"float": "float64", "int": "int64", "bool": "bool", "text": "str", "utc": "datetime64[s, UTC]"}
 
 
 class SchemaError(RuntimeError):

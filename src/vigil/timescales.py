@@ -148,20 +148,22 @@ def _earth_block(block: int) -> np.ndarray:
     """The Earth's barycentric position (au, ICRS axes; erfa.epv00) at nodes of JD TDB."""
     jd_tdb = block_nodes(block, EARTH_STEP_D)
     with warnings.catch_warnings():
-        warnings.simplefilter("ignore", erfa.ErfaWarning)  # said once, in vigil's words
+        warnings.simplefilter("ignore", erfa.ErfaWarning)  # said in vigil's words (outside_earth_series_notes)
         _, barycentric = erfa.epv00(jd_tdb, np.zeros_like(jd_tdb))
-    if not (_EPV00_SPAN_JD[0] <= jd_tdb).all() or not (jd_tdb <= _EPV00_SPAN_JD[1]).all():
-        _note_epv00_span()
     return np.ascontiguousarray(barycentric["p"])
 
 
-_EPV00_SPAN_JD = (2415020.5, 2488069.5)  # 1900-01-01 to 2100-01-01: the span the epv00 series was fitted to
+EARTH_SERIES_SPAN_JD = (2415020.5, 2488069.5)  # 1900-01-01 to 2100-01-01: the span the epv00 series was fitted to
 
 
-@lru_cache(maxsize=1)
-def _note_epv00_span() -> None:
-    log.info("dates outside 1900-2100: the Earth's position there comes from a series fitted to 1900-2100 "
-             "(ERFA epv00), so BJD_TDB to UTC conversions are less precise than within it")
+def outside_earth_series_notes(jd_utc_start: float, jd_utc_end: float) -> tuple[Note, ...]:
+    """A note when [start, end] (JD UTC) reaches outside the years the Earth's position series
+    (ERFA epv00, used by astropy and by the fast conversion) was fitted to; none otherwise."""
+    before, after = jd_utc_start < EARTH_SERIES_SPAN_JD[0], jd_utc_end > EARTH_SERIES_SPAN_JD[1]
+    if not (before or after):
+        return ()
+    return (notes.outside_earth_series(jd_utc_start if before else EARTH_SERIES_SPAN_JD[1],
+                                       jd_utc_end if after else EARTH_SERIES_SPAN_JD[0]),)
 
 
 # The Earth's barycentric position every day (< 4e-5 au interpolated, 20 ms of light).

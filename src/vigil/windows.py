@@ -17,6 +17,7 @@ from vigil.engines.protocol import Engine
 from vigil.ephemeris.projection import project_transits
 from vigil.errors import InputError
 from vigil.sites import Site
+from vigil.timescales import outside_earth_series_notes
 
 # Light from a target reaches the Earth up to 8.3 min before or after the barycentre;
 # transits are projected with this margin, then kept by their mid-time at the site.
@@ -50,7 +51,9 @@ def site_windows(transits: pd.DataFrame, site: Site, constraints: Constraints, s
     else:
         rows = np.flatnonzero((classified["coverage"] != "none").to_numpy())
         classified = classified.take(rows).reset_index(drop=True)
-    found = notes.merged(found, _lost_phase_notes(padded[~timed], constraints.sigma_k))
+    lo, hi = visibility.window_bounds(padded)
+    found = notes.merged(found, _lost_phase_notes(padded[~timed], constraints.sigma_k),
+                         outside_earth_series_notes(float(lo.min()), float(hi.max())))
     out = pd.concat([classified, conditions_of(rows)], axis=1)
     out[schema.MERIDIAN_IN_TRANSIT] = visibility.meridian_in_transit(out)
     return notes.attach(out, found)

@@ -21,3 +21,7 @@ GAST_MEEUS_12A = (2446895.5, (13, 10, 46.1351))
 # should agree with astropy's Time.light_travel_time to better than this (same source's advice).
 LIGHT_TRAVEL_TIME_SWING_MIN = 8.3
 LIGHT_TRAVEL_TIME_TOLERANCE_S = 1.0
+# The Earth's barycentric position and velocity series of SOFA/ERFA (iauEpv00, used by astropy
+# and by vigil's fast conversion) was fitted to the years 1900-2100 (its documentation, "Notes";
+# from memory); outside them it still runs, less precisely.
+EARTH_SERIES_FIT_YEARS = (1900, 2100)

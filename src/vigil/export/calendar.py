@@ -22,15 +22,17 @@ import hashlib
 import logging
 import os
 import uuid
+from contextlib import ExitStack, contextmanager
 from datetime import datetime, timezone
 from pathlib import Path
+from typing import Callable, Iterator
 
 import icalendar
 import numpy as np
 import pandas as pd
 
 from vigil.errors import InputError
-from vigil.export.files import write_atomic
+from vigil.export.files import atomic_stream
 from vigil.export.table import iso_utc
 from vigil.export.windows_csv import jd_view
 from vigil.hosts import overlap_groups
@@ -40,8 +42,11 @@ log = logging.getLogger("vigil")
 _UID_NAMESPACE = uuid.UUID("5f1c2b9e-3d4a-4e8f-9b6c-7a1d2e3f4b5c")
 SAFETY_NOTE = ("Plan only within the observatory's own rules for night work and Sun avoidance; "
                "times are predictions, not a substitute for them.")
+_CALENDAR_END = b"END:VCALENDAR\r\n"
 TIMES_KEY = "X-VIGIL-TIMES"  # digest of the event's times, to tell a revision from a rerun
 _TIME_COLUMNS = ("observable_start_jd_utc", "observable_end_jd_utc", "ingress_jd_utc", "mid_jd_utc", "egress_jd_utc")
+_WINDOW_COLUMNS = ("window_start_jd_utc", "window_end_jd_utc", "meridian_jd_utc")  # in the description only
+_ISO_PREFIX = "iso_"
 
 
 def event_uid(target: str, site: str, epoch, kind: str = "transit") -> str:
@@ -92,17 +97,14 @@ def run_stamp() -> datetime:
     return datetime.fromtimestamp(int(fixed), tz=timezone.utc)
 
 
-def _iso(jd_utc) -> str:
-    return iso_utc([jd_utc])[0]
-
-
-def _utc(jd_utc: float) -> datetime:
-    # Rounded to the second exactly as in the CSV, so both files show the same times.
-    return datetime.fromisoformat(_iso(jd_utc))
+def _iso(w, column: str) -> str:
+    """The row's time `column` (JD UTC) as ISO 8601 UTC text to the second, as in the CSV
+    (computed for the whole piece by `_observable_rows`)."""
+    return getattr(w, _ISO_PREFIX + column)
 
 
 def _times_digest(rows) -> str:
-    times = "|".join(_iso(getattr(w, c)) for w in rows for c in _TIME_COLUMNS)
+    times = "|".join(_iso(w, c) for w in rows for c in _TIME_COLUMNS)
     return hashlib.sha256(times.encode()).hexdigest()[:16]
 
 
@@ -115,20 +117,20 @@ def _conditions(w) -> str:
 
 
 def _meridian(w) -> list[str]:
-    meridian = getattr(w, "meridian_jd_utc", float("nan"))
-    if meridian != meridian:
+    meridian = getattr(w, _ISO_PREFIX + "meridian_jd_utc", "")
+    if not meridian:
         return []
     inside = " (inside the transit: a German equatorial mount flips during it)" if w.meridian_in_transit else ""
-    return [f"Meridian crossing {_iso(meridian)}{inside}"]
+    return [f"Meridian crossing {meridian}{inside}"]
 
 
 def _event_lines(w, kind: str) -> list[str]:
     return [
-        f"Observable {_iso(w.observable_start_jd_utc)} to {_iso(w.observable_end_jd_utc)}: coverage {w.coverage}, "
+        f"Observable {_iso(w, 'observable_start_jd_utc')} to {_iso(w, 'observable_end_jd_utc')}: coverage {w.coverage}, "
         f"{100 * w.observable_fraction:.0f}% of the {kind} observable",
-        f"Mid-{kind} {_iso(w.mid_jd_utc)} ± {w.mid_sigma_d * MINUTES_PER_DAY:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
-        f"Ingress {_iso(w.ingress_jd_utc)}, egress {_iso(w.egress_jd_utc)}",
-        f"Padded window (baseline and timing) {_iso(w.window_start_jd_utc)} to {_iso(w.window_end_jd_utc)}",
+        f"Mid-{kind} {_iso(w, 'mid_jd_utc')} ± {w.mid_sigma_d * MINUTES_PER_DAY:.1f} min (1σ); BJD_TDB {w.mid_bjd_tdb:.5f}",
+        f"Ingress {_iso(w, 'ingress_jd_utc')}, egress {_iso(w, 'egress_jd_utc')}",
+        f"Padded window (baseline and timing) {_iso(w, 'window_start_jd_utc')} to {_iso(w, 'window_end_jd_utc')}",
         *_meridian(w),
         _conditions(w),
         *(["Stale ephemeris: the timing padding exceeds the limit; refresh it (vigil refit)"] if w.stale else []),
@@ -143,22 +145,68 @@ def _describe(rows, kind: str, timezone_name: str | None = None) -> str:
     return "\n".join(lines)
 
 
+def _shared(w) -> bool:
+    """Does the window row share its pointing with planets of its host (`shared_with`)?"""
+    shared = getattr(w, "shared_with", "")
+    return isinstance(shared, str) and bool(shared)
+
+
 def _pointing_key(w) -> str:
     """Rows with one key whose windows overlap are one pointing (hosts.overlap_groups)."""
-    shared = getattr(w, "shared_with", "")
-    if not (isinstance(shared, str) and shared):
+    if not _shared(w):
         return f"{w.site}|{w.target}|{w.epoch}"
-    return f"{w.site}|" + "; ".join(sorted({w.target, *shared.split("; ")}))
+    return f"{w.site}|" + "; ".join(sorted({w.target, *w.shared_with.split("; ")}))
 
 
-def _pointings(windows: pd.DataFrame) -> list[list]:
-    """Window rows grouped by pointing: alone, or with the planets of its host it is shared with."""
-    rows = list(windows.itertuples(index=False))
+def _pointings(rows: list) -> list[list[int]]:
+    """Positions of the window rows (namedtuples, table order) grouped by pointing, each group
+    in row order and the groups in the order of their first rows: alone, or with the planets of
+    its host it is shared with."""
     if not rows:
         return []
-    groups = overlap_groups([_pointing_key(w) for w in rows], windows["window_start_jd_utc"],
-                            windows["window_end_jd_utc"])
-    return [[rows[i] for i in np.flatnonzero(groups == g)] for g in range(int(groups.max()) + 1)]
+    groups = overlap_groups([_pointing_key(w) for w in rows], [w.window_start_jd_utc for w in rows],
+                            [w.window_end_jd_utc for w in rows])
+    order = np.argsort(groups, kind="stable")
+    return np.split(order, np.flatnonzero(np.diff(groups[order])) + 1)
+
+
+def _observable_rows(windows: pd.DataFrame) -> list:
+    """The rows of the windows table that become events (some time observable), as namedtuples
+    with each time also as ISO text (`_iso`)."""
+    windows = jd_view(windows)
+    observable = windows[(windows["coverage"].astype(str) != "none") & windows["observable_start_jd_utc"].notna()]
+    times = [c for c in (*_TIME_COLUMNS, *_WINDOW_COLUMNS) if c in observable.columns]
+    texts = iso_utc(observable[times].to_numpy(dtype=float).ravel()).reshape(len(observable), len(times))
+    return list(observable.assign(**{_ISO_PREFIX + c: texts[:, i] for i, c in enumerate(times)}).itertuples(index=False))
+
+
+class _PointingQueue:
+    """Observable rows arriving piece by piece (table order), handed out as pointings once
+    complete: a pointing led by one piece may take rows of the next non-empty piece (windows
+    overlapping across the cut, as `hosts.mark_shared` finds them), so each piece's rows wait
+    for the next rows to come."""
+
+    def __init__(self):
+        self._waiting: list = []
+
+    def push(self, rows: list) -> list[list]:
+        """The pointings led by the waiting rows, now that the next `rows` are known (none: later)."""
+        if not rows:
+            return []
+        shared = [i for i, w in enumerate(rows) if _shared(w)]
+        table = self._waiting + [rows[i] for i in shared]
+        done, taken = [], set()
+        for group in _pointings(table):
+            if group[0] < len(self._waiting):
+                done.append([table[i] for i in group])
+                taken.update(shared[i - len(self._waiting)] for i in group if i >= len(self._waiting))
+        self._waiting = [w for i, w in enumerate(rows) if i not in taken]
+        return done
+
+    def flush(self) -> list[list]:
+        """The pointings of the rows still waiting (after the last piece)."""
+        table, self._waiting = self._waiting, []
+        return [[table[i] for i in group] for group in _pointings(table)]
 
 
 def _previous_revisions(path: Path | None) -> dict:
@@ -174,13 +222,8 @@ def _previous_revisions(path: Path | None) -> dict:
             for e in old.walk("VEVENT")}
 
 
-def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None, previous: dict | None = None
-                     ) -> icalendar.Calendar:
-    """One VEVENT per observable window row; `timezones` (site -> IANA zone) are named in the
-    descriptions; `previous` (from the calendar being replaced) carries SEQUENCE forward.
-
-    Example: ``windows_calendar(windows, {"mirador_sur": "America/Santiago"}).to_ical()``.
-    """
+def _calendar_head() -> icalendar.Calendar:
+    """The calendar's own properties, without events."""
     calendar = icalendar.Calendar()
     calendar.add("prodid", "-//vigil//transit windows//EN")
     calendar.add("version", "2.0")
@@ -188,40 +231,99 @@ def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None, previ
     calendar.add("name", "vigil observing windows")
     calendar.add("description", SAFETY_NOTE)
     calendar.add("x-wr-caldesc", SAFETY_NOTE)
-    stamp = run_stamp()
-    windows = jd_view(windows)
-    observable = windows[(windows["coverage"].astype(str) != "none") & windows["observable_start_jd_utc"].notna()]
-    for rows in _pointings(observable.reset_index(drop=True)):
-        w = rows[0]
-        kind = str(getattr(w, "event", "transit"))
-        names = " + ".join(r.target for r in rows)
-        uid = event_uid(names, w.site, "+".join(str(int(r.epoch)) for r in rows), kind)
-        digest = _times_digest(rows)
-        old_digest, sequence, modified = (previous or {}).get(uid, (digest, 0, None))
-        if old_digest != digest:
-            sequence, modified = sequence + 1, None
-        event = icalendar.Event()
-        event.add("uid", uid)
-        event.add("dtstamp", stamp)
-        event.add("sequence", sequence)
-        event.add("last-modified", modified or stamp)
-        event.add("dtstart", _utc(min(r.observable_start_jd_utc for r in rows)))
-        event.add("dtend", _utc(max(r.observable_end_jd_utc for r in rows)))
-        coverage = ", ".join(f"{r.coverage} {100 * r.observable_fraction:.0f}%" for r in rows)
-        stale = any(bool(r.stale) for r in rows)
-        event.add("summary", f"{names} {kind}{'s' if len(rows) > 1 else ''}, {coverage} ({w.site})"
-                             + (" STALE ephemeris" if stale else ""))
-        event.add("location", str(w.site))
-        event.add("description", _describe(rows, kind, (timezones or {}).get(w.site)))
-        event.add("categories", [kind, *dict.fromkeys(str(r.coverage) for r in rows)] + (["stale"] if stale else []))
-        event.add("transp", "TRANSPARENT")
-        event.add(TIMES_KEY, digest)
-        calendar.add_component(event)
+    return calendar
+
+
+def _event(rows: list, timezones: dict, previous: dict, stamp: datetime) -> icalendar.Event:
+    """The VEVENT of one pointing (its window rows)."""
+    w = rows[0]
+    kind = str(getattr(w, "event", "transit"))
+    names = " + ".join(r.target for r in rows)
+    uid = event_uid(names, w.site, "+".join(str(int(r.epoch)) for r in rows), kind)
+    digest = _times_digest(rows)
+    old_digest, sequence, modified = previous.get(uid, (digest, 0, None))
+    if old_digest != digest:
+        sequence, modified = sequence + 1, None
+    event = icalendar.Event()
+    event.add("uid", uid)
+    event.add("dtstamp", stamp)
+    event.add("sequence", sequence)
+    event.add("last-modified", modified or stamp)
+    # Rounded to the second exactly as in the CSV, so both files show the same times.
+    event.add("dtstart", datetime.fromisoformat(_iso(min(rows, key=lambda r: r.observable_start_jd_utc),
+                                                     "observable_start_jd_utc")))
+    event.add("dtend", datetime.fromisoformat(_iso(max(rows, key=lambda r: r.observable_end_jd_utc),
+                                                   "observable_end_jd_utc")))
+    coverage = ", ".join(f"{r.coverage} {100 * r.observable_fraction:.0f}%" for r in rows)
+    stale = any(bool(r.stale) for r in rows)
+    event.add("summary", f"{names} {kind}{'s' if len(rows) > 1 else ''}, {coverage} ({w.site})"
+                         + (" STALE ephemeris" if stale else ""))
+    event.add("location", str(w.site))
+    event.add("description", _describe(rows, kind, timezones.get(w.site)))
+    event.add("categories", [kind, *dict.fromkeys(str(r.coverage) for r in rows)] + (["stale"] if stale else []))
+    event.add("transp", "TRANSPARENT")
+    event.add(TIMES_KEY, digest)
+    return event
+
+
+def windows_calendar(windows: pd.DataFrame, timezones: dict | None = None, previous: dict | None = None
+                     ) -> icalendar.Calendar:
+    """One VEVENT per observable pointing of the windows table; `timezones` (site -> IANA zone)
+    are named in the descriptions; `previous` (from the calendar being replaced) carries
+    SEQUENCE forward.
+
+    Example: ``windows_calendar(windows, {"mirador_sur": "America/Santiago"}).to_ical()``.
+    """
+    calendar, stamp, queue = _calendar_head(), run_stamp(), _PointingQueue()
+    for rows in [*queue.push(_observable_rows(windows)), *queue.flush()]:
+        calendar.add_component(_event(rows, timezones or {}, previous or {}, stamp))
     return calendar
 
 
 def write_windows_ics(windows: pd.DataFrame, path, timezones: dict | None = None) -> None:
     """Write the windows calendar atomically (CRLF line ends, folded lines, escaped text); an
     earlier vigil calendar at `path` carries each unchanged event's SEQUENCE forward."""
-    calendar = windows_calendar(windows, timezones, _previous_revisions(path))
-    write_atomic(path, calendar.to_ical())
+    with windows_ics_writer(path, timezones) as add:
+        add(windows)
+
+
+@contextmanager
+def windows_ics_writer(path, timezones: dict | None = None) -> Iterator[Callable[[pd.DataFrame], None]]:
+    """A function that appends consecutive pieces of the windows table (vigil.sweep.iter_windows)
+    to the calendar at `path` as `write_windows_ics` writes it whole, holding about two pieces
+    at a time; the file appears only when the block ends without an error.
+
+    Examples
+    --------
+    >>> with windows_ics_writer("windows.ics") as add:  # doctest: +SKIP
+    ...     for piece in iter_windows(targets, sites, {}, start, end):
+    ...         add(piece)
+    """
+    with ExitStack() as opened:
+        calendar = _CalendarStream(lambda: opened.enter_context(atomic_stream(path)), path, timezones or {})
+        yield calendar.add
+        calendar.close()
+
+
+class _CalendarStream:
+    """The calendar written event by event as pointings complete. The file is opened, and the
+    calendar being replaced read, when the first piece comes (after any error in the input has
+    been reported, and after the outputs opened before it)."""
+
+    def __init__(self, open_stream: Callable, path, timezones: dict):
+        self._open, self._path, self._timezones = open_stream, path, timezones
+        self._stamp, self._queue, self._stream, self._previous = run_stamp(), _PointingQueue(), None, {}
+
+    def add(self, piece: pd.DataFrame) -> None:
+        self._write(self._queue.push(_observable_rows(piece)))
+
+    def close(self) -> None:
+        self._write(self._queue.flush())
+        self._stream.write(_CALENDAR_END)
+
+    def _write(self, pointings: list[list]) -> None:
+        if self._stream is None:
+            self._stream, self._previous = self._open(), _previous_revisions(self._path)
+            self._stream.write(_calendar_head().to_ical()[:-len(_CALENDAR_END)])
+        for rows in pointings:
+            self._stream.write(_event(rows, self._timezones, self._previous, self._stamp).to_ical())

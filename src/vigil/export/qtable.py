@@ -31,7 +31,7 @@ def to_qtable(table: pd.DataFrame) -> QTable:
 
 def _column(values: pd.Series, name: str):
     if isinstance(values.dtype, pd.DatetimeTZDtype):
-        when = values.dt.tz_convert("UTC").dt.tz_localize(None).to_numpy(dtype="datetime64[ns]")
+        when = values.dt.tz_convert("UTC").dt.tz_localize(None).to_numpy(dtype="datetime64[s]")
         return Time(np.ma.masked_where(np.isnat(when), when), scale="utc")
     if name.endswith("_bjd_tdb"):
         jd = values.to_numpy(dtype=float)

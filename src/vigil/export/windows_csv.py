@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from typing import Iterable
+from contextlib import contextmanager
+from typing import Callable, Iterator
 from zoneinfo import ZoneInfo
 
 import pandas as pd
@@ -30,10 +31,16 @@ DECIMALS = {schema.MID_BJD_TDB: 6, "mid_sigma_min": 2, schema.OBSERVABLE_FRACTIO
 
 
 def utc_datetimes(jd_utc) -> pd.Series:
-    """JD UTC as timezone-aware UTC datetimes (datetime64[ns, UTC]) rounded to the second as in
-    the CSV; NaT where the JD is NaN."""
-    return pd.Series(pd.to_datetime(iso_utc(jd_utc), utc=True, format="ISO8601", errors="coerce")
-                     ).astype("datetime64[ns, UTC]")
+    """JD UTC as timezone-aware UTC datetimes (datetime64[s, UTC]: every date vigil plans for,
+    1950-2300, fits) rounded to the second as in the CSV; NaT where the JD is NaN.
+
+    Examples
+    --------
+    >>> utc_datetimes([2561000.25, float("nan")]).tolist()
+    [Timestamp('2299-09-05 18:00:00+0000', tz='UTC'), NaT]
+    """
+    text = pd.Series(iso_utc(jd_utc), dtype=object).str.rstrip("Z").replace("", "NaT")
+    return pd.Series(text.to_numpy(dtype=object).astype("datetime64[s]")).dt.tz_localize("UTC")
 
 
 def windows_table(windows: pd.DataFrame) -> pd.DataFrame:
@@ -44,7 +51,7 @@ def windows_table(windows: pd.DataFrame) -> pd.DataFrame:
     Examples
     --------
     >>> windows_table(internal)["mid_utc"].dtype  # doctest: +SKIP
-    datetime64[ns, UTC]
+    datetime64[s, UTC]
     """
     if schema.MID_JD_UTC not in windows.columns:
         return schema.WINDOWS_OUT.check(windows)
@@ -90,24 +97,34 @@ def local_times(windows: pd.DataFrame, timezones: dict) -> pd.DataFrame:
 
 def write_windows_csv(windows: pd.DataFrame, path, timezones: dict | None = None) -> None:
     """Write the windows CSV atomically; with `timezones` (site -> IANA zone) add local-time columns."""
-    write_windows_csv_pieces([windows], path, timezones)
+    with windows_csv_writer(path, timezones) as add:
+        add(windows)
 
 
-def write_windows_csv_pieces(pieces: Iterable[pd.DataFrame], path, timezones: dict | None = None) -> None:
-    """Write the windows CSV from consecutive pieces of the table (vigil.sweep.iter_windows),
-    holding one piece at a time; the file appears only once every piece is written.
+@contextmanager
+def windows_csv_writer(path, timezones: dict | None = None) -> Iterator[Callable[[pd.DataFrame], None]]:
+    """A function that appends consecutive pieces of the windows table (vigil.sweep.iter_windows)
+    to the CSV at `path`, holding one piece at a time; the file appears only when the block ends
+    without an error.
 
     Examples
     --------
-    >>> write_windows_csv_pieces(iter_windows(targets, sites, {}, start, end), "windows.csv")  # doctest: +SKIP
+    >>> with windows_csv_writer("windows.csv") as add:  # doctest: +SKIP
+    ...     for piece in iter_windows(targets, sites, {}, start, end):
+    ...         add(piece)
     """
     with atomic_stream(path) as stream:
-        for number, piece in enumerate(pieces):
+        written = []
+
+        def add(piece: pd.DataFrame) -> None:
             windows = windows_table(piece)
             table = windows_for_export(windows)
             if timezones is not None:
                 table = pd.concat([table, local_times(windows, timezones)], axis=1)
-            stream.write(csv_bytes(table, header=number == 0))
+            stream.write(csv_bytes(table, header=not written))
+            written.append(True)
+
+        yield add
 
 
 def jd_view(windows: pd.DataFrame) -> pd.DataFrame:
