@@ -26,7 +26,8 @@ import numpy as np
 import pandas as pd
 
 from vigil.ephemeris.fitting import OUTLIER_RULE, ModelChoice, choose_model
-from vigil.ephemeris.models import EPOCH_ORIGIN_COLUMN, PolynomialEphemeris, target_ephemerides
+from vigil import schema
+from vigil.ephemeris.models import EPOCH_ORIGIN_COLUMN, QUADRATIC_COLUMNS, PolynomialEphemeris, target_ephemerides
 from vigil.errors import InputError
 from vigil.time_units import MINUTES_PER_DAY
 
@@ -41,7 +42,7 @@ DUPLICATE_RULE = "duplicate of an earlier row"
 TIMING_COLUMNS = ("target", "mid_bjd_tdb", "mid_err_d")
 EPHEMERIS_COLUMNS = ("name", "ra_deg", "dec_deg", "t0_bjd_tdb", EPOCH_ORIGIN_COLUMN, "t0_err_d", "period_d",
                      "period_err_d", "duration_h")
-FIT_COLUMNS = ("t0_period_cov_d2", "dp_dn_d", "dp_dn_err_d", "t0_dp_dn_cov_d2", "period_dp_dn_cov_d2", "model",
+FIT_COLUMNS = ("t0_period_cov_d2", *QUADRATIC_COLUMNS, "model",
                "dp_dt_ms_yr", "dp_dt_err_ms_yr", "delta_bic", "prior", "reduced_chi2", "n_timings", "n_outliers")
 
 
@@ -219,10 +220,10 @@ def _fit_values(fit: TargetRefit) -> dict:
     return {
         "t0_bjd_tdb": float(model.t0_bjd_tdb), EPOCH_ORIGIN_COLUMN: int(model.t0_epoch),
         "t0_err_d": float(model.t0_err_d), "period_d": float(model.period_d), "period_err_d": float(model.period_err_d),
-        "t0_period_cov_d2": float(c[0, 1]), "dp_dn_d": float(model.dp_dn_d) if quadratic else np.nan,
-        "dp_dn_err_d": float(model.dp_dn_err_d) if quadratic else np.nan,
-        "t0_dp_dn_cov_d2": float(c[0, 2]) if quadratic else np.nan,
-        "period_dp_dn_cov_d2": float(c[1, 2]) if quadratic else np.nan,
+        "t0_period_cov_d2": float(c[0, 1]), schema.DP_DN_D: float(model.dp_dn_d) if quadratic else np.nan,
+        schema.DP_DN_ERR_D: float(model.dp_dn_err_d) if quadratic else np.nan,
+        schema.T0_DP_DN_COV_D2: float(c[0, 2]) if quadratic else np.nan,
+        schema.PERIOD_DP_DN_COV_D2: float(c[1, 2]) if quadratic else np.nan,
         "model": "quadratic" if quadratic else "linear",
         "dp_dt_ms_yr": rate if quadratic else np.nan, "dp_dt_err_ms_yr": rate_err if quadratic else np.nan,
         "delta_bic": fit.choice.delta_bic, "prior": "catalogue" if fit.prior_used else "none",

@@ -16,6 +16,7 @@ import numpy as np
 import pandas as pd
 from astropy.time import Time
 
+from vigil import schema
 from vigil.ephemeris.models import PolynomialEphemeris, target_ephemerides
 from vigil.ephemeris.timing_checks import far_from_prediction
 from vigil.errors import InputError
@@ -27,8 +28,8 @@ def _with_model(targets: pd.DataFrame, i: int, model: PolynomialEphemeris) -> No
     values = {"t0_bjd_tdb": model.t0_bjd_tdb, "period_d": model.period_d, "t0_err_d": np.sqrt(max(c[0, 0], 0.0)),
               "period_err_d": np.sqrt(max(c[1, 1], 0.0)), "t0_period_cov_d2": c[0, 1]}
     if model.kind == "quadratic":
-        values.update({"dp_dn_d": model.dp_dn_d, "dp_dn_err_d": np.sqrt(max(c[2, 2], 0.0)),
-                       "t0_dp_dn_cov_d2": c[0, 2], "period_dp_dn_cov_d2": c[1, 2]})
+        values.update({schema.DP_DN_D: model.dp_dn_d, schema.DP_DN_ERR_D: np.sqrt(max(c[2, 2], 0.0)),
+                       schema.T0_DP_DN_COV_D2: c[0, 2], schema.PERIOD_DP_DN_COV_D2: c[1, 2]})
     for column, value in values.items():
         if column not in targets.columns:
             targets[column] = np.nan
