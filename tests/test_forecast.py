@@ -78,10 +78,11 @@ def test_visits_count_from_their_end():
     # starts first but ends last counts after a short one at another site. The goal needs 1.5
     # visits' worth, so it is met when the second visit to end is in.
     planet, star = _giant_bodies()
-    spec = campaign_spec(**PHOTON, start=Time(9.0, format="jd", scale="utc"))
+    origin = START.jd - 9.0  # a date in vigil's planning span; only the differences matter
+    spec = campaign_spec(**PHOTON, start=Time(origin + 9.0, format="jd", scale="utc"))
     spec = replace(spec, goal_resolution=_goal_resolution_for(3.0, spec))
-    visits = pd.DataFrame({"target": ["x", "x"], "site": ["a", "b"], "start_jd_utc": [10.0, 10.1],
-                           "end_jd_utc": [12.0, 10.3], "in_transit_h": [2.0, 2.0], "baseline_h": [2.0, 2.0],
+    visits = pd.DataFrame({"target": ["x", "x"], "site": ["a", "b"], "start_jd_utc": [origin + 10.0, origin + 10.1],
+                           "end_jd_utc": [origin + 12.0, origin + 10.3], "in_transit_h": [2.0, 2.0], "baseline_h": [2.0, 2.0],
                            "airmass": [1.0, 1.0], "moon_illumination": [0.0, 0.0], "moon_sep_deg": [90.0, 90.0],
                            "elevation_m": [0.0, 0.0], "ground": [True, True], "month": [1, 1]})
     result = forecast.target_forecast("x", forecast.Body(planet, star), spec, visits, np.ones((1, 2), dtype=bool), True)

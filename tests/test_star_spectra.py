@@ -323,3 +323,9 @@ def test_campaign_says_which_stars_shine_with_their_own_spectrum(model_file):
            "model" in said
     assert not any("own spectrum" in text or "star's light" in text for text in
                    (note.text() for note in run(campaign_spec(), targets_table({})).notes))
+
+
+def test_a_table_built_in_python_names_spectra_from_the_working_directory(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    targets = read_targets(pd.DataFrame([{**GIANT, "star_spectrum_file": "spectra/giant.ecsv"}]))
+    assert Path(targets["star_spectrum_file"].iloc[0]) == tmp_path / "spectra" / "giant.ecsv"

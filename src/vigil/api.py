@@ -8,6 +8,7 @@ datetimes and BJD_TDB as float days; `vigil.to_qtable` turns any of them into an
 
 from __future__ import annotations
 
+import dataclasses
 from pathlib import Path
 from typing import Callable
 
@@ -310,7 +311,7 @@ def read_campaign(path) -> CampaignSpec:
 
 def run_campaign(campaign, targets=None, sites=None, *, target: str | None = None, strict: bool = False,
                  exact: bool = False, jobs: int = 1, scheduler: str | None = None, chunk_dir=None,
-                 on_progress: Callable[[int], None] | None = None) -> CampaignOutcome:
+                 on_progress: Callable[[int], None] | None = None, **changes) -> CampaignOutcome:
     """Simulate a multi-year campaign and forecast when each stacked spectrum reaches the goal.
 
     Parameters
@@ -324,6 +325,10 @@ def run_campaign(campaign, targets=None, sites=None, *, target: str | None = Non
     strict, exact, jobs, scheduler, chunk_dir
         As for `read_targets` and `plan_windows`.
     on_progress : callable(trials_done), optional
+    **changes
+        CampaignSpec fields to change (e.g. ``trials=50, horizon_years=5``), checked as the
+        spec's own values are: a bad value raises `ArgumentError` naming the field, an unknown
+        name a `TypeError` with a suggestion.
 
     Returns
     -------
@@ -335,7 +340,11 @@ def run_campaign(campaign, targets=None, sites=None, *, target: str | None = Non
     >>> outcome = vigil.run_campaign("campaign.toml", target="Tamsin-7 b")  # doctest: +SKIP
     >>> outcome.summary[["target", "years_to_goal_p50", "limited_by"]]  # doctest: +SKIP
     """
-    spec = campaign if isinstance(campaign, CampaignSpec) else read_campaign(campaign)
+    spec = _campaign_spec(campaign, changes)
+    if targets is None and spec.targets_file is None:
+        raise ArgumentError("targets", "required: the campaign names no targets_file")
+    if sites is None and spec.sites_file is None:
+        raise ArgumentError("sites", "required: the campaign names no sites_file")
     targets = read_targets(spec.targets_file if targets is None else targets, format=spec.targets_options.format,
                            columns=spec.targets_options.columns, strict=strict, ephemeris_table=spec.ephemeris_table,
                            extrapolate_table=spec.extrapolate_table)
@@ -351,6 +360,16 @@ def run_campaign(campaign, targets=None, sites=None, *, target: str | None = Non
                                    chunk_dir=workers.chunk_dir, left_out=left_out if target is not None else ())
     notes.report(result.notes)
     return CampaignOutcome(spec, result)
+
+
+def _campaign_spec(campaign, changes: dict) -> CampaignSpec:
+    """The CampaignSpec of a file or spec with `changes` made (and checked)."""
+    spec = campaign if isinstance(campaign, CampaignSpec) else read_campaign(campaign)
+    known = [f.name for f in dataclasses.fields(CampaignSpec)]
+    for name in changes:
+        if name not in known:
+            raise unknown_name_error("campaign setting", name, known)
+    return dataclasses.replace(spec, **changes) if changes else spec
 
 
 def write_windows_csv(windows: pd.DataFrame, path, sites=None) -> None:

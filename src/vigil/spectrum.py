@@ -18,7 +18,8 @@ import numpy as np
 from astropy import constants as const
 
 from vigil import passbands
-from vigil.errors import InputError
+from vigil.errors import ArgumentError, InputError
+from vigil.textfile import number_in_range
 
 _K_B_J_K = const.k_B.si.value
 _M_U_KG = const.u.si.value
@@ -134,23 +135,21 @@ class Instrument:
     noise_floor_ppm: float = 0.0
 
     def __post_init__(self) -> None:
-        _require_positive("instrument aperture_m", self.aperture_m)
-        _require_positive("instrument throughput", self.throughput)
-        _require_positive("instrument wavelength_min_um", self.wavelength_min_um)
-        _require_positive("instrument wavelength_max_um", self.wavelength_max_um)
-        if not (_is_finite_number(self.central_obstruction) and 0 <= self.central_obstruction < 1):
-            raise InputError(
-                f"instrument central_obstruction: expected a diameter fraction in [0, 1), got {self.central_obstruction!r}"
-            )
-        if self.throughput > 1:
-            raise InputError(f"instrument throughput: expected a fraction in (0, 1], got {self.throughput!r}")
+        for field, (low, high, unit) in INSTRUMENT_RANGES.items():
+            try:
+                number_in_range(field, getattr(self, field), low, high, unit)
+            except InputError as exc:
+                raise ArgumentError(field, str(exc).split(": ", 1)[1]) from None
         if self.wavelength_max_um <= self.wavelength_min_um:
-            raise InputError(
-                "instrument wavelength_max_um: expected > wavelength_min_um, "
-                f"got {self.wavelength_max_um!r} <= {self.wavelength_min_um!r}"
-            )
-        if not (_is_finite_number(self.noise_floor_ppm) and self.noise_floor_ppm >= 0):
-            raise InputError(f"instrument noise_floor_ppm: expected a finite number >= 0, got {self.noise_floor_ppm!r}")
+            raise ArgumentError("wavelength_max_um", f"expected > wavelength_min_um, got {self.wavelength_max_um!r} "
+                                                     f"<= {self.wavelength_min_um!r}")
+
+
+#: Instrument fields: the (low, high, unit) a value must lie in (wide limits of real instruments,
+#: common practice, no source); bad values are an ArgumentError naming the field.
+INSTRUMENT_RANGES = {"aperture_m": (0.01, 100.0, "m"), "central_obstruction": (0.0, 0.99, ""),
+                     "throughput": (1e-6, 1.0, ""), "wavelength_min_um": (0.1, 30.0, "um"),
+                     "wavelength_max_um": (0.1, 30.0, "um"), "noise_floor_ppm": (0.0, 1e5, "ppm")}
 
 
 # --- planet and atmosphere ---------------------------------------------------------------

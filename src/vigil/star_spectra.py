@@ -157,7 +157,7 @@ def read_star_spectrum(path: str | Path) -> StarSpectrum:
 
     Examples
     --------
-    >>> spectrum = read_star_spectrum("examples/star_spectra/example.csv")  # doctest: +SKIP
+    >>> spectrum = read_star_spectrum("examples/star_spectrum.ecsv")  # doctest: +SKIP
     >>> spectrum.wavelength_um[:2], spectrum.flux_w_m2_um[:2]  # doctest: +SKIP
     """
     path = Path(path)

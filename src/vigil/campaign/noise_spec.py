@@ -1,5 +1,5 @@
-"""The campaign file's noise-budget keys: [instrument] noise settings, [goal] bin_fraction and
-[scenarios.NAME] atmospheres. Every problem is one InputError line naming the file and key.
+"""The campaign file's noise-budget keys: [instrument] noise settings and [scenarios.NAME]
+atmospheres. Every problem is one InputError line naming the file and key.
 
 ``[instrument] kind = "ground" | "space"`` picks the documented defaults (noise_model.GROUND,
 noise_model.SPACE) for the keys not given; a file without ``kind`` (written before the budget
@@ -90,14 +90,6 @@ def read_noise(path: Path, table: dict, sites_file: Path, site_names: tuple[str,
         return replace(base, **given)
     except InputError as exc:
         raise InputError(f"{path}: [instrument] {exc}") from None
-
-
-def read_bin_fraction(path: Path, goal: dict) -> float:
-    """[goal] bin_fraction: share of usable bins that must reach the SNR (default 1, all)."""
-    value = goal.get("bin_fraction", 1.0)
-    if not (isinstance(value, (int, float)) and not isinstance(value, bool) and 0 < value <= 1):
-        raise InputError(f"{path}: [goal] bin_fraction: expected a number above 0 and at most 1, got {value!r}")
-    return float(value)
 
 
 def read_scenarios(path: Path, document: dict) -> tuple[scenarios.Scenario, ...]:

@@ -1,11 +1,14 @@
-"""Read and validate a campaign file (TOML) into a CampaignSpec.
+"""A campaign's settings (CampaignSpec) and the campaign file (TOML) that fills them.
 
-Paths inside the file are relative to the file's own folder. Every problem is one InputError
-line naming the file and the key.
+Every way into a campaign (this file reader, a CampaignSpec built in Python,
+dataclasses.replace) goes through one validation, vigil.campaign.spec_checks. Paths inside
+the file are relative to the file's own folder. Every problem is one InputError line naming
+the file and the key.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import logging
 from dataclasses import dataclass, field
 from datetime import date, datetime, timezone
@@ -13,23 +16,17 @@ from pathlib import Path
 
 from astropy.time import Time
 
-from vigil.timescales import FIRST_PLAN_YEAR, LAST_PLAN_YEAR, check_plan_date
 from vigil import noise_model
-from vigil.campaign import noise_spec
-from vigil.constraints import CONSTRAINT_KEYS, checked_constraints
-from vigil.ephemeris.table import read_ephemeris_table
-from vigil.textfile import did_you_mean, load_toml, number_in_range, spelling_hint
-from vigil.errors import InputError
+from vigil.campaign import noise_spec, spec_checks
+from vigil.constraints import CONSTRAINT_KEYS
+from vigil.textfile import did_you_mean, load_toml, spelling_hint
+from vigil.errors import ArgumentError, InputError
 from vigil.scenarios import DEFAULT_SCENARIOS, Scenario
-from vigil.table_formats import FORMATS
 from vigil.target_source import CatalogueOptions
-from vigil.schema import COVERAGE_CLASSES
 from vigil.spectrum import Instrument
 from vigil.time_units import DAYS_PER_JULIAN_YEAR, MINUTES_PER_DAY
 
 log = logging.getLogger("vigil")
-MONTHS = 12
-FIRST_START_YEAR, LAST_START_YEAR = FIRST_PLAN_YEAR, LAST_PLAN_YEAR
 KNOWN = {
     "campaign": {"start", "horizon_years", "targets", "sites_file", "sites", "trials", "seed", "coverage",
                  "min_fraction", "min_altitude_deg", "twilight", "baseline_h", "sigma_k", "moon_sep_deg", "journal",
@@ -48,7 +45,58 @@ REQUIRED_KEYS = {"start", "targets", "sites_file", "sites", "aperture_m", "throu
 
 @dataclass(frozen=True)
 class CampaignSpec:
-    """Everything a campaign simulation needs besides the targets and sites themselves."""
+    """Everything a campaign simulation needs besides the targets and sites themselves.
+
+    Built by `read_campaign` from a file, or directly in Python; either way (and after
+    `dataclasses.replace`) the values are checked on construction (vigil.campaign.spec_checks)
+    and a bad one raises `vigil.errors.ArgumentError` naming the field.
+
+    Parameters
+    ----------
+    start : astropy Time, ISO string (UTC) or timezone-aware datetime
+        First night of the campaign (stored as a UTC Time).
+    horizon_years : float
+        Length of the campaign in Julian years (0.1 to 200).
+    targets_file, sites_file : str or Path, optional
+        The catalogue and sites TOML (None when both are passed to `vigil.run_campaign`).
+    site_names : sequence of str
+        The sites observed, each once (and in `sites_file` when that is readable).
+    clear_fraction : dict
+        Per site, 12 monthly clear-night fractions in [0, 1], January first.
+    instrument : vigil.spectrum.Instrument
+    goal_resolution, goal_snr : float
+        Spectral resolution (1 to 1e6) and SNR per bin (0.1 to 1e4) to reach.
+    trials, seed : int
+        Weather trials (1 to 100000) and the random seed.
+    coverage : sequence of {"full", "ingress", "egress", "partial"}
+    min_fraction : float
+        Least observable share of the transit (0 to 1).
+    per_target_per_semester, per_site_per_semester : int, optional
+        Allocation caps on visits.
+    overhead_h : float
+        Telescope hours added to each visit (0 to 24).
+    constraints : dict
+        Some of min_altitude_deg, twilight, baseline_h, sigma_k, moon_sep_deg (the sites' defaults
+        for the rest).
+    journal_file : str or Path, optional
+    noise : vigil.noise_model.NoiseModel
+    goal_bin_fraction : float
+        Share of usable bins that must reach the SNR (above 0, at most 1).
+    scenarios : tuple of vigil.scenarios.Scenario
+    targets_options : vigil.target_source.CatalogueOptions
+    refresh_every_years : float, optional
+        A planned ephemeris refresh every so many years (0.1 to 100), each a timing of
+        `refresh_timing_err_d` days (0.01 to 600 minutes).
+    ephemeris_table : str or Path, optional
+        A per-epoch table of predicted mid-times (as `vigil windows --ephemeris-table` reads
+        it) for the targets it names; `extrapolate_table` continues it beyond its span.
+
+    Examples
+    --------
+    >>> spec = dataclasses.replace(vigil.read_campaign("campaign.toml"), trials=4.5)  # doctest: +SKIP
+    Traceback (most recent call last):
+    vigil.errors.ArgumentError: trials: expected a whole number from 1 to 100000, got 4.5
+    """
 
     start: Time
     horizon_years: float
@@ -77,31 +125,24 @@ class CampaignSpec:
     ephemeris_table: Path | None = None
     extrapolate_table: bool = False
 
+    def __post_init__(self) -> None:
+        given = {f.name: getattr(self, f.name) for f in dataclasses.fields(self)}
+        for name, value in spec_checks.checked_fields(given).items():
+            object.__setattr__(self, name, value)  # normalised: floats, tuples, Paths, a UTC Time
+
     @property
     def end(self) -> Time:
         return Time(self.start.jd + self.horizon_years * DAYS_PER_JULIAN_YEAR, format="jd", scale="utc")
 
 
-def _expected(kind, low, high, unit: str) -> str:
-    words = {str: "text in quotes", int: "a whole number", list: "a list [...]", bool: "true or false"}.get(kind, "a number")
-    return f"{words} from {low:g} to {high:g}{unit}" if low is not None else words
-
-
-def _get(path: Path, table: dict, section: str, key: str, kind, low=None, high=None, default=..., unit: str = ""):
-    if key not in table:
-        if default is ...:
-            hint = spelling_hint([key], set(table) - (KNOWN.get(section) or set()))
-            raise InputError(f"{path}: [{section}] {key}: required, {_expected(kind, low, high, unit)}{hint}")
-        return default
-    value = table[key]
-    if kind == (int, float) and low is not None:
-        return number_in_range(f"{path}: [{section}] {key}", value, low, high, unit.strip())
-    ok = isinstance(value, kind) and (kind is bool or not isinstance(value, bool))
-    if ok and low is not None and not low <= value <= high:
-        ok = False
-    if not ok:
-        raise InputError(f"{path}: [{section}] {key}: expected {_expected(kind, low, high, unit)}, got {value!r}")
-    return value
+def _key(path: Path, table: dict, section: str, key: str, default=...):
+    """The value of `key` in [section], or `default`; a missing required key is an error."""
+    if key in table:
+        return table[key]
+    if default is ...:
+        hint = spelling_hint([key], set(table) - (KNOWN.get(section) or set()))
+        raise InputError(f"{path}: [{section}] {key}: required{hint}")
+    return default
 
 
 def _table(path: Path, document: dict, section: str, required: bool = True) -> dict:
@@ -130,117 +171,54 @@ def _warn_unknown(path: Path, document: dict, sites: tuple[str, ...]) -> None:
             log.warning("%s: [weather.%s] ignored: %r is not in [campaign] sites", path, site, site)
 
 
-def _weather(path: Path, document: dict, sites: tuple[str, ...]) -> dict:
+def _weather(path: Path, document: dict) -> dict:
+    """clear_fraction of each [weather.SITE] table that gives one."""
     table = _table(path, document, "weather", required=False)
-    fractions = {}
-    for site in sites:
-        entry = table.get(site, {})
-        values = entry.get("clear_fraction") if isinstance(entry, dict) else None
-        if values is None:
-            hint = spelling_hint(["clear_fraction"], entry) if isinstance(entry, dict) else ""
-            raise InputError(f"{path}: [weather.{site}] clear_fraction: required, 12 monthly fractions (Jan..Dec){hint}")
-        if (not isinstance(values, list) or len(values) != MONTHS
-                or not all(isinstance(v, (int, float)) and not isinstance(v, bool) and 0 <= v <= 1 for v in values)):
-            raise InputError(f"{path}: [weather.{site}] clear_fraction: expected 12 numbers from 0 to 1, got {values!r}")
-        fractions[site] = tuple(float(v) for v in values)
-    return fractions
+    return {site: entry["clear_fraction"] for site, entry in table.items()
+            if isinstance(entry, dict) and "clear_fraction" in entry}
 
 
 def _instrument(path: Path, table: dict) -> Instrument:
-    number = (int, float)
+    given = {key: _key(path, table, "instrument", key, 0.0 if key in ("central_obstruction", "noise_floor_ppm") else ...)
+             for key in ("aperture_m", "central_obstruction", "throughput", "wavelength_min_um", "wavelength_max_um",
+                         "noise_floor_ppm")}
     try:
-        return Instrument(
-            aperture_m=float(_get(path, table, "instrument", "aperture_m", number, 0.01, 100.0, unit=" m")),
-            central_obstruction=float(_get(path, table, "instrument", "central_obstruction", number, 0.0, 0.99, 0.0)),
-            throughput=float(_get(path, table, "instrument", "throughput", number, 1e-6, 1.0)),
-            wavelength_min_um=float(_get(path, table, "instrument", "wavelength_min_um", number, 0.1, 30.0, unit=" um")),
-            wavelength_max_um=float(_get(path, table, "instrument", "wavelength_max_um", number, 0.1, 30.0, unit=" um")),
-            noise_floor_ppm=float(_get(path, table, "instrument", "noise_floor_ppm", number, 0.0, 1e5, 0.0, unit=" ppm")),
-        )
-    except InputError as exc:
-        message = str(exc)
-        if message.startswith(str(path)):
-            raise
-        raise InputError(f"{path}: [instrument] {message.removeprefix('instrument ')}") from None
+        return Instrument(**given)
+    except ArgumentError as exc:
+        raise InputError(f"{path}: [instrument] {exc}") from None
 
 
-def _start(path: Path, c: dict) -> Time:
-    """The campaign start (UTC) from a quoted date or a TOML date or date-time."""
-    expected = f"a UTC date from {FIRST_START_YEAR} to {LAST_START_YEAR} such as 2027-01-01"
-    if "start" not in c:
-        raise InputError(f"{path}: [campaign] start: required, {expected}")
+def _start(c: dict):
+    """The start as written, a TOML date or date-time as ISO text in UTC."""
     value = c["start"]
     if isinstance(value, datetime) and value.tzinfo is not None:
         value = value.astimezone(timezone.utc).replace(tzinfo=None)
-    text = value.isoformat() if isinstance(value, date) else value
-    try:
-        start = Time(text, scale="utc") if isinstance(text, str) else None
-    except ValueError:
-        start = None
-    if start is None or not FIRST_START_YEAR <= start.ymdhms["year"] <= LAST_START_YEAR:
-        raise InputError(f"{path}: [campaign] start: expected {expected}, got {c['start']!r}")
-    return start
+    return value.isoformat() if isinstance(value, date) else value
 
 
-def _sites(path: Path, c: dict) -> tuple[str, ...]:
-    sites = _get(path, c, "campaign", "sites", list)
-    if not sites or not all(isinstance(s, str) for s in sites):
-        raise InputError(f"{path}: [campaign] sites: expected a list of site names, got {sites!r}")
-    twice = next((s for i, s in enumerate(sites) if s in sites[:i]), None)
-    if twice is not None:
-        raise InputError(f"{path}: [campaign] sites: {twice!r} is listed twice")
-    return tuple(sites)
-
-
-def _check_sites_known(path: Path, sites_file: Path, names: tuple[str, ...]) -> None:
-    """Name the [campaign] key when a site is missing from a readable sites file; problems of
-    the sites file itself are left to catalog.read_sites."""
-    try:
-        known = load_toml(sites_file).get("sites")
-    except InputError:
-        return
-    if not isinstance(known, dict) or not known:
-        return
-    for name in names:
-        if name not in known:
-            raise InputError(f"{path}: [campaign] sites: {name!r} is not a site of {sites_file}"
-                             f"{did_you_mean(name, known)}; expected one of {', '.join(known)}")
+def _relative(path: Path, value):
+    """A path written in the file, relative to the file's folder (other values as written)."""
+    return path.parent / value if isinstance(value, str) else value
 
 
 def _refresh(path: Path, table: dict) -> dict:
     """Planned ephemeris refreshes: one timing per target every N years, of the given precision."""
     if not table:
         return {}
-    every = float(_get(path, table, "refresh", "every_years", (int, float), 0.1, 100.0, default=..., unit=" years"))
-    error_min = float(_get(path, table, "refresh", "timing_err_min", (int, float), 0.01, 600.0, default=..., unit=" minutes"))
-    return {"refresh_every_years": every, "refresh_timing_err_d": error_min / MINUTES_PER_DAY}
+    minutes = _key(path, table, "refresh", "timing_err_min")
+    number = isinstance(minutes, (int, float)) and not isinstance(minutes, bool)
+    return {"refresh_every_years": _key(path, table, "refresh", "every_years"),
+            "refresh_timing_err_d": minutes / MINUTES_PER_DAY if number else minutes}
 
 
-def _targets_options(path: Path, c: dict) -> CatalogueOptions:
-    """targets_format (csv, ecsv, votable, ipac; default by extension) and targets_columns (a
-    column mapping TOML, relative to the campaign file) of the targets catalogue."""
-    fmt = _get(path, c, "campaign", "targets_format", str, default=None)
-    if fmt is not None and fmt.lower() not in FORMATS:
-        raise InputError(f"{path}: [campaign] targets_format: expected one of {', '.join(FORMATS)}, got {fmt!r}")
-    columns = _get(path, c, "campaign", "targets_columns", str, default=None)
-    return CatalogueOptions(format=fmt, columns=path.parent / columns if columns else None)
-
-
-def _ephemeris_table(path: Path, c: dict) -> dict:
-    """ephemeris_table (a per-epoch table CSV, relative to the campaign file, read as `vigil windows
-    --ephemeris-table` reads it) and extrapolate_table (true or false, default false)."""
-    name = _get(path, c, "campaign", "ephemeris_table", str, default=None)
-    extrapolate = _get(path, c, "campaign", "extrapolate_table", bool, default=False)
-    if name is None:
-        if extrapolate:
-            raise InputError(f"{path}: [campaign] extrapolate_table: needs ephemeris_table, the table to extrapolate")
-        return {}
-    table = path.parent / name
-    try:
-        read_ephemeris_table(table, extrapolate)
-    except InputError as exc:
-        raise InputError(f"{path}: [campaign] ephemeris_table: {exc}") from None
-    return {"ephemeris_table": table, "extrapolate_table": extrapolate}
+def _in_file(path: Path, document: dict, exc: ArgumentError) -> InputError:
+    """A field's error as the file's "[section] key" error (with a spelling hint for a missing
+    weather entry)."""
+    hint = ""
+    if exc.argument.startswith("clear_fraction[") and exc.detail.startswith("required"):
+        entry = document.get("weather", {}).get(exc.argument[len("clear_fraction['"):-2])
+        hint = spelling_hint(["clear_fraction"], entry) if isinstance(entry, dict) else ""
+    return InputError(f"{path}: {spec_checks.file_key(exc.argument)}: {exc.detail}{hint}")
 
 
 def read_campaign(path: str | Path) -> CampaignSpec:
@@ -250,45 +228,45 @@ def read_campaign(path: str | Path) -> CampaignSpec:
     c = document.get("campaign")
     if not isinstance(c, dict):
         raise InputError(f"{path}: [campaign] table missing; expected [campaign] start, targets, sites_file, sites")
-    sites = _sites(path, c)
-    coverage = tuple(_get(path, c, "campaign", "coverage", list, default=["full"]))
-    bad = [k for k in coverage if k not in COVERAGE_CLASSES[:-1]]
-    if bad or not coverage:
-        raise InputError(f"{path}: [campaign] coverage: expected some of full, ingress, egress, partial; got {coverage!r}")
+    for key in ("start", "sites", "targets", "sites_file"):
+        _key(path, c, "campaign", key)
     allocation = _table(path, document, "allocation", required=False)
     goal = _table(path, document, "goal")
-    sites_file = path.parent / _get(path, c, "campaign", "sites_file", str)
-    _check_sites_known(path, sites_file, sites)
     instrument = _table(path, document, "instrument")
-    constraints = {k: c[k] for k in CONSTRAINT_KEYS if k in c}
-    spec = CampaignSpec(
-        start=_start(path, c),
-        horizon_years=float(_get(path, c, "campaign", "horizon_years", (int, float), 0.1, 200.0, 30, " years")),
-        targets_file=path.parent / _get(path, c, "campaign", "targets", str),
-        sites_file=sites_file,
-        site_names=sites,
-        clear_fraction=_weather(path, document, sites),
-        instrument=_instrument(path, instrument),
-        noise=noise_spec.read_noise(path, instrument, sites_file, sites),
-        goal_bin_fraction=noise_spec.read_bin_fraction(path, goal),
-        scenarios=noise_spec.read_scenarios(path, document),
-        goal_resolution=float(_get(path, goal, "goal", "resolution", (int, float), 1.0, 1e6)),
-        goal_snr=float(_get(path, goal, "goal", "snr", (int, float), 0.1, 1e4)),
-        trials=int(_get(path, c, "campaign", "trials", int, 1, 100_000, 200)),
-        seed=int(_get(path, c, "campaign", "seed", int, 0, 2**63 - 1, 0)),
-        coverage=coverage,
-        min_fraction=float(_get(path, c, "campaign", "min_fraction", (int, float), 0.0, 1.0, 0.0)),
-        per_target_per_semester=_get(path, allocation, "allocation", "per_target_per_semester", int, 0, 10_000, None),
-        per_site_per_semester=_get(path, allocation, "allocation", "per_site_per_semester", int, 0, 100_000, None),
-        overhead_h=float(_get(path, allocation, "allocation", "overhead_h", (int, float), 0.0, 24.0, 0.0, " hours")),
-        constraints=checked_constraints(f"{path}: [campaign]", constraints),
-        journal_file=path.parent / c["journal"] if _get(path, c, "campaign", "journal", str, default=None) else None,
-        targets_options=_targets_options(path, c),
-        **_ephemeris_table(path, c),
-        **_refresh(path, _table(path, document, "refresh", required=False)),
-    )
-    check_plan_date(spec.end, f"{path}: [campaign] horizon_years: the campaign's end ({spec.horizon_years:g} years "
-                              "after the start)")
-    _warn_unknown(path, document, sites)
+    sites = c["sites"]
+    sites_file = _relative(path, c["sites_file"])
+    clean_sites = tuple(s for s in sites if isinstance(s, str)) if isinstance(sites, list) else ()
+    try:
+        spec = CampaignSpec(
+            start=_start(c),
+            horizon_years=c.get("horizon_years", 30),
+            targets_file=_relative(path, c["targets"]),
+            sites_file=sites_file,
+            site_names=sites,
+            clear_fraction=_weather(path, document),
+            instrument=_instrument(path, instrument),
+            noise=noise_spec.read_noise(path, instrument, sites_file, clean_sites),
+            goal_bin_fraction=goal.get("bin_fraction", 1.0),
+            scenarios=noise_spec.read_scenarios(path, document),
+            goal_resolution=_key(path, goal, "goal", "resolution"),
+            goal_snr=_key(path, goal, "goal", "snr"),
+            trials=c.get("trials", 200),
+            seed=c.get("seed", 0),
+            coverage=c.get("coverage", ["full"]),
+            min_fraction=c.get("min_fraction", 0.0),
+            per_target_per_semester=allocation.get("per_target_per_semester"),
+            per_site_per_semester=allocation.get("per_site_per_semester"),
+            overhead_h=allocation.get("overhead_h", 0.0),
+            constraints={k: c[k] for k in CONSTRAINT_KEYS if k in c},
+            journal_file=_relative(path, c.get("journal") or None),
+            targets_options=CatalogueOptions(format=c.get("targets_format"),
+                                             columns=_relative(path, c.get("targets_columns"))),
+            ephemeris_table=_relative(path, c.get("ephemeris_table")),
+            extrapolate_table=c.get("extrapolate_table", False),
+            **_refresh(path, _table(path, document, "refresh", required=False)),
+        )
+    except ArgumentError as exc:
+        raise _in_file(path, document, exc) from None
+    _warn_unknown(path, document, spec.site_names)
     noise_spec.warn_assumed(path, instrument, spec.noise)
     return spec
