@@ -245,12 +245,16 @@ def test_conditions_at_mid_agree(paired):
     worst_alt = np.max(np.abs(table["alt_mid_deg"] - table["alt_mid_deg_ref"])[up])
     worst_sun = np.max(np.abs(table["sun_alt_mid_deg"] - table["sun_alt_mid_deg_ref"]))
     worst_moon = np.max(np.abs(table["moon_sep_deg"] - table["moon_sep_deg_ref"]))
+    # moon_alt_mid_deg: geometric altitude of the topocentric Moon's centre (astropy AltAz, no refraction).
+    worst_moon_alt = np.max(np.abs(table["moon_alt_mid_deg"] - table["moon_alt_mid_deg_ref"]))
     print(f"at mid-transit: altitude {worst_alt:.4f} deg (above {ALT_COMPARED_ABOVE_DEG} deg), "
-          f"Sun {worst_sun:.4f} deg, Moon separation {worst_moon:.4f} deg")
+          f"Sun {worst_sun:.4f} deg, Moon separation {worst_moon:.4f} deg, Moon altitude {worst_moon_alt:.4f} deg")
     assert up.sum() > 50
     assert worst_alt < ALT_TOLERANCE_DEG
     assert worst_sun < ALT_TOLERANCE_DEG
     assert worst_moon < MOON_TOLERANCE_DEG
+    assert worst_moon_alt < MOON_TOLERANCE_DEG
+    assert (table["moon_alt_mid_deg_ref"] < 0).any() and (table["moon_alt_mid_deg_ref"] > 0).any()
 
 
 # --- tabulated positions -------------------------------------------------------------------

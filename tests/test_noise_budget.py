@@ -85,6 +85,26 @@ def test_dark_sky_and_krisciunas_schaefer_moonlight_by_hand():
     assert np.all(np.diff(phases) < 0)  # the fuller the Moon, the brighter the sky
 
 
+def test_moonlight_follows_the_moons_altitude_and_vanishes_below_the_horizon():
+    # Krisciunas & Schaefer (1991) by hand (constants in authorities): the Moon's light reaches
+    # the sky through its own airmass X(Z_moon), so a Moon at 70 deg brightens the sky more than one
+    # at 15 deg; a Moon below the horizon adds nothing (their model is for a Moon that is up).
+    c, a, b = refs.KS_NANOLAMBERT
+    dark_v = float(noise_terms.sky_v_mag_arcsec2(0.0, 90.0, 1.0))
+    scattering = 10**5.36 * (1.06 + math.cos(math.radians(40.0)) ** 2) + 10 ** (6.15 - 40.0 / 40.0)
+    for moon_alt_deg in (15.0, 70.0):
+        moon_airmass = (1 - 0.96 * math.sin(math.radians(90.0 - moon_alt_deg)) ** 2) ** -0.5
+        moonlight = scattering * 10 ** (-0.4 * 3.84) * 10 ** (-0.4 * refs.KS_EXTINCTION_V * moon_airmass) \
+            * (1 - 10 ** (-0.4 * refs.KS_EXTINCTION_V * 1.3))
+        got = float(noise_terms.moonlight_nanolambert(1.0, 40.0, 1.3, moon_alt_deg))
+        assert got == pytest.approx(moonlight, rel=1e-12)
+    assert float(noise_terms.moonlight_nanolambert(1.0, 40.0, 1.3, 70.0)) > float(
+        noise_terms.moonlight_nanolambert(1.0, 40.0, 1.3, 15.0))
+    assert float(noise_terms.sky_v_mag_arcsec2(1.0, 40.0, 1.3, -0.5)) == pytest.approx(
+        float(noise_terms.sky_v_mag_arcsec2(0.0, 40.0, 1.3)), abs=1e-12)
+    assert dark_v == pytest.approx(float(noise_terms.sky_v_mag_arcsec2(1.0, 90.0, 1.0, -10.0)), abs=1e-12)
+
+
 def test_trapezoid_follows_winn_durations():
     # Winn 2010 eqs. 14-15 (small angles): T23 / T14 = sqrt((1-k)^2 - b^2) / sqrt((1+k)^2 - b^2);
     # the least-squares information of a linear ingress is a third of its length.

@@ -23,8 +23,9 @@ from vigil.campaign.spec import CampaignSpec
 DAYS_PER_YEAR = 365.25
 REACHABLE_SHARE = 0.5
 #: Conditions of a visit where a target has none to take a median from.
-NOMINAL_CONDITIONS = {"airmass": 1.3, "moon_illumination": 0.5, "moon_sep_deg": 90.0}
-_CONDITIONS = ("airmass", "moon_illumination", "moon_sep_deg", "elevation_m")
+NOMINAL_CONDITIONS = {"airmass": 1.3, "moon_illumination": 0.5, "moon_sep_deg": 90.0,
+                      "moon_alt_deg": noise_terms.MOON_ALTITUDE_DEG}
+_CONDITIONS = ("airmass", "moon_illumination", "moon_sep_deg", "moon_alt_deg", "elevation_m")
 
 
 @dataclass(frozen=True)
@@ -82,7 +83,8 @@ def median_visit(visits: pd.DataFrame, ground: bool) -> pd.DataFrame:
     if visits.empty:
         return pd.DataFrame({"in_transit_h": [1.0], "baseline_h": [1.0], **{k: [v] for k, v in
                             NOMINAL_CONDITIONS.items()}, "elevation_m": [0.0], "ground": [ground]})
-    columns = {c: [float(visits[c].median())] for c in ("in_transit_h", "baseline_h", *_CONDITIONS)}
+    columns = {c: [float(visits[c].median()) if c in visits.columns else np.nan]  # an optional condition: unknown
+               for c in ("in_transit_h", "baseline_h", *_CONDITIONS)}
     return pd.DataFrame({**columns, "ground": [bool(visits["ground"].mean() >= 0.5)]})
 
 

@@ -28,7 +28,8 @@ DARK_SKY = ((0.44, 6.32e-8, 22.7), (0.55, 3.631e-8, 21.8), (0.64, 2.177e-8, 20.9
 YOUNG_CONSTANT = 10e-6
 SCINTILLATION_SCALE_HEIGHT_M = 8000.0
 #: Krisciunas & Schaefer (1991, PASP 103, 1033) V-band extinction used in their Moon model, and
-#: the Moon's assumed altitude when it is up (deg): the model needs one, vigil does not track it.
+#: the Moon's altitude assumed where a visit's is unknown (deg; a nominal visit, a ledger written
+#: before the windows carried it).
 KS_EXTINCTION_V = 0.172
 MOON_ALTITUDE_DEG = 30.0
 _V_UM, _V_ZERO_W_M2_UM = DARK_SKY[1][:2]
@@ -96,28 +97,32 @@ def _ks_airmass(zenith_deg):
     return (1.0 - 0.96 * np.sin(np.radians(zenith_deg)) ** 2) ** -0.5
 
 
-def moonlight_nanolambert(illumination, separation_deg, airmass) -> np.ndarray:
+def moonlight_nanolambert(illumination, separation_deg, airmass, moon_altitude_deg=MOON_ALTITUDE_DEG) -> np.ndarray:
     """Scattered moonlight in V (nanolamberts), Krisciunas & Schaefer (1991, PASP 103, 1033,
-    eqs. 15-21; from memory) for the Moon at MOON_ALTITUDE_DEG, with its phase angle from the
-    illuminated fraction, f = (1 + cos alpha) / 2; zero for a new Moon.
+    eqs. 15-21; from memory) for the Moon's centre at `moon_altitude_deg` (geometric; NaN:
+    MOON_ALTITUDE_DEG), with its phase angle from the illuminated fraction,
+    f = (1 + cos alpha) / 2; zero for a new Moon and for a Moon below the horizon.
 
     Examples
     --------
-    >>> float(moonlight_nanolambert(0.0, 90.0, 1.2))
-    0.0
+    >>> float(moonlight_nanolambert(0.0, 90.0, 1.2)), float(moonlight_nanolambert(1.0, 90.0, 1.2, -5.0))
+    (0.0, 0.0)
     """
     illumination = np.asarray(illumination, dtype=float)
     alpha_deg = np.degrees(np.arccos(np.clip(2.0 * illumination - 1.0, -1.0, 1.0)))
     moon_illuminance = 10.0 ** (-0.4 * (3.84 + 0.026 * alpha_deg + 4e-9 * alpha_deg**4))
     rho = np.asarray(separation_deg, dtype=float)
     scattering = 10.0**5.36 * (1.06 + np.cos(np.radians(rho)) ** 2) + 10.0 ** (6.15 - rho / 40.0)
-    moon_path = 10.0 ** (-0.4 * KS_EXTINCTION_V * _ks_airmass(90.0 - MOON_ALTITUDE_DEG))
+    moon_alt = np.nan_to_num(np.asarray(moon_altitude_deg, dtype=float), nan=MOON_ALTITUDE_DEG)
+    moon_path = 10.0 ** (-0.4 * KS_EXTINCTION_V * _ks_airmass(90.0 - np.clip(moon_alt, 0.0, 90.0)))
     target_path = 1.0 - 10.0 ** (-0.4 * KS_EXTINCTION_V * np.asarray(airmass, dtype=float))
-    return np.where(illumination > 0, scattering * moon_illuminance * moon_path * target_path, 0.0)
+    up = (illumination > 0) & (moon_alt >= 0.0)
+    return np.where(up, scattering * moon_illuminance * moon_path * target_path, 0.0)
 
 
-def sky_v_mag_arcsec2(illumination, separation_deg, airmass) -> np.ndarray:
-    """V sky brightness (mag arcsec^-2): the dark sky of DARK_SKY plus scattered moonlight.
+def sky_v_mag_arcsec2(illumination, separation_deg, airmass, moon_altitude_deg=MOON_ALTITUDE_DEG) -> np.ndarray:
+    """V sky brightness (mag arcsec^-2): the dark sky of DARK_SKY plus scattered moonlight
+    (`moonlight_nanolambert`).
 
     Examples
     --------
@@ -125,14 +130,16 @@ def sky_v_mag_arcsec2(illumination, separation_deg, airmass) -> np.ndarray:
     21.8
     """
     dark = _nanolambert(DARK_SKY[1][2])
-    total = dark + moonlight_nanolambert(illumination, separation_deg, airmass)
+    total = dark + moonlight_nanolambert(illumination, separation_deg, airmass, moon_altitude_deg)
     return (20.7233 - np.log(total / 34.08)) / 0.92104
 
 
-def sky_photon_flux(wavelength_um, illumination, separation_deg, airmass) -> np.ndarray:
+def sky_photon_flux(wavelength_um, illumination, separation_deg, airmass, moon_altitude_deg=MOON_ALTITUDE_DEG
+                    ) -> np.ndarray:
     """Sky photons s^-1 m^-2 um^-1 arcsec^-2 at ``wavelength_um`` (last axis) for visits
-    (leading axis): DARK_SKY interpolated in wavelength, plus moonlight scaled from V with the
-    Sun's spectrum (moonlight is sunlight; the extra blue of its scattering is left out).
+    (leading axis): DARK_SKY interpolated in wavelength, plus moonlight (`moonlight_nanolambert`)
+    scaled from V with the Sun's spectrum (moonlight is sunlight; the extra blue of its
+    scattering is left out).
 
     Examples
     --------
@@ -143,7 +150,7 @@ def sky_photon_flux(wavelength_um, illumination, separation_deg, airmass) -> np.
     at_um, zero_w, mag = (np.array(c) for c in zip(*DARK_SKY))
     zero_here = np.exp(np.interp(np.log(wavelength_um), np.log(at_um), np.log(zero_w)))
     dark = zero_here * 10.0 ** (-0.4 * np.interp(wavelength_um, at_um, mag)) * stars.photons_per_joule(wavelength_um)
-    moon_nl = moonlight_nanolambert(illumination, separation_deg, airmass)
+    moon_nl = moonlight_nanolambert(illumination, separation_deg, airmass, moon_altitude_deg)
     moon_v = _V_ZERO_W_M2_UM * moon_nl / _nanolambert(0.0) * stars.photons_per_joule(_V_UM)
     sun = stars.surface_flux_w_m2_um(5772.0)
     sun_shape = stars.photon_flux(sun, wavelength_um) / stars.photon_flux(sun, _V_UM)

@@ -9,9 +9,12 @@ span covers all of theirs.
 from __future__ import annotations
 
 import logging
+import threading
+import warnings
+from contextlib import contextmanager
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Iterable
+from typing import Iterable, Iterator
 
 import pandas as pd
 from astropy.time import Time
@@ -108,7 +111,7 @@ def warning_text(message, category: type, filename: str | None) -> str:
 
     Examples
     --------
-    >>> warning_text("invalid value\n encountered", RuntimeWarning, "/x/numpy/core/fromnumeric.py")
+    >>> warning_text("invalid value   encountered", RuntimeWarning, "/x/numpy/core/fromnumeric.py")
     'invalid value encountered (RuntimeWarning, from core)'
     """
     text = " ".join(str(message).split())
@@ -121,3 +124,47 @@ def library_warning(message, category: type, filename: str | None, start_jd_utc:
     travels with the results (from worker processes too) and is said once."""
     text = warning_text(message, category, filename)
     return Note(("library warning", text), text.replace("{", "{{").replace("}", "}}"), start_jd_utc, end_jd_utc)
+
+
+_collecting = threading.local()  # per thread: (notes list, start, end) while warnings_as_notes runs
+
+
+@contextmanager
+def warnings_as_notes(start_jd_utc: float, end_jd_utc: float) -> Iterator[list[Note]]:
+    """Within the block, warnings this thread shows become notes (`library_warning`) in the list
+    yielded instead of lines on stderr; other threads are untouched (unlike
+    warnings.catch_warnings, which swaps process-wide state).
+
+    Examples
+    --------
+    >>> with warnings_as_notes(2461041.5, 2461406.5) as found:
+    ...     warnings.warn("odd value", RuntimeWarning)
+    >>> found[0].key[0]
+    'library warning'
+    """
+    _route_warnings()
+    outer = getattr(_collecting, "active", None)
+    found: list[Note] = []
+    _collecting.active = (found, start_jd_utc, end_jd_utc)
+    try:
+        yield found
+    finally:
+        _collecting.active = outer
+
+
+def _route_warnings() -> None:
+    """Put a hook in front of warnings.showwarning that hands a warning to the collecting
+    thread's list, and to the hook it replaced otherwise (once; again if it was replaced since)."""
+    shown = warnings.showwarning
+    if getattr(shown, "routes_to_notes", False):
+        return
+
+    def route(message, category, filename, lineno, file=None, line=None):
+        active = getattr(_collecting, "active", None)
+        if active is None:
+            return shown(message, category, filename, lineno, file, line)
+        found, start, end = active
+        found.append(library_warning(message, category, filename, start, end))
+
+    route.routes_to_notes = True
+    warnings.showwarning = route

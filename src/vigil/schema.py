@@ -190,6 +190,8 @@ WINDOWS = Table("windows", (
     _col("sun_alt_mid_deg", "deg", "float", "altitude of the Sun's centre at mid-transit (geometric)"),
     _col("moon_sep_deg", "deg", "float", "Moon-target separation at mid-transit"),
     _col("moon_illumination", "", "float", "illuminated fraction of the Moon's disk at mid-transit (0 new, 1 full)"),
+    _col("moon_alt_mid_deg", "deg", "float", "altitude of the Moon's centre at mid-transit (geometric; below 0 it "
+         "is down and adds no sky light); NaN in space"),
     _col(MERIDIAN_JD_UTC, "JD UTC", "float", "the target's upper culmination (hour angle 0) nearest mid-transit; "
          "NaN in space"),
     _col(MERIDIAN_IN_TRANSIT, "", "bool", "that culmination falls between ingress and egress: a German "
@@ -214,6 +216,8 @@ VISITS = Table("visits", (
               _col("airmass", "", "float", "airmass at mid-transit (noise budget; NaN unknown or space)"),
               _col("moon_illumination", "", "float", "Moon's illuminated fraction at mid-transit (noise budget)"),
               _col("moon_sep_deg", "deg", "float", "Moon-target separation at mid-transit (noise budget)"),
+              _col("moon_alt_deg", "deg", "float", "altitude of the Moon's centre at mid-transit (noise budget; "
+                   "NaN unknown or space)"),
               _col("elevation_m", "m", "float", "site elevation (scintillation)"),
               _col("ground", "", "bool", "ground site: the atmosphere's noise terms apply"),
               _col("pointing", "", "int", "number of the pointing: visits of planets of one star observed together"),
@@ -288,7 +292,8 @@ WINDOWS_OUT = Table("windows (handed out)", (
     *(_col(n, "UTC", "utc", _OUT_TIME[n]) for n in ("ingress_utc", "egress_utc", "window_start_utc", "window_end_utc")),
     _COVERAGE, _WINDOW_COLUMN[OBSERVABLE_FRACTION],
     *(_col(n, "UTC", "utc", _OUT_TIME[n]) for n in ("observable_start_utc", "observable_end_utc")),
-    *(_WINDOW_COLUMN[n] for n in ("alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination")),
+    *(_WINDOW_COLUMN[n] for n in ("alt_mid_deg", "airmass_mid", "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination",
+                                  "moon_alt_mid_deg")),
     _col("meridian_utc", "UTC", "utc", _OUT_TIME["meridian_utc"]), _WINDOW_COLUMN[MERIDIAN_IN_TRANSIT],
     _WINDOW_COLUMN["stale"],
     _SHARED_WITH,

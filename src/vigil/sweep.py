@@ -20,7 +20,6 @@ from __future__ import annotations
 
 import multiprocessing
 import uuid
-import warnings
 from collections import deque
 from concurrent.futures import Executor, ProcessPoolExecutor
 from pathlib import Path
@@ -182,12 +181,10 @@ def _plan_chunk(task: _Task) -> tuple[pd.DataFrame | str, tuple[Note, ...]]:
     """One task through `windows.plan_windows`: its table, or the path of the Parquet file it
     was written to, and its notes (module level, so that spawned and remote workers can run it).
     The notes travel beside the table: Parquet files do not keep them."""
-    with warnings.catch_warnings(record=True) as caught:  # said as notes, also from worker processes
+    with notes.warnings_as_notes(task.start.utc.jd, task.end.utc.jd) as warned:  # also from worker processes
         table = windows.plan_windows(task.targets, task.sites, task.overrides, task.start, task.end, **task.settings,
                                      ordered=False)
-    span = (task.start.utc.jd, task.end.utc.jd)
-    found = notes.merged(notes.of(table), (notes.library_warning(w.message, w.category, w.filename, *span)
-                                           for w in caught))
+    found = notes.merged(notes.of(table), warned)
     if task.cut_jd_utc is not None:
         table = table[table[schema.MID_JD_UTC].to_numpy(dtype=float) < task.cut_jd_utc].reset_index(drop=True)
     if task.chunk_path is None:

@@ -54,7 +54,8 @@ def term_variances(flux_w_m2_um: np.ndarray, instrument: Instrument, noise: Nois
 
     ``visits`` needs in_transit_h, baseline_h, airmass, moon_illumination, moon_sep_deg,
     elevation_m and ground (bool: the atmosphere's terms apply; an unknown airmass counts as
-    1, an unknown Moon as new); ``flux_w_m2_um`` is the star's F_lambda on ``stars.GRID_UM``.
+    1, an unknown Moon as new), and may give moon_alt_deg (the Moon's altitude at mid-visit; an
+    unknown one is noise_terms.MOON_ALTITUDE_DEG); ``flux_w_m2_um`` is the star's F_lambda on ``stars.GRID_UM``.
 
     Examples
     --------
@@ -81,7 +82,8 @@ def term_variances(flux_w_m2_um: np.ndarray, instrument: Instrument, noise: Nois
     sky = np.zeros_like(target)
     if noise.sky_area_arcsec2 > 0:
         sky = noise_terms.sky_photon_flux(wavelength_um, visits["moon_illumination"].fillna(0.0).to_numpy(),
-                                          visits["moon_sep_deg"].fillna(90.0).to_numpy(), np.maximum(airmass, 1.0))
+                                          visits["moon_sep_deg"].fillna(90.0).to_numpy(), np.maximum(airmass, 1.0),
+                                          _column_or_nan(visits, "moon_alt_deg"))
         sky = np.where(ground, sky * light * noise.sky_area_arcsec2, 0.0)
     pixels = noise.spatial_pixels * noise.spectral_pixels_per_um * wavelength_um / resolution
     read_rate = pixels * noise.read_noise_e**2 / (noise.exposure_s + noise.readout_s)
@@ -124,3 +126,10 @@ def variance_parts(flux_w_m2_um: np.ndarray, instrument: Instrument, noise: Nois
     """
     parts = term_variances(flux_w_m2_um, instrument, noise, visits, wavelength_um, 1.0, in_transit_weight)
     return (sum(parts[name] for name in PER_RESOLUTION_TERMS), sum(parts[name] for name in FLAT_TERMS))
+
+
+def _column_or_nan(visits: pd.DataFrame, column: str) -> np.ndarray:
+    """An optional visits column as floats (NaN where unknown or absent)."""
+    if column not in visits.columns:
+        return np.full(len(visits), np.nan)
+    return visits[column].to_numpy(dtype=float)

@@ -23,7 +23,8 @@ from vigil.hosts import overlap_groups
 from vigil.time_units import HOURS_PER_DAY
 
 #: Visit column <- windows column, conditions at mid-transit for the noise budget.
-CONDITIONS = {"airmass": "airmass_mid", "moon_illumination": "moon_illumination", "moon_sep_deg": "moon_sep_deg"}
+CONDITIONS = {"airmass": "airmass_mid", "moon_illumination": "moon_illumination", "moon_sep_deg": "moon_sep_deg",
+              "moon_alt_deg": "moon_alt_mid_deg"}
 
 
 def visits_from_windows(windows: pd.DataFrame, sites: dict, coverage: tuple[str, ...], min_fraction: float,

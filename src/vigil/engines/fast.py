@@ -88,19 +88,20 @@ MOON_XYZ, MOON_ILLUMINATION = slice(0, 3), slice(3, 4)
 class _Latest:
     """The result of the latest computation with copies of its inputs, handed back when the
     next call's inputs are equal (plan_windows asks for the mid-times and places of date once
-    per site, and this engine computes both at the geocentre, alike for every site)."""
+    per site, and this engine computes both at the geocentre, alike for every site). Inputs
+    and result are kept as one entry, replaced at once, so threads planning side by side
+    never get another's result."""
 
     def __init__(self):
-        self._inputs = None
-        self._result = None
+        self._entry = None
 
     def get(self, key, arrays: tuple, compute: Callable):
-        kept = self._inputs
-        if kept is not None and kept[0] == key and all(np.array_equal(a, b) for a, b in zip(kept[1], arrays)):
-            return self._result
-        self._result = compute(*arrays)
-        self._inputs = (key, tuple(a.copy() for a in arrays))
-        return self._result
+        entry = self._entry
+        if entry is not None and entry[0] == key and all(np.array_equal(a, b) for a, b in zip(entry[1], arrays)):
+            return entry[2]
+        result = compute(*arrays)
+        self._entry = (key, tuple(a.copy() for a in arrays), result)
+        return result
 
 
 _latest_mid = _Latest()
@@ -229,13 +230,19 @@ def _moon_separation_deg(jd_utc, target: np.ndarray, site: Site, lst_deg=None) -
 def _moon_margin_deg(jd_utc, target: np.ndarray, site: Site, limit_deg) -> np.ndarray:
     """How far (deg) the Moon is beyond the separation limit or below the horizon, whichever is
     larger: the limit holds only while the Moon's centre is above the horizon (geometric)."""
-    (mx, my, mz), lst_deg = _topocentric_moon_km(jd_utc, site)
+    moon, lst_deg = _topocentric_moon_km(jd_utc, site)
+    return np.maximum(angle_deg(target, moon) - limit_deg, -_moon_altitude_deg(moon, lst_deg, site))
+
+
+def _moon_altitude_deg(moon, lst_deg, site: Site) -> np.ndarray:
+    """Geometric altitude (deg) of the topocentric Moon (x, y, z; km, of date) at the local
+    apparent sidereal times lst_deg."""
+    mx, my, mz = moon
     lst_rad = np.radians(lst_deg)
     lat = np.radians(site.latitude_deg)
     sin_alt = (np.cos(lat) * (mx * np.cos(lst_rad) + my * np.sin(lst_rad)) + np.sin(lat) * mz) / np.sqrt(
         mx ** 2 + my ** 2 + mz ** 2)
-    moon_alt = np.degrees(np.arcsin(np.clip(sin_alt, -1.0, 1.0)))
-    return np.maximum(angle_deg(target, (mx, my, mz)) - limit_deg, -moon_alt)
+    return np.degrees(np.arcsin(np.clip(sin_alt, -1.0, 1.0)))
 
 
 def _moon_clear(windows: pd.DataFrame, site: Site, constraints: Constraints, pointing: _Pointing):
@@ -317,8 +324,8 @@ def _facility_clear(windows: pd.DataFrame, site: Site, pointing: _Pointing):
 
 def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
     """Target altitude (apparent above the horizon, geometric below) and airmass, Sun altitude,
-    Moon separation and illumination at mid-transit, and the meridian crossing nearest it,
-    indexed like `windows`."""
+    Moon separation, illumination and altitude at mid-transit, and the meridian crossing
+    nearest it, indexed like `windows`."""
     conditions = _conditions(windows[schema.MID_JD_UTC].to_numpy(dtype=float), site, _pointing(windows, site))
     return conditions.set_axis(windows.index)
 
@@ -330,11 +337,13 @@ def _conditions(mid: np.ndarray, site: Site, pointing: _Pointing) -> pd.DataFram
     sin_sun_alt = _sin_altitude(*sun, pointing, site) / np.sqrt(sun[0] ** 2 + sun[1] ** 2 + sun[2] ** 2)
     refraction = np.where(geometric >= 0.0, local_sky.refraction_deg(geometric, site.air_pressure_hpa,
                                                                       site.temperature_c), 0.0)
+    moon, _ = _topocentric_moon_km(mid, site, pointing.lst_deg)
     return pd.DataFrame({
         "alt_mid_deg": geometric + refraction,
         "airmass_mid": airmass_kasten_young(geometric),
         "sun_alt_mid_deg": np.degrees(np.arcsin(np.clip(sin_sun_alt, -1.0, 1.0))),
-        "moon_sep_deg": _moon_separation_deg(mid, pointing.target, site, pointing.lst_deg),
+        "moon_sep_deg": angle_deg(pointing.target, moon),
         "moon_illumination": MOON_TABLE.at(mid, MOON_ILLUMINATION)[:, 0],
+        "moon_alt_mid_deg": _moon_altitude_deg(moon, pointing.lst_deg, site),
         schema.MERIDIAN_JD_UTC: _culmination_jd_utc(mid, pointing),
     })

@@ -19,7 +19,8 @@ from vigil.sites import Site
 # A flat interval set: (row, start, end) arrays, JD UTC (see vigil.intervals).
 Intervals = tuple[np.ndarray, np.ndarray, np.ndarray]
 # conditions_of(rows): the conditions at mid-transit of the windows numbered by `rows` (columns
-# alt_mid_deg, airmass_mid, sun_alt_mid_deg, moon_sep_deg, moon_illumination; index 0, 1, ...).
+# alt_mid_deg, airmass_mid, sun_alt_mid_deg, moon_sep_deg, moon_illumination, moon_alt_mid_deg,
+# meridian_jd_utc; index 0, 1, ...).
 ConditionsOf = Callable[[np.ndarray], pd.DataFrame]
 
 

@@ -77,7 +77,8 @@ def observable_intervals(windows: pd.DataFrame, site: Site, constraints: Constra
 
 def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
     """Target altitude (apparent above the horizon, geometric below) and airmass, Sun altitude,
-    Moon separation at mid-transit, and the meridian crossing nearest it (astropy hour angle)."""
+    Moon separation, illumination and altitude at mid-transit, and the meridian crossing nearest
+    it (astropy hour angle)."""
     location = earth_location(site.latitude_deg, site.longitude_deg, site.elevation_m)
     times = Time(windows[schema.MID_JD_UTC].to_numpy(), format="jd", scale="utc")
     ra, dec = windows["ra_deg"].to_numpy(), windows["dec_deg"].to_numpy()
@@ -90,6 +91,7 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
         "sun_alt_mid_deg": sky.sun_altitude_deg(times, location),
         "moon_sep_deg": sky.moon_separation_deg(ra, dec, times, location),
         "moon_illumination": sky.moon_illumination(times),
+        "moon_alt_mid_deg": sky.moon_altitude_deg(times, location),
         schema.MERIDIAN_JD_UTC: times.jd - ha_deg / SIDEREAL_DEG_PER_DAY,
     }, index=windows.index)
 

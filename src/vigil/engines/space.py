@@ -149,6 +149,7 @@ def conditions_at_mid(windows: pd.DataFrame, site: Site) -> pd.DataFrame:
         "moon_sep_deg": _moon_separation_deg(windows["ra_deg"].to_numpy(dtype=float),
                                              windows["dec_deg"].to_numpy(dtype=float), mid, space),
         "moon_illumination": places_of_date.moon_illuminated_fraction(jd_tt_from_utc(mid)),
+        "moon_alt_mid_deg": nothing,
         schema.MERIDIAN_JD_UTC: nothing,
     }, index=windows.index)
 

@@ -27,7 +27,8 @@ TIME_COLUMNS = {
 }
 COLUMNS = list(schema.WINDOWS_OUT.names)
 DECIMALS = {schema.MID_BJD_TDB: 6, "mid_sigma_min": 2, schema.OBSERVABLE_FRACTION: 4, "alt_mid_deg": 2,
-            "airmass_mid": 3, "sun_alt_mid_deg": 2, "moon_sep_deg": 2, "moon_illumination": 3}
+            "airmass_mid": 3, "sun_alt_mid_deg": 2, "moon_sep_deg": 2, "moon_illumination": 3,
+            "moon_alt_mid_deg": 2}
 
 
 def utc_datetimes(jd_utc) -> pd.Series:
@@ -57,7 +58,7 @@ def windows_table(windows: pd.DataFrame) -> pd.DataFrame:
     schema.WINDOWS.check(windows)
     out = pd.DataFrame({c: windows[c] for c in ("target", "site", "event", "epoch", "mid_bjd_tdb", "coverage",
                                                  "observable_fraction", "alt_mid_deg", "airmass_mid",
-                                                 "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination",
+                                                 "sun_alt_mid_deg", "moon_sep_deg", "moon_illumination", "moon_alt_mid_deg",
                                                  schema.MERIDIAN_IN_TRANSIT, "stale")})
     out["mid_sigma_min"] = windows[schema.MID_SIGMA_D] * MINUTES_PER_DAY
     out["shared_with"] = windows["shared_with"] if "shared_with" in windows.columns else ""
