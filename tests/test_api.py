@@ -23,7 +23,9 @@ from astropy.time import Time
 from typer.testing import CliRunner
 
 import vigil
+from vigil import schema
 from vigil.cli import app
+from vigil.export.table import csv_bytes
 
 from conftest import DEMO_DIR
 from test_cli import _restore_vigil_logger  # noqa: F401  (autouse: leave the 'vigil' logger as found)
@@ -263,6 +265,10 @@ def test_campaign_command_line_and_api_write_identical_files(tmp_path):
     assert str(outcome.ledger["mid_utc"].dtype) == "datetime64[s, UTC]"
     assert outcome.plot_resolution().axes and outcome.plot_hours().axes and outcome.plot_budget().axes
     assert set(outcome.budget["term"]) >= {"photon_target", "red_noise", "floor"} and len(outcome.scenarios) >= 3
+    # budget.csv is the outcome's budget table as written (same bytes), its columns those documented.
+    assert (tmp_path / "api" / "budget.csv").read_bytes() == csv_bytes(outcome.budget.round(4))
+    assert list(outcome.budget.columns) == list(schema.BUDGET.names)
+    assert all(f"- {name} :" in type(outcome).budget.__doc__ for name in schema.BUDGET.names)
 
 
 def test_unknown_campaign_target_names_the_option():

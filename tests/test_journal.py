@@ -83,10 +83,16 @@ def test_stored_times_are_iso_8601_utc_and_equal_the_given_instant(tmp_path):
         journal.add(_visit(start_utc="2027-3-4T22:15:00.6Z", end_utc="2027-03-05T02:45Z"))
         journal.add(_visit(epoch=99, start_utc="2016-12-31T23:59:60Z", end_utc="2017-01-01T03:00:00Z"))
         table = journal.entries()
-    assert list(table["start_utc"]) == ["2016-12-31T23:59:60Z", "2027-03-04T22:15:01Z"]
+        journal.export_csv(tmp_path / "j.csv")
+    stored_text = [row["start_utc"] for row in csv.DictReader(open(tmp_path / "j.csv", encoding="utf-8"))]
+    assert stored_text == ["2016-12-31T23:59:60Z", "2027-03-04T22:15:01Z"]
     given = Time(["2016-12-31T23:59:60", "2027-03-04T22:15:00.6"], scale="utc")
-    stored = Time([s[:-1] for s in table["start_utc"]], scale="utc")
+    stored = Time([s[:-1] for s in stored_text], scale="utc")
     assert np.all(np.abs((stored - given).to_value("s")) <= 0.5)
+    # In Python the times are aware UTC datetimes; a leap second, which they cannot hold, is 23:59:59.
+    assert str(table["start_utc"].dtype) == "datetime64[s, UTC]"
+    handed_out = Time([t.to_pydatetime() for t in table["start_utc"]], scale="utc")
+    np.testing.assert_allclose(np.abs((handed_out - stored).to_value("s")), [1.0, 0.0], atol=1e-6)
 
 
 def test_duplicate_visit_is_rejected_with_target_site_and_epoch(tmp_path):
@@ -315,7 +321,7 @@ def test_planned_visits_from_a_campaign_visits_table(tmp_path):
         assert journal.entries(status="executed").empty and len(journal.entries(target="Quorn d")) == 1
         with pytest.raises(InputError, match="visits table row 0: the planned visit of target 'Marrow b'"):
             journal.add_planned_visits(visits)
-    start = Time([s[:-1] for s in table["start_utc"]], format="isot", scale="utc").jd
+    start = Time([t.to_pydatetime() for t in table["start_utc"]], scale="utc").jd
     np.testing.assert_allclose((start - visits["start_jd_utc"].to_numpy()) * 86400.0, 0.0, atol=0.5)
     assert list(table["in_transit_h"]) == [2.2, 1.5] and table["outcome"].isna().all()
 

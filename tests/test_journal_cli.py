@@ -3,10 +3,12 @@
 import csv
 from pathlib import Path
 
+import pandas as pd
 from astropy.time import Time
 
 from typer.testing import CliRunner
 
+from vigil import open_journal
 from vigil.cli import app
 
 VISIT = ["--target", "Tamsin-7 b", "--site", "mirador_sur", "--epoch", "580", "--start", "2027-01-03T02:00:00Z",
@@ -72,3 +74,21 @@ def test_unknown_target_is_one_line_naming_the_closest(tmp_path):
     assert "no visits of 'tamsin-7 b'; did you mean 'Tamsin-7 b'?" in " ".join(listed.output.split())
     quiet = runner.invoke(app, ["journal", "list", str(db), "--target", "Tamsin-7 b", "--status", "planned"])
     assert quiet.exit_code == 0 and quiet.output.strip() == "no visits recorded"
+
+
+def test_python_gets_datetimes_while_the_command_line_prints_the_stored_text(tmp_path):
+    # Reference: the times as typed (ISO 8601 UTC); the command line shows the stored text as it did
+    # before entries() handed out datetimes: "YYYY-MM-DD HH:MM" in list, the ISO text in export.
+    runner, db, exported = CliRunner(), tmp_path / "j.db", tmp_path / "j.csv"
+    assert runner.invoke(app, ["journal", "add", str(db), *VISIT]).exit_code == 0
+    listed = runner.invoke(app, ["journal", "list", str(db)]).output
+    assert runner.invoke(app, ["journal", "export", str(db), str(exported)]).exit_code == 0
+    with exported.open(newline="") as handle:
+        row = next(csv.DictReader(handle))
+    assert (row["start_utc"], row["end_utc"]) == ("2027-01-03T02:00:00Z", "2027-01-03T05:30:00Z")
+    assert "2027-01-03 02:00" in listed and "+00:00" not in listed
+    with open_journal(db, write=False) as journal:
+        entries = journal.entries()
+    assert str(entries["start_utc"].dtype) == "datetime64[s, UTC]"
+    assert entries["start_utc"][0] == pd.Timestamp("2027-01-03T02:00:00Z")
+    assert entries["end_utc"][0] == pd.Timestamp("2027-01-03T05:30:00Z")

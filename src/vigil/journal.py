@@ -40,9 +40,9 @@ from astropy.time import Time
 from vigil import journal_file
 from vigil.timescales import MIN_PLAUSIBLE_JD, check_plan_date
 from vigil.ephemeris.timing_checks import is_forced, outside_visit
-from vigil.errors import InputError
+from vigil.errors import ArgumentError, InputError
 from vigil.names import clean_name
-from vigil.export.table import iso_utc, restore_cell, write_csv
+from vigil.export.table import iso_utc, restore_cell, utc_from_iso, write_csv
 
 COLUMNS = ("target", "site", "epoch", "start_utc", "end_utc", "status", "outcome",
            "mid_bjd_tdb", "mid_err_d", "in_transit_h", "baseline_h", "notes")
@@ -161,17 +161,39 @@ class Journal:
         return count
 
     def entries(self, target: str | None = None, status: str | None = None) -> pd.DataFrame:
-        """Visits in time order, optionally of one target and/or one status; columns as COLUMNS.
+        """Visits in time order, optionally of one target and/or one status.
 
-        Missing numbers are NaN, missing text (outcome, notes) is None.
+        Parameters
+        ----------
+        target : str, optional
+        status : {"planned", "executed"}, optional
+
+        Returns
+        -------
+        pandas.DataFrame
+            The columns of COLUMNS (module docstring); start_utc and end_utc as timezone-aware
+            UTC datetimes (datetime64[s, UTC], like the windows table; a leap second shows as
+            23:59:59, `export_csv` keeps it), mid_bjd_tdb as float days; missing numbers NaN,
+            missing text (outcome, notes) None.
+
+        Examples
+        --------
+        >>> journal.entries(status="executed")["start_utc"].dt.year  # doctest: +SKIP
         """
+        table = self._stored(target, status)
+        for column in ("start_utc", "end_utc"):
+            table[column] = utc_from_iso(table[column]).set_axis(table.index)
+        return table
+
+    def _stored(self, target: str | None = None, status: str | None = None) -> pd.DataFrame:
+        """The visits as stored: times as ISO 8601 text with a trailing Z."""
         clauses, values = [], []
         if target is not None:
             clauses.append("target = ?")
             values.append(target)
         if status is not None:
             if status not in STATUSES:
-                raise InputError(f"status: expected {' or '.join(STATUSES)}, got {status!r}")
+                raise ArgumentError("status", f"expected {' or '.join(STATUSES)}, got {status!r}")
             clauses.append("status = ?")
             values.append(status)
         where = f"WHERE {' AND '.join(clauses)}" if clauses else ""
@@ -185,7 +207,7 @@ class Journal:
 
     def export_csv(self, path: str | Path) -> Path:
         """Write every visit to a CSV file (atomically, spreadsheet-safe; module docstring)."""
-        write_csv(self.entries(), path)
+        write_csv(self._stored(), path)
         return Path(path)
 
     def executed_hours(self) -> pd.DataFrame:

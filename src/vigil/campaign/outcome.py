@@ -60,7 +60,27 @@ class CampaignOutcome:
 
     @property
     def budget(self) -> pd.DataFrame:
-        """Per target and noise term: the median visit's noise in the deciding bin and its share."""
+        """The noise budget: per target and noise term, the median visit's noise in the deciding
+        bin and its share (the table `write` saves as budget.csv, there rounded to 4 decimals).
+
+        Returns
+        -------
+        pandas.DataFrame
+            One row per target and term, columns (`vigil.schema.BUDGET`):
+
+            - target : the planet's name
+            - term : photon_target, photon_comparison, sky, read, scintillation, red_noise or floor
+            - ppm_per_bin_per_visit : the term's noise on the transit depth in the deciding
+              spectral bin for one median visit, ppm
+            - share_of_variance : its share (0 to 1) of the variance after visits_stacked visits
+              (the floor does not average down, so its share grows with visits)
+            - wavelength_um : centre of the deciding bin, micrometres
+            - visits_stacked : clear visits over the horizon, median over trials (at least 1)
+
+        Examples
+        --------
+        >>> outcome.budget.query("target == 'Quillon-2 b'")[["term", "share_of_variance"]]  # doctest: +SKIP
+        """
         return self.simulation.budget.copy()
 
     @property

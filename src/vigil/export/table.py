@@ -34,6 +34,20 @@ def iso_utc(jd_utc) -> np.ndarray:
     return out
 
 
+def utc_from_iso(text) -> pd.Series:
+    """ISO 8601 UTC strings (a trailing `Z` allowed; empty for none) as timezone-aware UTC
+    datetimes (datetime64[s, UTC]: every date vigil plans for, 1950-2300, fits); NaT for empty.
+    A leap second (23:59:60), which datetimes cannot hold, becomes 23:59:59.
+
+    Examples
+    --------
+    >>> utc_from_iso(["2027-03-04T22:15:00Z", ""]).tolist()
+    [Timestamp('2027-03-04 22:15:00+0000', tz='UTC'), NaT]
+    """
+    cleaned = pd.Series(text, dtype=object).str.rstrip("Z").str.replace(r":60$", ":59", regex=True).replace("", "NaT")
+    return pd.Series(cleaned.to_numpy(dtype=object).astype("datetime64[s]")).dt.tz_localize("UTC")
+
+
 def neutralise_cell(text: str) -> str:
     """The text as exported: an apostrophe added where a spreadsheet would run it, or where one leads.
 

@@ -10,7 +10,7 @@ import pandas as pd
 
 from vigil import schema
 from vigil.export.files import atomic_stream
-from vigil.export.table import csv_bytes, iso_utc
+from vigil.export.table import csv_bytes, iso_utc, utc_from_iso
 from vigil.time_units import MINUTES_PER_DAY, SECONDS_PER_DAY
 
 UNIX_EPOCH_JD = 2440587.5  # 1970-01-01T00:00:00 UTC (UTC days of 86400 s; leap seconds are not counted by POSIX time)
@@ -40,8 +40,7 @@ def utc_datetimes(jd_utc) -> pd.Series:
     >>> utc_datetimes([2561000.25, float("nan")]).tolist()
     [Timestamp('2299-09-05 18:00:00+0000', tz='UTC'), NaT]
     """
-    text = pd.Series(iso_utc(jd_utc), dtype=object).str.rstrip("Z").replace("", "NaT")
-    return pd.Series(text.to_numpy(dtype=object).astype("datetime64[s]")).dt.tz_localize("UTC")
+    return utc_from_iso(iso_utc(jd_utc))
 
 
 def windows_table(windows: pd.DataFrame) -> pd.DataFrame:
