@@ -125,3 +125,18 @@ def test_a_comment_naming_the_columns_above_a_real_header_is_kept_as_a_comment(t
     assert read_targets(path)["name"].tolist() == ["Tamsin-7 b"]
     refused = _write(tmp_path, "u.csv", f"# {HEADER}\n{GOOD_ROW}\n")
     assert _error(read_targets, refused).startswith(f"{refused}: line 1: the header row is commented out")
+
+
+def test_where_each_target_was_read_travels_with_the_table_without_being_copied():
+    # pandas deep-copies a table's attrs on nearly every operation; the map of file lines is
+    # shared instead (a 50,000-row catalogue would otherwise be copied on every column read),
+    # and it still names the file and line of each target, also after a slice and a pickle.
+    import pickle
+
+    targets = read_targets(DEMO_DIR / "targets.csv")
+    places = targets.attrs["source_rows"]
+    assert targets["ra_deg"].attrs["source_rows"] is places
+    assert targets.iloc[2:4].attrs["source_rows"] is places
+    name = targets["name"].iat[1]
+    assert places[name] == f"{DEMO_DIR / 'targets.csv'}: line 3"
+    assert pickle.loads(pickle.dumps(targets.iloc[1:2])).attrs["source_rows"][name] == places[name]

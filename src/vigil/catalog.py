@@ -13,6 +13,7 @@ import datetime
 import logging
 import math
 import re
+from collections.abc import Mapping
 from pathlib import Path
 
 import astropy.units as u
@@ -31,7 +32,8 @@ from vigil.sites import (DEFAULT_INTERRUPTION_START_JD_UTC, DEFAULT_SUN_ANGLE_MA
                          DEFAULT_TEMPERATURE_C, Site, SpaceSettings)
 from vigil.table_formats import SourceTable
 from vigil.target_source import CatalogueOptions, drop_incomplete, target_cells
-from vigil.textfile import did_you_mean, csv_number, line_of, load_toml, number_in_range, read_csv, row_label, spelling_hint
+from vigil.textfile import (RowPlaces, did_you_mean, csv_number, line_of, load_toml, number_in_range, read_csv, row_label,
+                            spelling_hint)
 from vigil.timescales import MAX_PLAUSIBLE_JD, MIN_PLAUSIBLE_JD
 
 log = logging.getLogger("vigil")
@@ -105,7 +107,7 @@ def _coordinate_columns(path: Path, line: int, columns) -> tuple[str, str]:
                      f"{spelling_hint(('ra_deg', 'dec_deg'), [c for c in columns if c not in ('ra_deg', 'dec_deg')])}; found {', '.join(columns)}")
 
 
-def _coordinates(path: Path, line: int, row: pd.Series, ra_field: str, dec_field: str) -> tuple[float, float]:
+def _coordinates(path: Path, line: int, row: Mapping, ra_field: str, dec_field: str) -> tuple[float, float]:
     if ra_field == "ra_deg":
         ra = csv_number(path, line, ra_field, row[ra_field], "right ascension in degrees")
         dec = csv_number(path, line, dec_field, row[dec_field], "declination in degrees")
@@ -149,7 +151,7 @@ TARGET_EXPECTATIONS = {
 }
 
 
-def _target_row(path: Path, line: int, row: pd.Series, coordinates: tuple[str, str]) -> dict:
+def _target_row(path: Path, line: int, row: Mapping, coordinates: tuple[str, str]) -> dict:
     if not row["name"]:
         raise InputError(f"{line_of(path, line)}, field name: expected a target name, got an empty cell")
     name = clean_name(row["name"], f"{line_of(path, line)}, field name")
@@ -191,7 +193,7 @@ def _check_target_values(path: Path, line: int, v: dict) -> None:
                          f"got {v['t0_period_cov_d2']:g}")
 
 
-def _check_body_columns(path: Path, line: int, row: pd.Series) -> None:
+def _check_body_columns(path: Path, line: int, row: Mapping) -> None:
     """The optional physical columns (bodies.py) hold numbers in their ranges where they are filled in."""
     for column in bodies.NUMBER_COLUMNS:
         text = row.get(column, "")
@@ -219,7 +221,7 @@ def _odd_target_notes(path: Path, line: int, v: dict) -> list[str]:
     return notes
 
 
-def _duration_notes(path: Path, line: int, v: dict, row: pd.Series) -> list[str]:
+def _duration_notes(path: Path, line: int, v: dict, row: Mapping) -> list[str]:
     """A warning when duration_h exceeds what a central transit allows for the row's a_over_rstar
     and radii (geometry.central_duration_h), when those are given."""
     cells = [str(row.get(c, "")).strip() for c in ("a_over_rstar", "planet_radius_earth", "star_radius_sun")]
@@ -255,7 +257,8 @@ def targets_from_source(source: SourceTable, strict: bool = False) -> pd.DataFra
     _require_columns(path, source.header, source.cells.columns, REQUIRED_TARGET_FIELDS, "t0_bjd_tdb")
     coordinates = _coordinate_columns(path, source.header, source.cells.columns)
     table = drop_incomplete(source, (*REQUIRED_TARGET_FIELDS, *coordinates), strict)
-    rows = [_target_row(path, line, row, coordinates) for line, row in table.iterrows()]
+    records = dict(zip(table.index, table.to_dict("records")))  # plain dicts: reading cells of Series rows is slow
+    rows = [_target_row(path, line, record, coordinates) for line, record in records.items()]
     parsed = pd.DataFrame(rows)
     duplicated = parsed["name"].duplicated().to_numpy()
     if duplicated.any():
@@ -265,14 +268,14 @@ def targets_from_source(source: SourceTable, strict: bool = False) -> pd.DataFra
         raise InputError(f"{line_of(path, table.index[first])}, field name: target {name!r} appears twice "
                          f"(also on {row_label(earlier)}); expected unique names")
     for line, values in zip(table.index, rows):  # warnings only once the whole table is valid
-        for note in _odd_target_notes(path, line, values) + _duration_notes(path, line, values, table.loc[line]):
+        for note in _odd_target_notes(path, line, values) + _duration_notes(path, line, values, records[line]):
             log.warning("%s", note)
     extra = [c for c in table.columns if c not in parsed.columns and c not in ("ra", "dec")]
     result = pd.concat([parsed, table[extra].reset_index(drop=True)], axis=1)
     if bodies.SPECTRUM_FILE_COLUMN in result:  # relative to the targets file; absolute, so tables written from it keep it
         result[bodies.SPECTRUM_FILE_COLUMN] = [str((Path(path).parent / cell).absolute()) if cell else ""
                                                for cell in result[bodies.SPECTRUM_FILE_COLUMN]]
-    result.attrs["source_rows"] = dict(zip(parsed["name"], (line_of(path, line) for line in table.index)))
+    result.attrs["source_rows"] = RowPlaces(zip(parsed["name"], (line_of(path, line) for line in table.index)))
     catalogue_ephemeris(result)  # the ephemeris columns' ranges and covariance, refused before any work
     return schema.TARGETS.check(result)
 

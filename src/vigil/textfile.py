@@ -17,6 +17,7 @@ import math
 import numbers
 import re
 import tomllib
+from collections.abc import Mapping
 from pathlib import Path
 
 import pandas as pd
@@ -25,6 +26,38 @@ from vigil.errors import InputError
 from vigil.export.table import restore_cell
 
 MAX_LINE_CHARS = 10_000
+
+
+class RowPlaces(Mapping):
+    """Read-only map from a row's name to where it was read ("FILE: line N"), carried in a
+    table's attrs. pandas deep-copies attrs on nearly every operation (each column read), so a
+    copy of this map is the map itself: a large catalogue's places are never copied.
+
+    Examples
+    --------
+    >>> import copy
+    >>> places = RowPlaces({"b": "targets.csv: line 2"})
+    >>> copy.deepcopy(places) is places, places["b"]
+    (True, 'targets.csv: line 2')
+    """
+
+    def __init__(self, places):
+        self._places = dict(places)
+
+    def __getitem__(self, name):
+        return self._places[name]
+
+    def __iter__(self):
+        return iter(self._places)
+
+    def __len__(self) -> int:
+        return len(self._places)
+
+    def __copy__(self) -> "RowPlaces":
+        return self
+
+    def __deepcopy__(self, memo) -> "RowPlaces":
+        return self
 
 
 def row_label(line: int | str) -> str:
