@@ -194,3 +194,13 @@ def test_local_time_columns_agree_with_pytz():
         got = datetime.fromisoformat(text)
         assert abs((got - expected).total_seconds()) <= 0.5
         assert got.utcoffset() == expected.utcoffset()
+
+
+def test_events_say_when_the_moon_is_below_the_horizon(planned):
+    # The windows' Moon altitude at mid (fast engine, checked against astropy AltAz in
+    # test_fast_engine) decides the wording: a Moon that is down is said to be so.
+    observable = planned[(planned["coverage"] != "none") & planned["observable_start_jd_utc"].notna()]
+    events = list(windows_calendar(planned).walk("VEVENT"))
+    said_down = sum("Moon" in str(e["DESCRIPTION"]) and "(below the horizon)" in str(e["DESCRIPTION"]) for e in events)
+    assert len(events) == len(observable)
+    assert said_down == int((observable["moon_alt_mid_deg"] < 0).sum()) > 0

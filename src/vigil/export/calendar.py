@@ -111,6 +111,8 @@ def _times_digest(rows) -> str:
 def _conditions(w) -> str:
     """Conditions at mid-event; a space site has no altitude or airmass."""
     moon = f"Moon {w.moon_sep_deg:.0f}° away" if w.moon_sep_deg == w.moon_sep_deg else "Moon not computed"
+    if getattr(w, "moon_alt_mid_deg", 0.0) < 0.0:  # NaN (space, older tables) compares False
+        moon += " (below the horizon)"
     if w.alt_mid_deg != w.alt_mid_deg:  # NaN
         return f"At mid: {moon}"
     return f"At mid: altitude {w.alt_mid_deg:.1f}°, airmass {w.airmass_mid:.2f}, {moon}"
