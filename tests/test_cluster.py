@@ -105,7 +105,7 @@ def test_separate_scheduler_and_two_workers_match_one_process(targets_csv, one_p
 
 
 def test_scheduler_address_must_be_local_or_tcp():
-    with pytest.raises(InputError, match="--scheduler"):
+    with pytest.raises(InputError, match="^scheduler: expected 'local' or tcp://"):
         with cluster.workers_for("udp://127.0.0.1:1"):
             pass
 

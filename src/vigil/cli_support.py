@@ -49,7 +49,7 @@ def user_errors(context: typer.Context | None = None):
         yield
     except ArgumentError as exc:
         flag = _option_flag(context, exc.argument)
-        _error_line(f"{flag}: {exc.detail}" if flag else str(exc))
+        _error_line(exc.named(flag) if flag else str(exc))
     except InputError as exc:
         _error_line(str(exc))
     except OSError as exc:  # an output that cannot be written: a folder, a read-only place, a full disk
@@ -57,10 +57,13 @@ def user_errors(context: typer.Context | None = None):
 
 
 def _option_flag(context: typer.Context | None, argument: str) -> str | None:
-    """The command's option (e.g. --min-altitude) for a Python argument name (min_altitude)."""
+    """The command's option (e.g. --min-altitude) for a Python argument name (min_altitude), by
+    its parameter's name or its spelling (format is --format whatever the parameter is called)."""
+    spelled = "--" + argument.replace("_", "-")
     for parameter in context.command.params if context else ():
-        if parameter.name == argument and parameter.opts and parameter.opts[0].startswith("--"):
-            return parameter.opts[0]
+        opts = parameter.opts or []
+        if opts and opts[0].startswith("--") and (parameter.name == argument or opts[0] == spelled):
+            return opts[0]
     return None
 
 

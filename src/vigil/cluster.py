@@ -18,7 +18,7 @@ from contextlib import ExitStack, contextmanager
 from pathlib import Path
 from typing import Iterator, NamedTuple
 
-from vigil.errors import InputError
+from vigil.errors import ArgumentError
 
 CONNECT_TIMEOUT_S = 20
 WORKER_WAIT_S = 60
@@ -53,13 +53,13 @@ def workers_for(scheduler: str | None, jobs: int = 1, chunk_dir: Path | None = N
         yield Workers(None, jobs, None)
         return
     if scheduler != "local" and not scheduler.startswith("tcp://"):
-        raise InputError(f"--scheduler: expected 'local' or tcp://HOST:PORT, got {scheduler!r}")
+        raise ArgumentError("scheduler", f"expected 'local' or tcp://HOST:PORT, got {scheduler!r}")
     try:
         from dask.distributed import Client, LocalCluster
         import pyarrow  # noqa: F401  (workers write Parquet)
     except ImportError as exc:
-        raise InputError(f"--scheduler: dask.distributed is not available ({exc.name} missing); "
-                         f"{_INSTALL_HINT}") from None
+        raise ArgumentError("scheduler", f"dask.distributed is not available ({exc.name} missing); "
+                                         f"{_INSTALL_HINT}") from None
     with ExitStack() as stack:
         if scheduler == "local":
             cluster = stack.enter_context(LocalCluster(n_workers=jobs, threads_per_worker=1, processes=True,
@@ -71,7 +71,7 @@ def workers_for(scheduler: str | None, jobs: int = 1, chunk_dir: Path | None = N
         if chunk_dir is None:
             chunk_dir = Path(stack.enter_context(tempfile.TemporaryDirectory(prefix="vigil-chunks-")))
         elif not Path(chunk_dir).is_dir():
-            raise InputError(f"--chunk-dir: {chunk_dir} is not a folder")
+            raise ArgumentError("chunk_dir", f"{chunk_dir} is not a folder")
         yield Workers(client.get_executor(pure=False), _worker_count(client, scheduler), Path(chunk_dir))
 
 
@@ -79,12 +79,12 @@ def _connect(client_class, address: str):
     try:
         return client_class(address, timeout=f"{CONNECT_TIMEOUT_S}s")
     except (OSError, TimeoutError) as exc:
-        raise InputError(f"--scheduler: cannot reach {address} within {CONNECT_TIMEOUT_S} s ({exc})") from None
+        raise ArgumentError("scheduler", f"cannot reach {address} within {CONNECT_TIMEOUT_S} s ({exc})") from None
 
 
 def _worker_count(client, scheduler: str) -> int:
     try:
         client.wait_for_workers(1, timeout=WORKER_WAIT_S)
     except TimeoutError:
-        raise InputError(f"--scheduler: {scheduler} has no workers (waited {WORKER_WAIT_S} s)") from None
+        raise ArgumentError("scheduler", f"{scheduler} has no workers (waited {WORKER_WAIT_S} s)") from None
     return max(1, len(client.scheduler_info()["workers"]))

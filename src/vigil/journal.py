@@ -39,7 +39,7 @@ from astropy.time import Time
 
 from vigil import journal_file
 from vigil.timescales import MIN_PLAUSIBLE_JD, check_plan_date
-from vigil.ephemeris.timing_checks import is_forced, outside_visit
+from vigil.ephemeris.timing_checks import FORCED_MARK, is_forced, outside_visit
 from vigil.errors import ArgumentError, InputError
 from vigil.names import clean_name
 from vigil.export.table import iso_utc, restore_cell, utc_from_iso, write_csv
@@ -123,8 +123,19 @@ class Journal:
     def close(self) -> None:
         self._db.close()
 
-    def add(self, entry: Mapping) -> None:
-        """Record one visit, given as a mapping of the journal's columns (module docstring)."""
+    def add(self, entry: Mapping, force: bool = False) -> None:
+        """Record one visit, given as a mapping of the journal's columns (module docstring).
+
+        With `force`, a measured mid-time that fails its checks (outside the visit) is recorded,
+        its notes marked as forced (vigil.ephemeris.timing_checks.FORCED_MARK).
+
+        Examples
+        --------
+        >>> journal.add({"target": "Marrow b", "site": "ridge", "epoch": 12, "status": "planned",
+        ...              "start_utc": "2027-03-04T22:15:00Z", "end_utc": "2027-03-05T02:45:00Z"})  # doctest: +SKIP
+        """
+        if force:
+            entry = {**entry, "notes": f"{FORCED_MARK} {entry.get('notes') or ''}".strip()}
         self._add_all([("journal entry", entry)])
 
     def add_planned_visits(self, visits: pd.DataFrame) -> int:
@@ -330,8 +341,8 @@ def _check_consistency(where: str, row: dict) -> None:
     if row["mid_bjd_tdb"] is not None and not is_forced(row["notes"]):
         problem = outside_visit(row["mid_bjd_tdb"], start.jd, end.jd)
         if problem:
-            raise InputError(f"{where}, field mid_bjd_tdb: {problem} (BJD_TDB {row['mid_bjd_tdb']}); refused, "
-                             "add it with --force if it is right")
+            raise ArgumentError("force", "", f"{where}, field mid_bjd_tdb: {problem} (BJD_TDB {row['mid_bjd_tdb']}); "
+                                             "refused ({argument} records it anyway, marked, if it is right)")
     if span_h <= 0:
         raise InputError(f"{where}, field end_utc: expected a time after start_utc {row['start_utc']}, got {row['end_utc']}")
     hours = (row["in_transit_h"] or 0.0) + (row["baseline_h"] or 0.0)

@@ -10,7 +10,7 @@ import typer
 from vigil.cli_support import out, setup_logging, user_errors
 from vigil.catalog import read_targets
 from vigil.ephemeris.models import target_ephemerides
-from vigil.ephemeris.timing_checks import FORCED_MARK, far_from_prediction
+from vigil.ephemeris.timing_checks import far_from_prediction
 from vigil.errors import InputError
 from vigil.export.files import OutputTransaction
 from vigil.export.terminal_tables import journal_table
@@ -26,6 +26,7 @@ JOURNAL_ARG = typer.Argument(..., metavar="JOURNAL.db", help="Journal file (crea
 
 @journal_app.command("add")
 def add(
+    context: typer.Context,
     journal_file: Path = JOURNAL_ARG,
     target: str = typer.Option(..., "--target", metavar="NAME", help="Target name."),
     site: str = typer.Option(..., "--site", metavar="NAME", help="Site name."),
@@ -52,12 +53,12 @@ def add(
     setup_logging()
     entry = {"target": target, "site": site, "epoch": epoch, "start_utc": start, "end_utc": end, "status": status,
              "outcome": outcome, "mid_bjd_tdb": mid_bjd_tdb, "mid_err_d": mid_err_d, "in_transit_h": in_transit_h,
-             "baseline_h": baseline_h, "notes": f"{FORCED_MARK} {notes}".strip() if force else notes}
-    with user_errors():
+             "baseline_h": baseline_h, "notes": notes}
+    with user_errors(context):
         if targets_file is not None and mid_bjd_tdb is not None and mid_err_d is not None and not force:
             _check_against_catalogue(targets_file, target, epoch, mid_bjd_tdb, mid_err_d)
         with open_journal(journal_file) as journal:
-            journal.add(entry)
+            journal.add(entry, force=force)
     typer.echo(f"added {status} visit of {target} at {site}, epoch {epoch}" + (" (timing forced)" if force else ""))
 
 

@@ -13,7 +13,7 @@ from vigil.cli_support import out, setup_logging, user_errors
 from vigil.ephemeris.fitting import BIC_MARGIN, OUTLIER_RULE
 from vigil.ephemeris.refit import TargetRefit
 from vigil.ephemeris.staleness import DURATION_FRACTION, stale_date
-from vigil.errors import InputError
+from vigil.errors import ArgumentError, InputError
 from vigil.export.files import OutputTransaction
 from vigil.export.o_minus_c_plot import plot_o_minus_c
 from vigil.export.table import write_csv
@@ -37,8 +37,10 @@ def run_refit(timings_file: Path, out_path: Path, targets_file: Optional[Path], 
         try:
             result = api.refit(timings, targets, use_prior=use_prior)
         except InputError as exc:
-            hint = "" if targets_file is not None or "--targets" in str(exc) else " (pass --targets TARGETS.csv)"
-            raise InputError(f"{timings_file}: {exc}{hint}") from None
+            message = exc.named("--targets TARGETS.csv") if isinstance(exc, ArgumentError) and exc.argument == "targets" \
+                else str(exc)
+            hint = "" if targets_file is not None or "--targets" in message else " (pass --targets TARGETS.csv)"
+            raise InputError(f"{timings_file}: {message}{hint}") from None
         durations = dict(zip(result.targets["name"], result.targets["duration_h"].astype(float)))
         write_csv(result.targets, out_path)
         write_csv(result.o_minus_c, oc_path)

@@ -16,7 +16,7 @@ import astropy.units as u
 import numpy as np
 import pandas as pd
 
-from vigil.errors import InputError
+from vigil.errors import ArgumentError, InputError
 
 FORMATS = ("csv", "ecsv", "votable", "ipac")
 EXTENSIONS = {".csv": "csv", ".ecsv": "ecsv", ".xml": "votable", ".vot": "votable", ".votable": "votable",
@@ -55,7 +55,7 @@ def table_format(path: Path, given: str | None = None) -> str:
     if given is not None:
         chosen = given.strip().lower()
         if chosen not in FORMATS:
-            raise InputError(f"--format: expected one of {', '.join(FORMATS)}, got {given!r}")
+            raise ArgumentError("format", f"expected one of {', '.join(FORMATS)}, got {given!r}")
         return chosen
     found = EXTENSIONS.get(path.suffix.lower(), "csv")
     if found == "csv" and _starts_with(path, _ECSV_SIGNATURE):
@@ -93,8 +93,8 @@ def read_typed_table(path: Path, fmt: str) -> SourceTable:
             table = Table.read(path, format=_ASTROPY_FORMAT[fmt])
     except (ValueError, TypeError, KeyError, IndexError, UnicodeDecodeError) as exc:
         reason = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
-        raise InputError(f"{path}: not a readable {_label(fmt)} table ({reason}); check the file, "
-                         "or give --format if the extension misleads") from None
+        raise ArgumentError("format", "", f"{path}: not a readable {_label(fmt)} table ({reason}); check the file, "
+                                          "or give its format ({argument}) if the extension misleads") from None
     return table_cells(table, path)
 
 

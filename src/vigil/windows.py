@@ -15,7 +15,7 @@ from vigil.constraints import Constraints, resolve_constraints
 from vigil.engines import engine_for, reference
 from vigil.engines.protocol import Engine
 from vigil.ephemeris.projection import project_transits
-from vigil.errors import InputError
+from vigil.errors import ArgumentError
 from vigil.sites import Site
 from vigil.timescales import outside_earth_series_notes
 
@@ -80,7 +80,7 @@ def plan_windows(targets: pd.DataFrame, sites: dict[str, Site], overrides: dict,
     by site, then target, then time (for callers that merge several tables and sort once). The
     table carries the engines' notes (`vigil.notes.of`), for the caller to report."""
     if not end > start:
-        raise InputError(f"--end {end.utc.iso[:10]} must come after --start {start.utc.iso[:10]}")
+        raise ArgumentError("end", f"{end.utc.iso[:16]} must come after start {start.utc.iso[:16]}")
     transits = schema.TRANSITS.check(project_transits(targets, start.tdb.jd - _LIGHT_TIME_MARGIN_D,
                                                       end.tdb.jd + _LIGHT_TIME_MARGIN_D, event))
     tables = [site_windows(transits, site, resolve_constraints(site.defaults, overrides), start, end, engine,

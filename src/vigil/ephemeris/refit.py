@@ -28,7 +28,7 @@ import pandas as pd
 from vigil.ephemeris.fitting import OUTLIER_RULE, ModelChoice, choose_model
 from vigil import schema
 from vigil.ephemeris.models import EPOCH_ORIGIN_COLUMN, QUADRATIC_COLUMNS, PolynomialEphemeris, target_ephemerides
-from vigil.errors import InputError
+from vigil.errors import ArgumentError, InputError
 from vigil.time_units import MINUTES_PER_DAY
 
 SAME_EVENT_SIGMA = 5.0
@@ -178,16 +178,15 @@ def _epochs_from_spacing(distinct_t: np.ndarray, distinct_sigma: np.ndarray, t: 
     combined = np.sqrt(distinct_sigma[1:] ** 2 + distinct_sigma[:-1] ** 2)
     distinct_gaps = gaps[gaps > SAME_EVENT_SIGMA * combined]
     if distinct_gaps.size == 0:
-        raise InputError(f"target {target!r}: need timings at two or more distinct epochs to fit a period "
-                         "(or pass the catalogue with --targets to update its ephemeris)")
+        raise ArgumentError("targets", "", f"target {target!r}: need timings at two or more distinct epochs to fit a "
+                                           "period (or pass the catalogue as {argument} to update its ephemeris)")
     period_guess = distinct_gaps.min()
     cycles = (t - t[0]) / period_guess
     epochs = np.round(cycles)
     if np.max(np.abs(cycles - epochs)) > EPOCH_TOLERANCE_CYCLES:
-        raise InputError(
-            f"target {target!r}: timings are not whole multiples of their shortest spacing ({period_guess:.5f} d), "
-            "so their epochs are ambiguous: pass the catalogue with --targets TARGETS.csv to number them"
-        )
+        raise ArgumentError("targets", "", f"target {target!r}: timings are not whole multiples of their shortest "
+                                           f"spacing ({period_guess:.5f} d), so their epochs are ambiguous: pass the "
+                                           "catalogue as {argument} to number them")
     return epochs
 
 
