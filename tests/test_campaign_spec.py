@@ -10,6 +10,7 @@ import pytest
 from astropy.time import Time
 
 import vigil
+import vigil.noise_model
 from vigil.campaign import spec_checks
 from vigil.campaign.spec import CampaignSpec, read_campaign
 from vigil.errors import ArgumentError, InputError
@@ -150,9 +151,30 @@ def test_run_campaign_refuses_an_unknown_setting_with_a_suggestion():
 
 
 def test_a_file_value_out_of_range_in_the_refresh_table_names_its_key(tmp_path):
-    text = GOOD.read_text(encoding="utf-8").replace('targets = "targets.csv"', f'targets = "{GOOD.parent}/targets.csv"')
-    text = text.replace('sites_file = "sites.toml"', f'sites_file = "{GOOD.parent}/sites.toml"')
-    path = tmp_path / "campaign.toml"
-    path.write_text(text + "\n[refresh]\nevery_years = 500\ntiming_err_min = 1.0\n", encoding="utf-8")
+    path = _campaign_file(tmp_path, extra="\n[refresh]\nevery_years = 500\ntiming_err_min = 1.0\n")
     with pytest.raises(InputError, match=r"\[refresh\] every_years: expected a number from 0.1 to 100 years, got 500"):
         read_campaign(path)
+
+
+def _campaign_file(tmp_path, instrument_line: str = "", extra: str = "") -> Path:
+    """The good campaign, its companions named by absolute path, with a line added to [instrument]."""
+    text = GOOD.read_text(encoding="utf-8").replace('targets = "targets.csv"', f'targets = "{GOOD.parent}/targets.csv"')
+    text = text.replace('sites_file = "sites.toml"', f'sites_file = "{GOOD.parent}/sites.toml"')
+    text = text.replace('kind = "ground"\n', f'kind = "ground"\n{instrument_line}\n')
+    path = tmp_path / "campaign.toml"
+    path.write_text(text + extra, encoding="utf-8")
+    return path
+
+
+@pytest.mark.parametrize("key, toml_value, value", [
+    ("exposure_s", "0", 0), ("comparison_mag_delta", "20", 20), ("extinction", '"yes"', "yes"),
+    ("excluded_um", "[[1.0, 0.5]]", [[1.0, 0.5]]), ("impact_parameter", "1.0", 1.0), ("red_noise_ppm", "-1", -1),
+])
+def test_noise_settings_are_refused_alike_from_a_file_and_from_python(tmp_path, key, toml_value, value):
+    with pytest.raises(ArgumentError) as caught:
+        dataclasses.replace(vigil.noise_model.GROUND, **{key: value})
+    assert str(caught.value).startswith(f"{key}: expected ")
+    path = _campaign_file(tmp_path, f"{key} = {toml_value}")
+    with pytest.raises(InputError) as in_file:
+        read_campaign(path)
+    assert str(in_file.value) == f"{path}: [instrument] {caught.value}"

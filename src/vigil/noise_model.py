@@ -10,9 +10,10 @@ remains, as in vigil before the budget existed.
 from __future__ import annotations
 
 import math
+import numbers
 from dataclasses import dataclass
 
-from vigil.errors import InputError
+from vigil.errors import ArgumentError
 
 #: Telluric bands left out of ground-based spectra by default (um): O2 B and A, and the water
 #: bands between the near-infrared windows (common practice, no source).
@@ -47,18 +48,37 @@ class NoiseModel:
     excluded_um: tuple[tuple[float, float], ...] = TELLURIC_BANDS_UM
 
     def __post_init__(self) -> None:
-        for name in ("exposure_s",):
-            if not (math.isfinite(getattr(self, name)) and getattr(self, name) > 0):
-                raise InputError(f"{name}: expected a number > 0, got {getattr(self, name)!r}")
-        for name in ("readout_s", "scintillation_factor", "sky_area_arcsec2", "read_noise_e", "spatial_pixels",
-                     "spectral_pixels_per_um", "red_noise_ppm"):
-            if not (math.isfinite(getattr(self, name)) and getattr(self, name) >= 0):
-                raise InputError(f"{name}: expected a number >= 0, got {getattr(self, name)!r}")
-        if not 0 <= self.impact_parameter < 1:
-            raise InputError(f"impact_parameter: expected a number from 0 to below 1, got {self.impact_parameter!r}")
-        for low, high in self.excluded_um:
-            if not 0 < low < high:
-                raise InputError(f"excluded_um: expected [low, high] with 0 < low < high, got {[low, high]!r}")
+        for name, (low, high) in RANGES.items():
+            value = getattr(self, name)
+            if name == "comparison_mag_delta" and value is None:
+                continue
+            if not (isinstance(value, numbers.Real) and not isinstance(value, bool) and math.isfinite(value)
+                    and low <= value <= high):
+                extra = " or None (no comparison star; false in a campaign file)" if name == "comparison_mag_delta" else ""
+                raise ArgumentError(name, f"expected a number from {low:g} to {high:g}{extra}, got {value!r}")
+        for name in SWITCHES:
+            if not isinstance(getattr(self, name), bool):
+                raise ArgumentError(name, f"expected true or false, got {getattr(self, name)!r}")
+        object.__setattr__(self, "excluded_um", _bands(self.excluded_um))
+
+
+def _bands(value) -> tuple[tuple[float, float], ...]:
+    """Excluded wavelength bands as (low_um, high_um) pairs with 0 < low < high."""
+    ok = isinstance(value, (list, tuple)) and all(
+        isinstance(pair, (list, tuple)) and len(pair) == 2
+        and all(isinstance(v, numbers.Real) and not isinstance(v, bool) for v in pair) and 0 < pair[0] < pair[1]
+        for pair in value)
+    if not ok:
+        raise ArgumentError("excluded_um", f"expected a list of [low_um, high_um] pairs with 0 < low < high, got {value!r}")
+    return tuple((float(low), float(high)) for low, high in value)
+
+
+#: The numeric settings' (low, high): wide limits of real instruments (common practice, no source).
+RANGES = {"exposure_s": (0.001, 1e5), "readout_s": (0.0, 1e4), "comparison_mag_delta": (-10.0, 10.0),
+          "scintillation_factor": (0.0, 100.0), "sky_area_arcsec2": (0.0, 1e5), "read_noise_e": (0.0, 1e4),
+          "spatial_pixels": (0.0, 1e5), "spectral_pixels_per_um": (0.0, 1e7), "red_noise_ppm": (0.0, 1e5),
+          "impact_parameter": (0.0, 0.999)}
+SWITCHES = ("extinction", "trapezoid")
 
 
 #: Ground default: a spectrograph with a wide slit (10" x 4" extraction), a comparison star as
