@@ -162,3 +162,18 @@ def test_empty_optional_ephemeris_cells_in_a_dataframe_read_as_absent():
     pd.testing.assert_frame_equal(project_transits(with_gaps, 2463000.0, 2463100.0),
                                   project_transits(plain, 2463000.0, 2463100.0))
     assert target_ephemerides(with_gaps)[0].kind == "linear"
+
+
+def test_a_period_that_shrinks_to_zero_inside_the_span_is_refused_in_one_line():
+    # T(k) = T0 + k P + k^2 Q / 2 with Q < 0 has its latest mid-time at k = -P/Q, where
+    # T = T0 - P^2 / (2 Q) (the vertex of the parabola): no epoch maps to a later date. A span
+    # ending before it projects; one ending after it is refused naming the cause, for one target
+    # among others in the vectorised projection.
+    period_d, dp_dn_d = 1.0, -1e-4
+    last_possible = 2460000.0 - period_d**2 / (2 * dp_dn_d)  # 2465000.0
+    rows = pd.DataFrame([{**QUADRATIC, "name": "Ostra-3 b", "t0_bjd_tdb": 2460000.0, "t0_epoch": 0, "period_d": period_d,
+                          "dp_dn_d": dp_dn_d, "dp_dn_err_d": 0.0, "t0_dp_dn_cov_d2": 0.0, "period_dp_dn_cov_d2": 0.0},
+                         {**QUADRATIC, "name": "Ostra-4 b"}])
+    assert len(project_transits(rows, last_possible - 200.0, last_possible - 100.0)) > 0
+    with pytest.raises(InputError, match=r"zero period before BJD_TDB 2465100\.0; check the sign and units of dp_dn_d"):
+        project_transits(rows, last_possible - 200.0, last_possible + 100.0)
